@@ -1,0 +1,1 @@
+//! Series/parallel networks of stocked parts.

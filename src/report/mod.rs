@@ -1,0 +1,1 @@
+//! Pure renderers: tables, JSON, CSV, pictures, netlists.

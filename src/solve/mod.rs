@@ -1,0 +1,1 @@
+//! Searches: the exact fewest-pieces design search, and integer programs for plans.

@@ -1,0 +1,19 @@
+//! Values a technician types or reads off a part, stored exactly.
+//!
+//! Owns the quantity newtypes, their parsing (SI prefixes, IEC 60062 letter codes, capacitor
+//! three-digit codes, resistor colour bands, tolerance codes), their display in engineering form,
+//! and the IEC 60063 preferred-number series. Pure: no I/O, no store, no physics.
+
+mod display;
+pub mod eseries;
+mod parse;
+mod quantity;
+mod tolerance;
+
+pub use display::{Engineering, format_sig};
+pub use parse::{
+    ParseError, parse_capacitance, parse_colour_bands, parse_frequency, parse_power, parse_ratio,
+    parse_resistance, parse_time, parse_tolerance, parse_voltage,
+};
+pub use quantity::{Amps, Farads, Hertz, Ohms, Ratio, Seconds, Volts, Watts};
+pub use tolerance::Tolerance;
