@@ -9,6 +9,7 @@ mod check;
 mod context;
 mod demo;
 mod find;
+mod series;
 mod stock;
 
 use clap::{Parser, Subcommand};
@@ -66,6 +67,8 @@ pub enum Command {
     Check(check::CheckArgs),
     /// Find a design from the parts in stock, with the fewest pieces.
     Find(find::FindArgs),
+    /// Preferred values (IEC 60063 E-series): nearest, next above and below, membership.
+    Series(series::SeriesArgs),
     /// Print shell completions.
     Completions {
         /// bash, zsh, fish, elvish or powershell.
@@ -119,6 +122,7 @@ fn dispatch(cli: Cli, out: &mut dyn Write) -> anyhow::Result<Status> {
         Command::Stock(cmd) => stock::run(cmd, &ctx, out),
         Command::Check(args) => check::run(args, &ctx, out),
         Command::Find(args) => find::run(args, &ctx, out),
+        Command::Series(args) => series::run(args, &ctx, out),
         Command::Completions { shell } => {
             let mut cmd = <Cli as clap::CommandFactory>::command();
             clap_complete::generate(shell, &mut cmd, "onhand", out);

@@ -1,0 +1,11 @@
+//! The one integration-test binary. Each module owns one area; `util` is the shared harness.
+
+mod util;
+
+mod check;
+mod external_eseries;
+mod external_ngspice;
+mod external_ode;
+mod find;
+mod stock;
+mod store_safety;
