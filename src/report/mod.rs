@@ -1,1 +1,5 @@
-//! Pure renderers: tables, JSON, CSV, pictures, netlists.
+//! Pure renderers: tables, JSON, CSV, pictures, netlists. Nothing here reads the store or the
+//! file system; renderers return strings or write to an `impl Write`.
+
+pub mod pictures;
+pub mod svg;
