@@ -272,7 +272,7 @@ impl Frame {
             svg.text(
                 self.left - 8.0,
                 y + 4.0,
-                &format_sig(t, 3, unit),
+                &format_sig(t, sig, unit),
                 11.0,
                 Anchor::End,
                 "#222",

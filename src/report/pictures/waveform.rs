@@ -327,6 +327,6 @@ mod tests {
         .expect("mono");
         let seg = w.cycle[0];
         assert!((seg.at(seg.duration) - w.upper).abs() < 1e-9);
-        assert!(w.to_svg().contains("pulse 1.1 ms"));
+        assert!(w.to_svg().contains("pulse 1.1 s"));
     }
 }
