@@ -2,4 +2,5 @@
 //! file system; renderers return strings or write to an `impl Write`.
 
 pub mod pictures;
+pub mod schematic;
 pub mod svg;
