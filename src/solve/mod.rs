@@ -1,1 +1,2 @@
 //! Searches: the exact fewest-pieces design search, and integer programs for plans.
+pub mod allocate;

@@ -1,0 +1,731 @@
+//! Integer programs for many units against shared stock: how many complete units the stock can
+//! build (and with which designs), and what to buy so that a plan becomes buildable.
+//!
+//! The model is abstract: a *candidate* is one design for one stage, with the pieces it takes
+//! from each *resource* (a stock row, or a catalogue item that can be bought in packs). Integer
+//! variables say how many units use each candidate; resources bound the sum of their uses.
+//! Objectives are lexicographic and solved in phases (each phase fixes the optimum of the one
+//! before), so no weighting can trade a unit for fewer pieces:
+//! - allocation: most complete units, then fewest pieces, then smallest error;
+//! - purchase: every unit buildable at least cost, then fewest pieces.
+//!
+//! Every solve has a time limit, its status is checked, and the answer is re-checked against
+//! every constraint in our own code before it is returned. Pure: no I/O, no store.
+
+use good_lp::{
+    Expression, ProblemVariables, ResolutionError, Solution, SolutionStatus, SolverModel, Variable,
+    WithTimeLimit, constraint, microlp, variable,
+};
+use std::time::Duration;
+
+/// One design for one stage: which resources it uses and how good it is.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Candidate {
+    /// The stage this design serves (0-based).
+    pub stage: usize,
+    /// (resource index, pieces per unit).
+    pub uses: Vec<(usize, u32)>,
+    /// Pieces per unit (the sum of `uses`).
+    pub pieces: u32,
+    /// Relative error of the design against its target (|nominal − target| / target).
+    pub error: f64,
+}
+
+/// Something a candidate draws on.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Resource {
+    /// Pieces available now.
+    pub available: u32,
+    /// If it can be bought: (pieces per pack, price per pack in cents).
+    pub pack: Option<(u32, u64)>,
+}
+
+/// Whether a solve proved its answer optimal.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Proof {
+    /// Every phase proved optimal.
+    Optimal,
+    /// A time limit stopped a phase; the answer is feasible but may not be the best.
+    TimeLimited,
+}
+
+/// Size of an integer program, for reports and benchmarks.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, serde::Serialize)]
+pub struct ModelSize {
+    /// Integer variables.
+    pub variables: usize,
+    /// Constraints.
+    pub constraints: usize,
+}
+
+/// The answer of [`allocate`].
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Allocation {
+    /// Complete units the stock can build.
+    pub units: u32,
+    /// Units per candidate (same order as the input).
+    pub counts: Vec<u32>,
+    /// Total pieces used.
+    pub pieces: u64,
+    /// Whether the answer is proven optimal.
+    pub proof: Proof,
+    /// Size of the largest phase's model.
+    pub size: ModelSize,
+}
+
+/// The answer of [`purchase`].
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct Purchase {
+    /// Units per candidate.
+    pub counts: Vec<u32>,
+    /// Packs to buy per resource (0 for stock rows).
+    pub packs: Vec<u32>,
+    /// Total price in cents.
+    pub cost_cents: u64,
+    /// Whether the answer is proven optimal.
+    pub proof: Proof,
+    /// Size of the model.
+    pub size: ModelSize,
+}
+
+/// Why an integer program gave no answer.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum AllocateError {
+    /// A candidate refers to a resource or stage that does not exist.
+    #[error("candidate {0} refers to a stage or resource that does not exist")]
+    BadCandidate(usize),
+    /// No candidate mix can satisfy the constraints (e.g. a stage without candidates).
+    #[error("no way to build the plan: {0}")]
+    Infeasible(String),
+    /// The solver failed or ran out of time before finding any answer.
+    #[error("the integer-program solver failed: {0}")]
+    Solver(String),
+    /// The solver's answer broke a constraint when re-checked (never expected; reported, not hidden).
+    #[error("the solver's answer failed our own feasibility re-check: {0}")]
+    Recheck(String),
+}
+
+/// Options of a solve.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Limits {
+    /// Time limit per phase.
+    pub per_phase: Duration,
+}
+
+impl Default for Limits {
+    fn default() -> Self {
+        Self {
+            per_phase: Duration::from_secs(10),
+        }
+    }
+}
+
+fn validate(
+    stages: usize,
+    candidates: &[Candidate],
+    resources: &[Resource],
+) -> Result<(), AllocateError> {
+    for (i, c) in candidates.iter().enumerate() {
+        if c.stage >= stages || c.uses.iter().any(|&(r, _)| r >= resources.len()) {
+            return Err(AllocateError::BadCandidate(i));
+        }
+    }
+    Ok(())
+}
+
+/// How many pieces of each resource a set of counts uses.
+pub fn usage(candidates: &[Candidate], counts: &[u32], resources: usize) -> Vec<u64> {
+    let mut used = vec![0u64; resources];
+    for (c, &n) in candidates.iter().zip(counts) {
+        for &(r, per) in &c.uses {
+            if let Some(u) = used.get_mut(r) {
+                *u += u64::from(per) * u64::from(n);
+            }
+        }
+    }
+    used
+}
+
+/// Units per stage for a set of counts.
+fn per_stage(stages: usize, candidates: &[Candidate], counts: &[u32]) -> Vec<u64> {
+    let mut s = vec![0u64; stages];
+    for (c, &n) in candidates.iter().zip(counts) {
+        s[c.stage] += u64::from(n);
+    }
+    s
+}
+
+/// The objective of a phase, given the candidate variables, the pack variables and the unit count.
+type ObjectiveFn<'f> = dyn Fn(&[Variable], &[Variable], Variable) -> Expression + 'f;
+/// Extra constraints of a phase (the optima of the phases before).
+type FixFn<'f> = dyn Fn(&[Variable], &[Variable], Variable) -> Vec<good_lp::Constraint> + 'f;
+
+struct Phase {
+    status: SolutionStatus,
+    values: Vec<f64>,
+    extra: Vec<f64>,
+}
+
+/// Build and solve one phase. `objective` is given the candidate variables and the extra
+/// variables; `fix` adds the constraints of earlier phases.
+#[allow(clippy::too_many_arguments)]
+fn solve_phase(
+    stages: usize,
+    units_cap: u32,
+    candidates: &[Candidate],
+    resources: &[Resource],
+    buy: bool,
+    maximise: bool,
+    objective: &ObjectiveFn<'_>,
+    fix: &FixFn<'_>,
+    limits: Limits,
+    size: &mut ModelSize,
+) -> Result<Phase, AllocateError> {
+    let mut vars = ProblemVariables::new();
+    let x: Vec<Variable> = candidates
+        .iter()
+        .map(|_| vars.add(variable().integer().min(0).max(units_cap)))
+        .collect();
+    let packs: Vec<Variable> = if buy {
+        resources
+            .iter()
+            .map(|r| {
+                let max = r.pack.map_or(0.0, |(size, _)| {
+                    // Never more packs than all units could use.
+                    let need: u64 = candidates
+                        .iter()
+                        .flat_map(|c| c.uses.iter())
+                        .map(|&(_, per)| u64::from(per))
+                        .sum::<u64>()
+                        * u64::from(units_cap);
+                    (need as f64 / f64::from(size.max(1))).ceil()
+                });
+                vars.add(variable().integer().min(0).max(max))
+            })
+            .collect()
+    } else {
+        Vec::new()
+    };
+    let u = vars.add(variable().integer().min(0).max(units_cap));
+    let obj = objective(&x, &packs, u);
+    let mut problem = if maximise {
+        vars.maximise(obj)
+    } else {
+        vars.minimise(obj)
+    }
+    .using(microlp)
+    .with_time_limit(limits.per_phase.as_secs_f64());
+    let mut n_constraints = 0usize;
+    for s in 0..stages {
+        let sum: Expression = candidates
+            .iter()
+            .zip(&x)
+            .filter(|(c, _)| c.stage == s)
+            .map(|(_, v)| Expression::from(*v))
+            .sum();
+        problem = problem.with(constraint!(sum == u));
+        n_constraints += 1;
+    }
+    for (r, res) in resources.iter().enumerate() {
+        let mut used = Expression::from(0.0);
+        let mut any = false;
+        for (c, v) in candidates.iter().zip(&x) {
+            for &(rr, per) in &c.uses {
+                if rr == r {
+                    used += f64::from(per) * *v;
+                    any = true;
+                }
+            }
+        }
+        if !any {
+            continue;
+        }
+        let cap = match (buy, res.pack) {
+            (true, Some((size, _))) => f64::from(res.available) + f64::from(size) * packs[r],
+            _ => Expression::from(f64::from(res.available)),
+        };
+        problem = problem.with(constraint!(used <= cap));
+        n_constraints += 1;
+    }
+    for c in fix(&x, &packs, u) {
+        problem = problem.with(c);
+        n_constraints += 1;
+    }
+    let vars_count = x.len() + packs.len() + 1;
+    if vars_count > size.variables {
+        *size = ModelSize {
+            variables: vars_count,
+            constraints: n_constraints,
+        };
+    }
+    match problem.solve() {
+        Ok(sol) => Ok(Phase {
+            status: sol.status(),
+            values: x.iter().map(|v| sol.value(*v)).collect(),
+            extra: packs
+                .iter()
+                .map(|v| sol.value(*v))
+                .chain(std::iter::once(sol.value(u)))
+                .collect(),
+        }),
+        Err(ResolutionError::Infeasible) => Err(AllocateError::Infeasible(
+            "the constraints cannot all hold (a stage may have no candidate design)".into(),
+        )),
+        Err(e) => Err(AllocateError::Solver(e.to_string())),
+    }
+}
+
+fn to_counts(values: &[f64]) -> Vec<u32> {
+    values.iter().map(|v| v.round().max(0.0) as u32).collect()
+}
+
+fn proof_of(phases: &[SolutionStatus]) -> Proof {
+    if phases.iter().all(|s| matches!(s, SolutionStatus::Optimal)) {
+        Proof::Optimal
+    } else {
+        Proof::TimeLimited
+    }
+}
+
+/// Most complete units (at most `units`), then fewest pieces, then smallest total error.
+pub fn allocate(
+    stages: usize,
+    units: u32,
+    candidates: &[Candidate],
+    resources: &[Resource],
+    limits: Limits,
+) -> Result<Allocation, AllocateError> {
+    validate(stages, candidates, resources)?;
+    let mut size = ModelSize::default();
+    let none = |_: &[Variable], _: &[Variable], _: Variable| Vec::new();
+    // Phase 1: most units.
+    let p1 = solve_phase(
+        stages,
+        units,
+        candidates,
+        resources,
+        false,
+        true,
+        &|_, _, u| u.into(),
+        &none,
+        limits,
+        &mut size,
+    )?;
+    let best_units = p1.extra.last().copied().unwrap_or(0.0).round();
+    // Phase 2: fewest pieces at that many units.
+    let pieces_of = |x: &[Variable]| -> Expression {
+        candidates
+            .iter()
+            .zip(x)
+            .map(|(c, v)| f64::from(c.pieces) * *v)
+            .sum()
+    };
+    let fix_units =
+        |_: &[Variable], _: &[Variable], u: Variable| vec![constraint!(u == best_units)];
+    let p2 = solve_phase(
+        stages,
+        units,
+        candidates,
+        resources,
+        false,
+        false,
+        &|x, _, _| pieces_of(x),
+        &fix_units,
+        limits,
+        &mut size,
+    )?;
+    let best_pieces: f64 = candidates
+        .iter()
+        .zip(&p2.values)
+        .map(|(c, v)| f64::from(c.pieces) * v.round())
+        .sum();
+    // Phase 3: smallest error at those pieces. Errors are scaled to parts per million and
+    // rounded so the coefficients stay in a narrow integer range (see DEPENDENCIES.md).
+    let err_of = |x: &[Variable]| -> Expression {
+        candidates
+            .iter()
+            .zip(x)
+            .map(|(c, v)| (c.error * 1e6).round().min(1e9) * *v)
+            .sum()
+    };
+    let fix_both = |x: &[Variable], _: &[Variable], u: Variable| {
+        vec![
+            constraint!(u == best_units),
+            constraint!(pieces_of(x) <= best_pieces),
+        ]
+    };
+    let p3 = solve_phase(
+        stages,
+        units,
+        candidates,
+        resources,
+        false,
+        false,
+        &|x, _, _| err_of(x),
+        &fix_both,
+        limits,
+        &mut size,
+    )?;
+    let counts = to_counts(&p3.values);
+    let answer = Allocation {
+        units: best_units as u32,
+        pieces: candidates
+            .iter()
+            .zip(&counts)
+            .map(|(c, &n)| u64::from(c.pieces) * u64::from(n))
+            .sum(),
+        counts,
+        proof: proof_of(&[p1.status, p2.status, p3.status]),
+        size,
+    };
+    recheck_allocation(stages, candidates, resources, &answer)?;
+    Ok(answer)
+}
+
+/// Our own check of an allocation against every constraint.
+pub fn recheck_allocation(
+    stages: usize,
+    candidates: &[Candidate],
+    resources: &[Resource],
+    a: &Allocation,
+) -> Result<(), AllocateError> {
+    for (s, n) in per_stage(stages, candidates, &a.counts)
+        .into_iter()
+        .enumerate()
+    {
+        if n != u64::from(a.units) {
+            return Err(AllocateError::Recheck(format!(
+                "stage {} has {n} units, expected {}",
+                s + 1,
+                a.units
+            )));
+        }
+    }
+    for (r, (used, res)) in usage(candidates, &a.counts, resources.len())
+        .into_iter()
+        .zip(resources)
+        .enumerate()
+    {
+        if used > u64::from(res.available) {
+            return Err(AllocateError::Recheck(format!(
+                "resource {r} used {used} times, only {} there",
+                res.available
+            )));
+        }
+    }
+    Ok(())
+}
+
+/// Every one of `units` buildable at the least purchase cost, then with the fewest pieces.
+pub fn purchase(
+    stages: usize,
+    units: u32,
+    candidates: &[Candidate],
+    resources: &[Resource],
+    limits: Limits,
+) -> Result<Purchase, AllocateError> {
+    validate(stages, candidates, resources)?;
+    let mut size = ModelSize::default();
+    let all_units =
+        |_: &[Variable], _: &[Variable], u: Variable| vec![constraint!(u == f64::from(units))];
+    let cost_of = |p: &[Variable]| -> Expression {
+        resources
+            .iter()
+            .zip(p)
+            .map(|(r, v)| r.pack.map_or(0.0, |(_, price)| price as f64) * *v)
+            .sum()
+    };
+    let p1 = solve_phase(
+        stages,
+        units,
+        candidates,
+        resources,
+        true,
+        false,
+        &|_, p, _| cost_of(p),
+        &all_units,
+        limits,
+        &mut size,
+    )?;
+    let packs1 = to_counts(&p1.extra[..resources.len()]);
+    let best_cost: f64 = resources
+        .iter()
+        .zip(&packs1)
+        .map(|(r, &n)| r.pack.map_or(0.0, |(_, p)| p as f64) * f64::from(n))
+        .sum();
+    let pieces_of = |x: &[Variable]| -> Expression {
+        candidates
+            .iter()
+            .zip(x)
+            .map(|(c, v)| f64::from(c.pieces) * *v)
+            .sum()
+    };
+    let fix = |x: &[Variable], p: &[Variable], u: Variable| {
+        let _ = x;
+        vec![
+            constraint!(u == f64::from(units)),
+            constraint!(cost_of(p) <= best_cost),
+        ]
+    };
+    let p2 = solve_phase(
+        stages,
+        units,
+        candidates,
+        resources,
+        true,
+        false,
+        &|x, _, _| pieces_of(x),
+        &fix,
+        limits,
+        &mut size,
+    )?;
+    let counts = to_counts(&p2.values);
+    let packs = to_counts(&p2.extra[..resources.len()]);
+    let answer = Purchase {
+        cost_cents: resources
+            .iter()
+            .zip(&packs)
+            .map(|(r, &n)| r.pack.map_or(0, |(_, p)| p) * u64::from(n))
+            .sum(),
+        counts,
+        packs,
+        proof: proof_of(&[p1.status, p2.status]),
+        size,
+    };
+    recheck_purchase(stages, units, candidates, resources, &answer)?;
+    Ok(answer)
+}
+
+/// Our own check of a purchase against every constraint.
+pub fn recheck_purchase(
+    stages: usize,
+    units: u32,
+    candidates: &[Candidate],
+    resources: &[Resource],
+    p: &Purchase,
+) -> Result<(), AllocateError> {
+    for (s, n) in per_stage(stages, candidates, &p.counts)
+        .into_iter()
+        .enumerate()
+    {
+        if n != u64::from(units) {
+            return Err(AllocateError::Recheck(format!(
+                "stage {} has {n} units, expected {units}",
+                s + 1
+            )));
+        }
+    }
+    for (r, (used, res)) in usage(candidates, &p.counts, resources.len())
+        .into_iter()
+        .zip(resources)
+        .enumerate()
+    {
+        let bought = res
+            .pack
+            .map_or(0, |(size, _)| u64::from(size) * u64::from(p.packs[r]));
+        if used > u64::from(res.available) + bought {
+            return Err(AllocateError::Recheck(format!(
+                "resource {r} used {used} times, only {} there",
+                u64::from(res.available) + bought
+            )));
+        }
+    }
+    Ok(())
+}
+
+/// The obvious one-unit-at-a-time allocation: each unit takes, stage by stage, the best
+/// candidate (fewest pieces, then smallest error) that still fits. Kept as a baseline to show
+/// why the integer program is needed.
+pub fn greedy(
+    stages: usize,
+    units: u32,
+    candidates: &[Candidate],
+    resources: &[Resource],
+) -> Allocation {
+    let mut left: Vec<u64> = resources.iter().map(|r| u64::from(r.available)).collect();
+    let mut counts = vec![0u32; candidates.len()];
+    let mut order: Vec<usize> = (0..candidates.len()).collect();
+    order.sort_by(|&a, &b| {
+        let (ca, cb) = (&candidates[a], &candidates[b]);
+        ca.pieces
+            .cmp(&cb.pieces)
+            .then(ca.error.total_cmp(&cb.error))
+    });
+    let mut built = 0;
+    'units: for _ in 0..units {
+        let mut trial = left.clone();
+        let mut picks = Vec::new();
+        for s in 0..stages {
+            let pick = order.iter().copied().find(|&i| {
+                candidates[i].stage == s
+                    && candidates[i]
+                        .uses
+                        .iter()
+                        .all(|&(r, per)| trial[r] >= u64::from(per))
+            });
+            let Some(i) = pick else { break 'units };
+            for &(r, per) in &candidates[i].uses {
+                trial[r] -= u64::from(per);
+            }
+            picks.push(i);
+        }
+        left = trial;
+        for i in picks {
+            counts[i] += 1;
+        }
+        built += 1;
+    }
+    Allocation {
+        units: built,
+        pieces: candidates
+            .iter()
+            .zip(&counts)
+            .map(|(c, &n)| u64::from(c.pieces) * u64::from(n))
+            .sum(),
+        counts,
+        proof: Proof::TimeLimited,
+        size: ModelSize::default(),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use proptest::prelude::*;
+
+    fn cand(stage: usize, uses: &[(usize, u32)], error: f64) -> Candidate {
+        Candidate {
+            stage,
+            uses: uses.to_vec(),
+            pieces: uses.iter().map(|u| u.1).sum(),
+            error,
+        }
+    }
+
+    fn stock(counts: &[u32]) -> Vec<Resource> {
+        counts
+            .iter()
+            .map(|&available| Resource {
+                available,
+                pack: None,
+            })
+            .collect()
+    }
+
+    /// The best (units, pieces) by trying every count vector (for tiny instances only).
+    fn exhaustive(stages: usize, units: u32, cands: &[Candidate], res: &[Resource]) -> (u32, u64) {
+        let mut best = (0u32, 0u64);
+        let n = cands.len();
+        let mut counts = vec![0u32; n];
+        loop {
+            let ps = per_stage(stages, cands, &counts);
+            let u = ps[0];
+            if ps.iter().all(|&s| s == u)
+                && u <= u64::from(units)
+                && usage(cands, &counts, res.len())
+                    .iter()
+                    .zip(res)
+                    .all(|(&used, r)| used <= u64::from(r.available))
+            {
+                let pieces = cands
+                    .iter()
+                    .zip(&counts)
+                    .map(|(c, &k)| u64::from(c.pieces) * u64::from(k))
+                    .sum();
+                let u = u as u32;
+                if u > best.0 || (u == best.0 && pieces < best.1) {
+                    best = (u, pieces);
+                }
+            }
+            // Next count vector in 0..=units per position.
+            let mut i = 0;
+            loop {
+                if i == n {
+                    return best;
+                }
+                counts[i] += 1;
+                if counts[i] <= units {
+                    break;
+                }
+                counts[i] = 0;
+                i += 1;
+            }
+        }
+    }
+
+    #[test]
+    fn greedy_builds_fewer_units_than_the_integer_program() {
+        // Two stages share resource 0 (scarce). Stage 0's best design uses it; its second design
+        // does not. Stage 1 can only use resource 0. Greedy takes the scarce part for stage 0 and
+        // starves stage 1; the integer program routes stage 0 to its second design.
+        let cands = vec![
+            cand(0, &[(0, 1)], 0.0),           // stage 0, 1 piece, uses the scarce row
+            cand(0, &[(1, 1), (2, 1)], 0.001), // stage 0, 2 pieces from plentiful rows
+            cand(1, &[(0, 1)], 0.0),           // stage 1 needs the scarce row
+        ];
+        let res = stock(&[4, 10, 10]);
+        let g = greedy(2, 4, &cands, &res);
+        let ip = allocate(2, 4, &cands, &res, Limits::default()).expect("solve");
+        assert_eq!(g.units, 2);
+        assert_eq!(ip.units, 4);
+        assert_eq!(ip.proof, Proof::Optimal);
+        assert_eq!(ip.counts, vec![0, 4, 4]);
+    }
+
+    #[test]
+    fn purchase_prefers_a_value_that_serves_two_stages() {
+        // Stage 0 and stage 1 can each use catalogue item 0 (serves both) or their own items
+        // 1 and 2. Packs of 10 cost the same; buying one pack of item 0 covers both stages.
+        let cands = vec![
+            cand(0, &[(0, 1)], 0.0),
+            cand(0, &[(1, 1)], 0.0),
+            cand(1, &[(0, 1)], 0.0),
+            cand(1, &[(2, 1)], 0.0),
+        ];
+        let res = vec![
+            Resource {
+                available: 0,
+                pack: Some((10, 100)),
+            },
+            Resource {
+                available: 0,
+                pack: Some((10, 100)),
+            },
+            Resource {
+                available: 0,
+                pack: Some((10, 100)),
+            },
+        ];
+        let p = purchase(2, 5, &cands, &res, Limits::default()).expect("purchase");
+        assert_eq!(p.cost_cents, 100);
+        assert_eq!(p.packs, vec![1, 0, 0]);
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig { cases: 60, ..ProptestConfig::default() })]
+        #[test]
+        fn allocation_matches_exhaustive_enumeration(
+            stock_counts in proptest::collection::vec(0u32..5, 3),
+            raw in proptest::collection::vec((0usize..2, 0usize..3, 1u32..3, 0usize..3), 2..5),
+            units in 1u32..4,
+        ) {
+            let cands: Vec<Candidate> = raw.iter().map(|&(stage, r1, per, r2)| {
+                let mut uses = vec![(r1, per)];
+                if r2 != r1 { uses.push((r2, 1)); }
+                cand(stage, &uses, 0.0)
+            }).collect();
+            let res = stock(&stock_counts);
+            let (best_units, best_pieces) = exhaustive(2, units, &cands, &res);
+            match allocate(2, units, &cands, &res, Limits::default()) {
+                Ok(a) => {
+                    prop_assert_eq!(a.units, best_units);
+                    prop_assert_eq!(a.pieces, best_pieces);
+                }
+                // A stage with no candidate at all: exhaustive finds zero units too.
+                Err(AllocateError::Infeasible(_)) => prop_assert_eq!(best_units, 0),
+                Err(e) => prop_assert!(false, "solver error {e}"),
+            }
+        }
+    }
+}
