@@ -129,18 +129,18 @@ impl Series {
         self.table().iter().map(|m| m / div).collect()
     }
 
-    /// The tolerance usually sold with the series, in percent (common practice): E3 ±40 %
-    /// (wider than any part of ours, so listed as such), E6 ±20 %, E12 ±10 %, E24 ±5 %,
-    /// E48 ±2 %, E96 ±1 %, E192 ±0.5 % and tighter.
-    pub fn usual_tolerance_percent(self) -> f64 {
+    /// The tolerance the series is usually sold at, in percent (common practice): E6 ±20 %,
+    /// E12 ±10 %, E24 ±5 %, E48 ±2 %, E96 ±1 %, E192 ±0.5 % and tighter. `None` for E3, which
+    /// is meant for tolerances wider than ±20 %.
+    pub fn usual_tolerance_percent(self) -> Option<f64> {
         match self {
-            Series::E3 => 40.0,
-            Series::E6 => 20.0,
-            Series::E12 => 10.0,
-            Series::E24 => 5.0,
-            Series::E48 => 2.0,
-            Series::E96 => 1.0,
-            Series::E192 => 0.5,
+            Series::E3 => None,
+            Series::E6 => Some(20.0),
+            Series::E12 => Some(10.0),
+            Series::E24 => Some(5.0),
+            Series::E48 => Some(2.0),
+            Series::E96 => Some(1.0),
+            Series::E192 => Some(0.5),
         }
     }
 
