@@ -103,10 +103,9 @@ fn words(text: &str) -> Vec<&str> {
         .collect()
 }
 
-/// Whether the text is meant as colour bands: three or more words, the first a colour name.
+/// Whether the text is meant as colour bands: its first word is a colour name.
 pub(crate) fn looks_like_bands(text: &str) -> bool {
-    let w = words(text);
-    w.len() >= 3 && colour(w[0]).is_some()
+    words(text).first().is_some_and(|w| colour(w).is_some())
 }
 
 /// Parse resistor colour bands such as `yellow-violet-red-gold` into the value and its tolerance.
@@ -125,10 +124,9 @@ pub fn parse_colour_bands(text: &str) -> Result<(Ohms, Option<Tolerance>), Parse
         [a, b, m, t] => (vec![*a, *b], *m, *t),
         [a, b, c, m, t] | [a, b, c, m, t, _] => (vec![*a, *b, *c], *m, *t),
         _ => {
-            return Err(fail(format!(
-                "{} bands; a resistor has 3, 4, 5 or 6",
-                bands.len()
-            )));
+            let n = bands.len();
+            let plural = if n == 1 { "band" } else { "bands" };
+            return Err(fail(format!("{n} {plural}; a resistor has 3, 4, 5 or 6")));
         }
     };
     let mut significant: i64 = 0;
