@@ -4,16 +4,23 @@
 //! three-digit codes, resistor colour bands, tolerance codes), their display in engineering form,
 //! and the IEC 60063 preferred-number series. Pure: no I/O, no store, no physics.
 
+mod colour;
+mod decimal;
 mod display;
 pub mod eseries;
 mod parse;
 mod quantity;
 mod tolerance;
 
+#[cfg(test)]
+mod tests;
+
 pub use display::{Engineering, format_sig};
+pub use eseries::Series;
 pub use parse::{
-    ParseError, parse_capacitance, parse_colour_bands, parse_frequency, parse_power, parse_ratio,
-    parse_resistance, parse_time, parse_tolerance, parse_voltage,
+    ParseError, parse_capacitance, parse_capacitor_marking, parse_colour_bands, parse_current,
+    parse_frequency, parse_power, parse_ratio, parse_resistance, parse_time, parse_tolerance,
+    parse_voltage,
 };
-pub use quantity::{Amps, Farads, Hertz, Ohms, Ratio, Seconds, Volts, Watts};
+pub use quantity::{Amps, BaseUnits, Farads, Hertz, Ohms, Ratio, Seconds, Volts, Watts};
 pub use tolerance::Tolerance;

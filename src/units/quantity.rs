@@ -16,6 +16,19 @@
 //! by [`from_si`](Ohms::from_si); the relative rounding error is far below any part tolerance.
 //! This module owns no parsing and no I/O; see `parse.rs` and `display.rs`.
 
+/// What every quantity newtype shares: an exact integer count of a base unit that is a power of
+/// ten of the SI unit. Lets preferred-number look-ups and display work on any quantity.
+pub trait BaseUnits: Copy + Ord {
+    /// The base unit is `10^-BASE_DIGITS` of the SI unit (3 for milliohms).
+    const BASE_DIGITS: u32;
+    /// The SI unit symbol ("Ω", "F"; empty for a ratio).
+    const SYMBOL: &'static str;
+    /// From a count of base units.
+    fn from_base(base: i64) -> Self;
+    /// The count of base units.
+    fn base(self) -> i64;
+}
+
 macro_rules! quantity {
     ($(#[$doc:meta])* $name:ident, $per_si:expr, $symbol:expr) => {
         $(#[$doc])*
@@ -29,6 +42,10 @@ macro_rules! quantity {
             pub const SYMBOL: &'static str = $symbol;
             /// Zero.
             pub const ZERO: Self = Self(0);
+            /// How many decimal places the base unit adds: `PER_SI` is `10^BASE_DIGITS`.
+            pub const BASE_DIGITS: u32 = Self::PER_SI.ilog10();
+            /// The largest value that fits.
+            pub const MAX: Self = Self(i64::MAX);
 
             /// From a count of base units.
             pub const fn from_base(base: i64) -> Self {
@@ -65,6 +82,17 @@ macro_rules! quantity {
             /// Whether the value is above zero.
             pub const fn is_positive(self) -> bool {
                 self.0 > 0
+            }
+        }
+
+        impl BaseUnits for $name {
+            const BASE_DIGITS: u32 = Self::BASE_DIGITS;
+            const SYMBOL: &'static str = Self::SYMBOL;
+            fn from_base(base: i64) -> Self {
+                Self(base)
+            }
+            fn base(self) -> i64 {
+                self.0
             }
         }
 
@@ -134,6 +162,15 @@ mod tests {
             Some(Farads::from_base(100_000_000))
         );
         assert_eq!(Ratio::from_percent(1.0), Some(Ratio::from_base(10_000_000)));
+    }
+
+    #[test]
+    fn base_digits_match_per_si() {
+        assert_eq!(Ohms::BASE_DIGITS, 3);
+        assert_eq!(Farads::BASE_DIGITS, 15);
+        assert_eq!(Seconds::BASE_DIGITS, 12);
+        assert_eq!(Ratio::BASE_DIGITS, 9);
+        assert_eq!(10i64.pow(Hertz::BASE_DIGITS), Hertz::PER_SI);
     }
 
     #[test]
