@@ -22,7 +22,7 @@ pub enum StockCommand {
     Init,
     /// Put parts into stock: tops up the matching row or creates it.
     #[command(after_help = add::EXAMPLES)]
-    Add(add::AddArgs),
+    Add(Box<add::AddArgs>),
     /// Take parts out of stock (refused if the shelf holds fewer).
     #[command(after_help = take::TAKE_EXAMPLES)]
     Take(take::TakeArgs),
@@ -47,7 +47,7 @@ pub enum StockCommand {
 pub fn run(cmd: StockCommand, ctx: &Context, out: &mut dyn Write) -> anyhow::Result<Status> {
     match cmd {
         StockCommand::Init => init(ctx, out),
-        StockCommand::Add(a) => add::run(a, ctx, out),
+        StockCommand::Add(a) => add::run(*a, ctx, out),
         StockCommand::Take(a) => take::run_take(a, ctx, out),
         StockCommand::Recount(a) => take::run_recount(a, ctx, out),
         StockCommand::List(a) => list::run_list(a, ctx, out),
