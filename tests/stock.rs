@@ -338,6 +338,26 @@ fn export_then_import_into_an_empty_store_is_identical() {
 }
 
 #[test]
+fn export_to_a_file() {
+    let b = Bench::new();
+    b.run(&["add", "1k", "--qty", "2"]).ok();
+    let out = b.path("backup.json");
+    b.run(&[
+        "export",
+        "--format",
+        "json",
+        "--out",
+        out.to_str().expect("utf-8"),
+    ])
+    .ok()
+    .stdout_has("exported 1 rows to");
+    let text = std::fs::read_to_string(&out).expect("written");
+    let v: Json = serde_json::from_str(&text).expect("json");
+    assert_eq!(v[0]["value"], "1 kΩ");
+    assert_eq!(v[0]["quantity"], 2);
+}
+
+#[test]
 fn csv_export_neutralises_formula_cells() {
     // common practice (OWASP "CSV injection"): a cell starting with = + - @ is run as a formula
     // by spreadsheets; prefixing ' makes it text.

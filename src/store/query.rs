@@ -189,3 +189,62 @@ impl Store {
         part_by_id(&self.conn, id)
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::store::spec::PartText;
+
+    fn add(s: &mut Store, value: &str, qty: i64, note: &str) {
+        let spec = PartText {
+            value: value.into(),
+            note: Some(note.into()),
+            ..Default::default()
+        }
+        .resolve()
+        .expect("spec");
+        s.add(&spec, qty, "t", "seed").expect("add");
+    }
+
+    #[test]
+    fn snapshot_and_filters() {
+        let dir = tempfile::tempdir().expect("tmp");
+        let mut s = Store::open(&dir.path().join("s.db")).expect("open");
+        add(&mut s, "1k", 5, "50% off");
+        add(&mut s, "10k", 0, "empty");
+        add(&mut s, "100n", 3, "");
+        let avail = s.available_parts().expect("snapshot");
+        assert_eq!(avail.len(), 2);
+        assert!(avail.iter().all(|p| p.available() > 0 && p.held == 0));
+        let r = |f: PartFilter| s.parts(&f).expect("parts").len();
+        assert_eq!(
+            r(PartFilter {
+                min: Some(Value::from_base(Kind::Resistor, 2_000_000)),
+                ..Default::default()
+            }),
+            1
+        );
+        // The % in the note filter is literal, not a wildcard.
+        assert_eq!(
+            r(PartFilter {
+                text: Some("50%".into()),
+                ..Default::default()
+            }),
+            1
+        );
+        assert_eq!(
+            r(PartFilter {
+                text: Some("%".into()),
+                ..Default::default()
+            }),
+            1
+        );
+        assert_eq!(
+            r(PartFilter {
+                kind: Some(Kind::Capacitor),
+                ..Default::default()
+            }),
+            1
+        );
+    }
+}
