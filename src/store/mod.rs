@@ -78,8 +78,6 @@ impl Store {
         }
         conn.pragma_update(None, "foreign_keys", "ON")
             .map_err(open_err)?;
-        conn.pragma_update(None, "synchronous", "NORMAL")
-            .map_err(open_err)?;
         migrate::apply(&mut conn)?;
         Ok(Store {
             conn,
