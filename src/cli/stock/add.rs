@@ -1,0 +1,117 @@
+//! `onhand add`: put parts into stock.
+
+use super::{Context, Status, describe, open_store};
+use crate::store::{PartText, spec::FieldError};
+use anyhow::bail;
+use std::io::Write;
+
+pub const EXAMPLES: &str = "\
+Examples:
+  onhand add 4.7k --qty 50 --bin A3            fifty 4.7 kΩ, 1 % metal film (the default)
+  onhand add 100n --qty 20 --tech film --bin C2
+  onhand add 10u --qty 5 --volts 25 --low 2    an electrolytic, warn at 2 left
+  onhand add 1N4148 --kind diode --qty 30
+
+The kind follows the value: a farad unit or a p/n/u/µ multiplier means a capacitor, anything
+else a resistor; --kind overrides. Unstated details take the usual defaults (common practice):
+resistors 1 % metal film, axial, 0.25 W; capacitors C0G below 1 nF, X7R up to 1 µF,
+electrolytic above, with that technology's usual tolerance.";
+
+/// Arguments of `add`.
+#[derive(Debug, clap::Args)]
+pub struct AddArgs {
+    /// The value: 4.7k, 100n, 2.2uF … (for a diode: its type, e.g. 1N4148).
+    pub value: String,
+    /// How many pieces.
+    #[arg(long, allow_negative_numbers = true, value_name = "N")]
+    pub qty: i64,
+    /// resistor, capacitor, trimmer or diode (default: from the value).
+    #[arg(long)]
+    pub kind: Option<String>,
+    /// Tolerance, e.g. 1%, 5%, -20/+80%.
+    #[arg(long = "tol")]
+    pub tolerance: Option<String>,
+    /// Technology: metal_film, carbon_film, thick_film, wirewound, c0g, x7r, y5v, film,
+    /// electrolytic, tantalum, other.
+    #[arg(long = "tech")]
+    pub technology: Option<String>,
+    /// Voltage rating, e.g. 25 or 25V.
+    #[arg(long)]
+    pub volts: Option<String>,
+    /// Power rating, e.g. 0.25 or 250mW.
+    #[arg(long)]
+    pub watts: Option<String>,
+    /// Package, e.g. axial, 0805, radial.
+    #[arg(long)]
+    pub package: Option<String>,
+    /// Storage bin, e.g. A3 or drawer-2.
+    #[arg(long)]
+    pub bin: Option<String>,
+    /// Warn when the count falls to this level or below.
+    #[arg(long, value_name = "N")]
+    pub low: Option<String>,
+    /// A free note.
+    #[arg(long)]
+    pub note: Option<String>,
+    /// Reason for the ledger (default: "add").
+    #[arg(long)]
+    pub why: Option<String>,
+}
+
+/// Render field problems as one message, naming the options.
+pub fn field_errors(errs: &[FieldError]) -> String {
+    errs.iter()
+        .map(|e| format!("{}: {}", e.field.option(), e.message))
+        .collect::<Vec<_>>()
+        .join("\n  ")
+}
+
+/// Run `add`.
+pub fn run(a: AddArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Result<Status> {
+    let text = PartText {
+        kind: a.kind,
+        value: a.value,
+        tolerance: a.tolerance,
+        technology: a.technology,
+        volts: a.volts,
+        watts: a.watts,
+        package: a.package,
+        bin: a.bin,
+        low: a.low,
+        note: a.note,
+    };
+    let spec = match text.resolve() {
+        Ok(s) => s,
+        Err(errs) => bail!("{}", field_errors(&errs)),
+    };
+    if a.qty < 0 {
+        bail!(
+            "--qty must be 0 or more (got {}); use `onhand take` to remove parts",
+            a.qty
+        );
+    }
+    let mut store = open_store(ctx)?;
+    let why = a.why.unwrap_or_else(|| "add".to_string());
+    let change = store.add(&spec, a.qty, &ctx.user, &why)?;
+    if ctx.json {
+        writeln!(out, "{}", serde_json::to_string(&change)?)?;
+        return Ok(Status::Success);
+    }
+    let p = &change.part;
+    if change.created {
+        writeln!(out, "new row {}: {} on hand", describe(p), p.quantity)?;
+    } else {
+        writeln!(
+            out,
+            "added {} to {}: {} → {}",
+            change.delta,
+            describe(p),
+            change.before,
+            p.quantity
+        )?;
+    }
+    for u in &change.updated {
+        writeln!(out, "  also set {u}")?;
+    }
+    Ok(Status::Success)
+}

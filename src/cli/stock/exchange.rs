@@ -1,0 +1,156 @@
+//! `onhand import` and `onhand export`: stock to and from CSV or JSON files.
+
+use super::{Context, Status, describe, open_store};
+use crate::store::{ExportFormat, export, read_csv, read_json};
+use anyhow::{Context as _, bail};
+use std::io::Write;
+use std::path::PathBuf;
+
+pub const IMPORT_EXAMPLES: &str = "\
+Examples:
+  onhand import delivery.csv --dry-run       what would change; writes nothing
+  onhand import delivery.csv
+  onhand import backup.json
+
+Columns (any order, any case; value and quantity are required):
+  kind,value,tolerance,technology,volts,watts,package,bin,quantity,low,note
+Rows matching an existing row (same kind, value, tolerance, technology, package, bin) add
+to its count; others become new rows. Any bad cell refuses the whole file, citing row and
+column (row 1 is the first line after the header).";
+
+pub const EXPORT_EXAMPLES: &str = "\
+Examples:
+  onhand export > stock.csv
+  onhand export --format json --out backup.json";
+
+/// File format of an import or export.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
+pub enum Format {
+    /// Comma-separated values with a header row.
+    Csv,
+    /// A JSON array of objects keyed by column name.
+    Json,
+}
+
+/// Arguments of `import`.
+#[derive(Debug, clap::Args)]
+pub struct ImportArgs {
+    /// The file to read.
+    pub file: PathBuf,
+    /// Report what would change and write nothing.
+    #[arg(long)]
+    pub dry_run: bool,
+    /// File format (default: json for a .json file, else csv).
+    #[arg(long, value_enum)]
+    pub format: Option<Format>,
+}
+
+/// Arguments of `export`.
+#[derive(Debug, clap::Args)]
+pub struct ExportArgs {
+    /// File format.
+    #[arg(long, value_enum, default_value_t = Format::Csv)]
+    pub format: Format,
+    /// Write to this file instead of standard output.
+    #[arg(long, value_name = "FILE")]
+    pub out: Option<PathBuf>,
+}
+
+/// At most this many per-row lines are printed; the rest are summarised.
+const SHOWN_LINES: usize = 40;
+
+/// Run `import`.
+pub fn run_import(a: ImportArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Result<Status> {
+    let data = std::fs::read_to_string(&a.file)
+        .with_context(|| format!("reading {}", a.file.display()))?;
+    let format = a.format.unwrap_or_else(|| {
+        let is_json = a
+            .file
+            .extension()
+            .is_some_and(|e| e.eq_ignore_ascii_case("json"));
+        if is_json { Format::Json } else { Format::Csv }
+    });
+    let name = a.file.file_name().map_or_else(
+        || a.file.display().to_string(),
+        |n| n.to_string_lossy().into_owned(),
+    );
+    let records = match format {
+        Format::Csv => read_csv(&data),
+        Format::Json => read_json(&data),
+    }
+    .with_context(|| format!("importing {}", a.file.display()))?;
+    if records.is_empty() {
+        bail!("{} has no data rows", a.file.display());
+    }
+    let mut store = open_store(ctx)?;
+    let report = store
+        .import(&records, &name, &ctx.user, a.dry_run)
+        .with_context(|| format!("importing {}", a.file.display()))?;
+    if ctx.json {
+        writeln!(out, "{}", serde_json::to_string(&report)?)?;
+        return Ok(Status::Success);
+    }
+    let (new, add) = if a.dry_run {
+        ("would create", "would add")
+    } else {
+        ("new", "added")
+    };
+    for line in report.lines.iter().take(SHOWN_LINES) {
+        let c = &line.change;
+        if c.created {
+            writeln!(
+                out,
+                "row {}: {new} {} × {}",
+                line.row,
+                c.delta,
+                describe(&c.part)
+            )?;
+        } else {
+            writeln!(
+                out,
+                "row {}: {add} {} to {}: {} → {}",
+                line.row,
+                c.delta,
+                describe(&c.part),
+                c.before,
+                c.part.quantity
+            )?;
+        }
+    }
+    if report.lines.len() > SHOWN_LINES {
+        writeln!(out, "… and {} more rows", report.lines.len() - SHOWN_LINES)?;
+    }
+    writeln!(
+        out,
+        "{}{} rows from {}: {} new, {} topped up, {} pieces",
+        if a.dry_run {
+            "dry run, nothing written — "
+        } else {
+            "imported "
+        },
+        report.lines.len(),
+        name,
+        report.created,
+        report.topped_up,
+        report.pieces
+    )?;
+    Ok(Status::Success)
+}
+
+/// Run `export`.
+pub fn run_export(a: ExportArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Result<Status> {
+    let store = open_store(ctx)?;
+    let format = match a.format {
+        Format::Csv => ExportFormat::Csv,
+        Format::Json => ExportFormat::Json,
+    };
+    let (text, n) = export(&store, format)?;
+    match &a.out {
+        Some(path) => {
+            std::fs::write(path, &text).with_context(|| format!("writing {}", path.display()))?;
+            writeln!(out, "exported {n} rows to {}", path.display())?;
+        }
+        None => out.write_all(text.as_bytes())?,
+    }
+    Ok(Status::Success)
+}

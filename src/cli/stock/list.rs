@@ -1,0 +1,216 @@
+//! `onhand list` and `onhand show`: stock as a table (or JSON), one row with its ledger.
+
+use super::{
+    Context, Narrow, Status, describe, low_warning, open_store, parse_kind, parse_tech,
+    resolve_part,
+};
+use crate::store::{Kind, Part, PartFilter, PartText, Value, text};
+use anyhow::{Context as _, bail};
+use comfy_table::{CellAlignment, Table, presets};
+use std::io::Write;
+
+pub const LIST_EXAMPLES: &str = "\
+Examples:
+  onhand list
+  onhand list --kind capacitor --min 1n --max 1u
+  onhand list --low                          rows at or below their low-stock level
+  onhand list --bin A3 --json";
+
+pub const SHOW_EXAMPLES: &str = "\
+Examples:
+  onhand show '#12'
+  onhand show 4.7k --bin A3";
+
+/// Arguments of `list`.
+#[derive(Debug, clap::Args)]
+pub struct ListArgs {
+    /// Only this kind (resistor, capacitor, trimmer, diode).
+    #[arg(long)]
+    pub kind: Option<String>,
+    /// Only values at or above this (4.7k, 1n).
+    #[arg(long)]
+    pub min: Option<String>,
+    /// Only values at or below this.
+    #[arg(long)]
+    pub max: Option<String>,
+    /// Only this technology.
+    #[arg(long = "tech")]
+    pub technology: Option<String>,
+    /// Only this bin.
+    #[arg(long)]
+    pub bin: Option<String>,
+    /// Only rows at or below their low-stock level.
+    #[arg(long)]
+    pub low: bool,
+    /// Only rows whose note contains this text.
+    #[arg(long)]
+    pub text: Option<String>,
+}
+
+/// Arguments of `show`.
+#[derive(Debug, clap::Args)]
+pub struct ShowArgs {
+    /// Row id (#12) or value (4.7k).
+    pub part: String,
+    #[command(flatten)]
+    pub narrow: Narrow,
+}
+
+fn bound(text: &str, kind: Option<Kind>, option: &str) -> anyhow::Result<Value> {
+    let spec = PartText {
+        kind: kind.map(|k| k.as_str().to_string()),
+        value: text.to_string(),
+        ..Default::default()
+    }
+    .resolve();
+    match spec {
+        Ok(s) if s.value != Value::None => Ok(s.value),
+        Ok(_) => bail!("{option}: a {} has no value to compare", Kind::Diode),
+        Err(errs) => bail!(
+            "{option}: {}",
+            errs.iter()
+                .map(|e| e.message.clone())
+                .collect::<Vec<_>>()
+                .join("; ")
+        ),
+    }
+}
+
+fn rating(p: &Part) -> String {
+    match (p.voltage_rating, p.power_rating) {
+        (Some(v), Some(w)) => format!("{} {}", text::volts_text(v), text::watts_text(w)),
+        (Some(v), None) => text::volts_text(v),
+        (None, Some(w)) => text::watts_text(w),
+        (None, None) => String::new(),
+    }
+}
+
+/// The stock table.
+pub fn table(parts: &[Part]) -> Table {
+    let mut t = Table::new();
+    t.load_style(presets::UTF8_FULL_CONDENSED);
+    t.set_header(vec![
+        "#", "kind", "value", "tol", "tech", "rating", "package", "bin", "qty", "low", "note",
+    ]);
+    for p in parts {
+        let low = match p.low_stock {
+            Some(l) if p.quantity <= l => format!("{l} LOW"),
+            Some(l) => l.to_string(),
+            None => String::new(),
+        };
+        let value = match p.kind {
+            Kind::Diode => String::new(),
+            _ => p.value.to_string(),
+        };
+        t.add_row(vec![
+            format!("#{}", p.id),
+            p.kind.to_string(),
+            value,
+            text::tolerance_text(p.tolerance),
+            p.technology.label().to_string(),
+            rating(p),
+            p.package.clone(),
+            p.bin.clone(),
+            p.quantity.to_string(),
+            low,
+            p.note.clone(),
+        ]);
+    }
+    for col in [2, 8, 9] {
+        if let Some(c) = t.column_mut(col) {
+            c.set_cell_alignment(CellAlignment::Right);
+        }
+    }
+    t
+}
+
+/// Run `list`.
+pub fn run_list(a: ListArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Result<Status> {
+    let kind = parse_kind(a.kind.as_deref())?;
+    let filter = PartFilter {
+        kind,
+        min: a
+            .min
+            .as_deref()
+            .map(|m| bound(m, kind, "--min"))
+            .transpose()?,
+        max: a
+            .max
+            .as_deref()
+            .map(|m| bound(m, kind, "--max"))
+            .transpose()?,
+        technology: parse_tech(a.technology.as_deref())?,
+        bin: a.bin,
+        low: a.low,
+        text: a.text,
+        ..PartFilter::default()
+    };
+    let store = open_store(ctx)?;
+    let parts = store.parts(&filter).context("reading stock")?;
+    if ctx.json {
+        writeln!(out, "{}", serde_json::to_string_pretty(&parts)?)?;
+        return Ok(Status::Success);
+    }
+    if parts.is_empty() {
+        writeln!(out, "no parts match")?;
+        return Ok(Status::Success);
+    }
+    writeln!(out, "{}", table(&parts))?;
+    let pieces: i64 = parts.iter().map(|p| p.quantity).sum();
+    writeln!(out, "{} rows, {pieces} pieces", parts.len())?;
+    Ok(Status::Success)
+}
+
+/// Run `show`.
+pub fn run_show(a: ShowArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Result<Status> {
+    let store = open_store(ctx)?;
+    let part = resolve_part(&store, &a.part, &a.narrow)?;
+    let ledger = store.ledger(Some(part.id))?;
+    if ctx.json {
+        let v = serde_json::json!({ "part": part, "ledger": ledger });
+        writeln!(out, "{}", serde_json::to_string_pretty(&v)?)?;
+        return Ok(Status::Success);
+    }
+    writeln!(out, "{}", describe(&part))?;
+    writeln!(out, "  kind        {}", part.kind)?;
+    if part.kind != Kind::Diode {
+        writeln!(out, "  value       {}", part.value)?;
+    }
+    writeln!(
+        out,
+        "  tolerance   {}",
+        text::tolerance_text(part.tolerance)
+    )?;
+    writeln!(out, "  technology  {}", part.technology.label())?;
+    if !rating(&part).is_empty() {
+        writeln!(out, "  rating      {}", rating(&part))?;
+    }
+    writeln!(out, "  package     {}", part.package)?;
+    if !part.bin.is_empty() {
+        writeln!(out, "  bin         {}", part.bin)?;
+    }
+    writeln!(out, "  on hand     {}", part.quantity)?;
+    if let Some(l) = part.low_stock {
+        writeln!(out, "  low level   {l}")?;
+    }
+    if !part.note.is_empty() {
+        writeln!(out, "  note        {}", part.note)?;
+    }
+    if let Some(w) = low_warning(&part) {
+        writeln!(out, "{w}")?;
+    }
+    let mut t = Table::new();
+    t.load_style(presets::UTF8_FULL_CONDENSED);
+    t.set_header(vec!["when (UTC)", "who", "change", "after", "why"]);
+    for e in &ledger {
+        t.add_row(vec![
+            e.at.clone(),
+            e.who.clone(),
+            format!("{:+}", e.delta),
+            e.quantity_after.to_string(),
+            e.why.clone(),
+        ]);
+    }
+    writeln!(out, "history ({} entries):\n{t}", ledger.len())?;
+    Ok(Status::Success)
+}

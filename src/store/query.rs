@@ -1,0 +1,250 @@
+//! Reading stock: the filter, the row → [`Part`] mapping, and the snapshots the solver takes.
+//! Read-only; writes live in `change.rs` and `import.rs`.
+
+use super::part::{Kind, Part, Technology, Value};
+use super::{Store, StoreError};
+use crate::units::{Ratio, Tolerance, Volts, Watts};
+use rusqlite::types::Value as SqlValue;
+use rusqlite::{Connection, OptionalExtension, Row};
+
+/// Which parts to read. Empty fields match everything.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct PartFilter {
+    /// Only this kind.
+    pub kind: Option<Kind>,
+    /// Only this exact value (which also fixes resistive versus capacitive kinds).
+    pub value: Option<Value>,
+    /// Only values at or above (resistances match resistors and trimmers, capacitances
+    /// capacitors).
+    pub min: Option<Value>,
+    /// Only values at or below.
+    pub max: Option<Value>,
+    /// Only this technology.
+    pub technology: Option<Technology>,
+    /// Only this bin (exact).
+    pub bin: Option<String>,
+    /// Only parts at or below their low-stock level.
+    pub low: bool,
+    /// Only parts whose note contains this text (case-insensitive for ASCII).
+    pub text: Option<String>,
+    /// Only parts with pieces available to a new design.
+    pub available: bool,
+}
+
+/// The columns every part query selects, in the order [`part_from_row`] reads them.
+pub(crate) const PART_COLUMNS: &str = "id, kind, value, tol_minus_ppb, tol_plus_ppb, technology, \
+     volts_uv, watts_uw, package, bin, quantity, low_stock, note";
+
+/// Stable content order: by kind, then value, tolerance, technology, package, bin.
+pub(crate) const PART_ORDER: &str = "CASE kind WHEN 'resistor' THEN 0 WHEN 'trimmer' THEN 1 \
+     WHEN 'capacitor' THEN 2 ELSE 3 END, value, tol_minus_ppb, tol_plus_ppb, technology, package, bin";
+
+/// Map one row (selected with [`PART_COLUMNS`]) to a part.
+pub(crate) fn part_from_row(row: &Row<'_>) -> rusqlite::Result<Result<Part, StoreError>> {
+    let id: i64 = row.get(0)?;
+    let kind: String = row.get(1)?;
+    let tech: String = row.get(5)?;
+    let corrupt = |reason: String| Err(StoreError::Corrupt { id, reason });
+    let Ok(kind) = kind.parse::<Kind>() else {
+        return Ok(corrupt(format!("unknown kind {kind:?}")));
+    };
+    let Ok(technology) = tech.parse::<Technology>() else {
+        return Ok(corrupt(format!("unknown technology {tech:?}")));
+    };
+    Ok(Ok(Part {
+        id,
+        kind,
+        value: Value::from_base(kind, row.get(2)?),
+        tolerance: Tolerance {
+            minus: Ratio::from_base(row.get(3)?),
+            plus: Ratio::from_base(row.get(4)?),
+        },
+        technology,
+        voltage_rating: row.get::<_, Option<i64>>(6)?.map(Volts::from_base),
+        power_rating: row.get::<_, Option<i64>>(7)?.map(Watts::from_base),
+        package: row.get(8)?,
+        bin: row.get(9)?,
+        quantity: row.get(10)?,
+        held: 0,
+        low_stock: row.get(11)?,
+        note: row.get(12)?,
+    }))
+}
+
+/// Run a part query and map every row.
+pub(crate) fn query_parts(
+    conn: &Connection,
+    sql: &str,
+    params: &[SqlValue],
+) -> Result<Vec<Part>, StoreError> {
+    let mut stmt = conn.prepare_cached(sql)?;
+    let rows = stmt.query_map(rusqlite::params_from_iter(params), part_from_row)?;
+    let mut parts = Vec::new();
+    for row in rows {
+        parts.push(row??);
+    }
+    Ok(parts)
+}
+
+/// One part by id on any connection or transaction.
+pub(crate) fn part_by_id(conn: &Connection, id: i64) -> Result<Part, StoreError> {
+    let sql = format!("SELECT {PART_COLUMNS} FROM part WHERE id = ?1");
+    conn.prepare_cached(&sql)?
+        .query_row([id], part_from_row)
+        .optional()?
+        .ok_or(StoreError::NoSuchPart(id))?
+}
+
+fn kinds_of(value: Value) -> &'static str {
+    match value {
+        Value::Resistance(_) => "kind IN ('resistor', 'trimmer')",
+        Value::Capacitance(_) => "kind = 'capacitor'",
+        Value::None => "kind = 'diode'",
+    }
+}
+
+impl PartFilter {
+    /// The WHERE clause and its parameters.
+    fn sql(&self) -> (String, Vec<SqlValue>) {
+        let mut clauses: Vec<String> = Vec::new();
+        let mut params: Vec<SqlValue> = Vec::new();
+        let mut push = |clause: String, param: Option<SqlValue>| {
+            if let Some(p) = param {
+                params.push(p);
+                clauses.push(clause.replace('?', &format!("?{}", params.len())));
+            } else {
+                clauses.push(clause);
+            }
+        };
+        if let Some(k) = self.kind {
+            push("kind = ?".into(), Some(SqlValue::Text(k.as_str().into())));
+        }
+        if let Some(v) = self.value {
+            push(kinds_of(v).into(), None);
+            push("value = ?".into(), Some(SqlValue::Integer(v.base())));
+        }
+        if let Some(v) = self.min {
+            push(kinds_of(v).into(), None);
+            push("value >= ?".into(), Some(SqlValue::Integer(v.base())));
+        }
+        if let Some(v) = self.max {
+            push(kinds_of(v).into(), None);
+            push("value <= ?".into(), Some(SqlValue::Integer(v.base())));
+        }
+        if let Some(t) = self.technology {
+            push(
+                "technology = ?".into(),
+                Some(SqlValue::Text(t.as_str().into())),
+            );
+        }
+        if let Some(b) = &self.bin {
+            push("bin = ?".into(), Some(SqlValue::Text(b.clone())));
+        }
+        if self.low {
+            push(
+                "low_stock IS NOT NULL AND quantity <= low_stock".into(),
+                None,
+            );
+        }
+        if let Some(t) = &self.text {
+            let escaped = t
+                .replace('\\', "\\\\")
+                .replace('%', "\\%")
+                .replace('_', "\\_");
+            push(
+                "note LIKE ? ESCAPE '\\'".into(),
+                Some(SqlValue::Text(format!("%{escaped}%"))),
+            );
+        }
+        if self.available {
+            push("quantity > 0".into(), None);
+        }
+        let clause = if clauses.is_empty() {
+            String::new()
+        } else {
+            format!("WHERE {}", clauses.join(" AND "))
+        };
+        (clause, params)
+    }
+}
+
+impl Store {
+    /// The parts matching `filter`, in stable content order (kind, value, tolerance, …).
+    pub fn parts(&self, filter: &PartFilter) -> Result<Vec<Part>, StoreError> {
+        let (clause, params) = filter.sql();
+        let sql = format!("SELECT {PART_COLUMNS} FROM part {clause} ORDER BY {PART_ORDER}");
+        query_parts(&self.conn, &sql, &params)
+    }
+
+    /// A snapshot of every part with pieces free for a new design: the solver's input.
+    pub fn available_parts(&self) -> Result<Vec<Part>, StoreError> {
+        self.parts(&PartFilter {
+            available: true,
+            ..PartFilter::default()
+        })
+    }
+
+    /// One part by row id.
+    pub fn part(&self, id: i64) -> Result<Part, StoreError> {
+        part_by_id(&self.conn, id)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::store::spec::PartText;
+
+    fn add(s: &mut Store, value: &str, qty: i64, note: &str) {
+        let spec = PartText {
+            value: value.into(),
+            note: Some(note.into()),
+            ..Default::default()
+        }
+        .resolve()
+        .expect("spec");
+        s.add(&spec, qty, "t", "seed").expect("add");
+    }
+
+    #[test]
+    fn snapshot_and_filters() {
+        let dir = tempfile::tempdir().expect("tmp");
+        let mut s = Store::open(&dir.path().join("s.db")).expect("open");
+        add(&mut s, "1k", 5, "50% off");
+        add(&mut s, "10k", 0, "empty");
+        add(&mut s, "100n", 3, "");
+        let avail = s.available_parts().expect("snapshot");
+        assert_eq!(avail.len(), 2);
+        assert!(avail.iter().all(|p| p.available() > 0 && p.held == 0));
+        let r = |f: PartFilter| s.parts(&f).expect("parts").len();
+        assert_eq!(
+            r(PartFilter {
+                min: Some(Value::from_base(Kind::Resistor, 2_000_000)),
+                ..Default::default()
+            }),
+            1
+        );
+        // The % in the note filter is literal, not a wildcard.
+        assert_eq!(
+            r(PartFilter {
+                text: Some("50%".into()),
+                ..Default::default()
+            }),
+            1
+        );
+        assert_eq!(
+            r(PartFilter {
+                text: Some("%".into()),
+                ..Default::default()
+            }),
+            1
+        );
+        assert_eq!(
+            r(PartFilter {
+                kind: Some(Kind::Capacitor),
+                ..Default::default()
+            }),
+            1
+        );
+    }
+}
