@@ -648,6 +648,22 @@ pub fn check_pair(pace: &Stage, width: &Stage, family: &Family, limits: &Limits)
     out
 }
 
+/// A pair whose width can reach its period somewhere inside the tolerances: `max_duty` is the
+/// exact worst-case maximum of width/period (from the corner search). A Warning: the nominal
+/// design works, but some builds from these parts will not.
+pub fn check_pair_worst_case(max_duty: f64) -> Option<Finding> {
+    (max_duty >= 1.0).then(|| {
+        f((
+            Severity::Warning,
+            "width-may-exceed-period",
+            format!(
+                "within the tolerances the pulse width can reach {:.0} % of the period: some builds from these parts will not control the width; use tighter parts or more margin",
+                max_duty * 100.0
+            ),
+        ))
+    })
+}
+
 /// Two stages in one dual package: each is checked on its own, with the shared supply.
 pub fn check_dual(a: &Stage, b: &Stage, family: &Family, limits: &Limits) -> Vec<Finding> {
     let mut out = prefixed("timer A", check_stage_with(a, family, limits));
@@ -851,6 +867,14 @@ mod tests {
         )));
         let found = check_pair(&pace, &long, &Family::bipolar(), &lim);
         assert!(codes(&found, Severity::Error).contains(&"width-exceeds-period"));
+    }
+
+    #[test]
+    fn pair_worst_case_flags_overlap() {
+        assert!(check_pair_worst_case(0.99).is_none());
+        let w = check_pair_worst_case(1.06).expect("finding");
+        assert_eq!(w.severity, Severity::Warning);
+        assert!(w.message.contains("106 %"));
     }
 
     #[test]

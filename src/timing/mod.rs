@@ -10,7 +10,8 @@ pub mod forms;
 pub mod tolerance;
 
 pub use checks::{
-    Finding, Limits, Severity, check_dual, check_pair, check_stage, check_stage_with, has_error,
+    Finding, Limits, Severity, check_dual, check_pair, check_pair_worst_case, check_stage,
+    check_stage_with, has_error,
 };
 pub use design::{CapFacts, Form, Stage, StageTimes, Steering, cycle_si};
 pub use family::{Family, FamilyError, Figure, Provenance, family_by_name};
