@@ -479,3 +479,27 @@ fn help_has_examples_and_bad_input_is_exit_2() {
         .code(2)
         .stderr_has("no position");
 }
+
+#[test]
+fn text_report_is_stable() {
+    // Reviewed snapshot of the whole text report (no Monte Carlo, so no RNG in it).
+    let r = Bench::new()
+        .run(&[
+            "check",
+            "astable",
+            "R1=4.7k",
+            "R2=68k",
+            "C=10n",
+            "--tol",
+            "R1=1%",
+            "--samples",
+            "0",
+            "--target",
+            "1kHz",
+            "--within",
+            "5%",
+            "--trim",
+        ])
+        .code(1);
+    insta::assert_snapshot!("check_astable_text", r.stdout);
+}

@@ -870,6 +870,84 @@ mod tests {
     }
 
     #[test]
+    fn the_lesser_warnings_trigger_and_stay_quiet() {
+        let cond = Conditions::ideal(v(9.0));
+        let fam = Family::bipolar();
+        // ≈ 62 kHz: above half of the 100 kHz bipolar figure, below it.
+        let s = Stage::astable(r(1e3), r(11e3), c(1e-9), cond);
+        let found = check_stage(&s, &fam);
+        assert!(
+            codes(&found, Severity::Warning).contains(&"near-max-frequency"),
+            "{found:?}"
+        );
+        assert!(!has_error(&found));
+        // ln3·1 kΩ·1 nF ≈ 1.1 µs: shorter than 1/100 kHz.
+        let s = Stage::monostable(r(1e3), c(1e-9), cond);
+        assert!(codes(&check_stage(&s, &fam), Severity::Warning).contains(&"short-pulse"));
+        // 9 V across 470 Ω: 172 mW, over half of 0.25 W but under it.
+        let s = Stage::monostable(r(470.0), c(1e-6), cond);
+        let found = check_stage(&s, &fam);
+        assert!(
+            codes(&found, Severity::Warning).contains(&"resistor-power"),
+            "{found:?}"
+        );
+        assert!(!codes(&found, Severity::Error).contains(&"resistor-power"));
+        // Discharge path against the trigger pin: 3 V / 10 MΩ = 0.3 µA < 10 × 0.5 µA.
+        let s = Stage::astable(r(10e3), r(10e6), c(1e-9), cond);
+        let found = check_stage(&s, &fam);
+        assert!(
+            found
+                .iter()
+                .any(|x| x.severity == Severity::Error && x.message.starts_with("discharging"))
+        );
+        // Dielectrics: Y5V warns, X7R notes, C0G is quiet.
+        let mut s = good();
+        for (tech, sev) in [
+            (Technology::Y5v, Some(Severity::Warning)),
+            (Technology::X7r, Some(Severity::Note)),
+            (Technology::C0g, None),
+        ] {
+            s.cap = Some(CapFacts {
+                technology: tech,
+                voltage_rating: Some(v(50.0)),
+                tolerance: Tolerance::symmetric_percent(5.0).expect("tol"),
+            });
+            let found = check_stage(&s, &fam);
+            match sev {
+                Some(sev) => assert!(codes(&found, sev).contains(&"dielectric"), "{found:?}"),
+                None => assert!(found.is_empty(), "{found:?}"),
+            }
+        }
+        // Big electrolytic at high voltage: caution.
+        let mut s = Stage::monostable(r(1e6), c(220e-6), Conditions::ideal(v(40.0)));
+        s.cap = Some(CapFacts {
+            technology: Technology::Electrolytic,
+            voltage_rating: Some(v(63.0)),
+            tolerance: Tolerance::symmetric_percent(20.0).expect("tol"),
+        });
+        assert!(codes(&check_stage(&s, &fam), Severity::Caution).contains(&"big-electrolytic"));
+    }
+
+    #[test]
+    fn pair_near_period_and_direct_trigger_warn() {
+        let cond = Conditions::ideal(v(9.0));
+        let lim = Limits::default();
+        // Period ≈ ln2·(1k+20k)·100n ≈ 1.456 ms; width ln3·12.5k·100n ≈ 1.373 ms (94 %).
+        let pace = Stage::astable(r(1e3), r(10e3), c(100e-9), cond);
+        let width = Stage::monostable(r(12.5e3), c(100e-9), cond);
+        let found = check_pair(&pace, &width, &Family::bipolar(), &lim);
+        assert!(
+            codes(&found, Severity::Warning).contains(&"width-near-period"),
+            "{found:?}"
+        );
+        // Width 110 µs is shorter than the pace low time 693 µs: direct trigger would stretch it.
+        let width = Stage::monostable(r(1e3), c(100e-9), cond);
+        let found = check_pair(&pace, &width, &Family::bipolar(), &lim);
+        assert!(codes(&found, Severity::Warning).contains(&"trigger-width"));
+        assert!(!has_error(&found));
+    }
+
+    #[test]
     fn pair_worst_case_flags_overlap() {
         assert!(check_pair_worst_case(0.99).is_none());
         let w = check_pair_worst_case(1.06).expect("finding");
