@@ -64,7 +64,7 @@ pub enum Command {
     #[command(flatten)]
     Stock(stock::StockCommand),
     /// Evaluate a design you hand it: times, frequency, duty, worst case, Monte Carlo, warnings.
-    Check(check::CheckArgs),
+    Check(Box<check::CheckArgs>),
     /// Find a design from the parts in stock, with the fewest pieces.
     Find(find::FindArgs),
     /// Preferred values (IEC 60063 E-series): nearest, next above and below, membership.
@@ -120,7 +120,7 @@ fn dispatch(cli: Cli, out: &mut dyn Write) -> anyhow::Result<Status> {
     match cli.command {
         Command::Demo(args) => demo::run(args, &ctx, out),
         Command::Stock(cmd) => stock::run(cmd, &ctx, out),
-        Command::Check(args) => check::run(args, &ctx, out),
+        Command::Check(args) => check::run(*args, &ctx, out),
         Command::Find(args) => find::run(args, &ctx, out),
         Command::Series(args) => series::run(args, &ctx, out),
         Command::Completions { shell } => {

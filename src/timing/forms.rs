@@ -165,7 +165,9 @@ pub fn astable(r1: Ohms, r2: Ohms, c: Farads, cond: &Conditions) -> Result<Cycle
     })
 }
 
-/// Diode-steered astable: charge through Ra (and a diode), discharge through Rb (and a diode).
+/// Diode-steered astable, two-diode wiring: charge through Ra (and a diode), discharge through
+/// Rb (and a diode). For the one-diode bypass (no diode in the discharge path) see
+/// [`crate::timing::design::Steering::OneDiode`]: its low time uses `Factors::discharge`.
 pub fn steered(ra: Ohms, rb: Ohms, c: Farads, cond: &Conditions) -> Result<Cycle, FormError> {
     let k = cond.factors()?;
     Ok(Cycle {

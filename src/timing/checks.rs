@@ -1,0 +1,969 @@
+//! Electrical checks of a stage (and of a two-stage pair or dual package) against a timer
+//! family: each problem is a [`Finding`] that carries the numbers that triggered it.
+//!
+//! Rules (the thresholds are rules of the trade, marked `common practice`, or recalled figures,
+//! marked `from memory`; the family figures come from `family.rs`):
+//! - R1 (between supply and discharge pin) must not be zero; `Vcc/R1` plus the capacitor's
+//!   discharge current (`Vu/R2`) must stay under the family's discharge limit (Error above it,
+//!   Warning above half of it — common practice).
+//! - Charging current at the upper threshold must dwarf the threshold-pin bias current: Warning
+//!   below 100×, Error below 10× (common practice: the bias steals roughly 1/ratio of the
+//!   charging current, so 100× keeps the timing shift near 1 %; at 10× the shift is ~10 % and
+//!   with datasheet-maximum bias the capacitor may never reach the threshold). Likewise the
+//!   discharge-path current at the lower threshold against the trigger-pin bias, which acts only
+//!   near the lower threshold and is larger on bipolar parts: Warning below 50× (a shift of about
+//!   2 %, comparable with the chip's own initial error), Error below 10×.
+//! - Electrolytic leakage, estimated by the `0.01·C·V µA (at least 3 µA)` rule for aluminium
+//!   and `0.01·C·V µA` for tantalum (from memory, the usual datasheet maximum), against the
+//!   charging current at the threshold: Warning above 1 %, Error above 50 % (may stall).
+//! - Capacitor voltage rating: Error below the supply, Warning below 1.5× the supply (common
+//!   practice margin). Polarised parts: a Note on orientation.
+//! - Timing capacitance under 100 pF: Warning, because pin and board strays of a few pF (about
+//!   5 pF, from memory) then shift the timing by 5 % or more.
+//! - Frequency above the family's maximum: Error (Warning above half of it). A one-shot pulse
+//!   shorter than one period of the maximum frequency: Warning.
+//! - Resistor dissipation while discharging `Vcc²/R1` against its rating (0.25 W unless given,
+//!   common practice): Error above the rating, Warning above half (common practice derating).
+//! - Supply outside the family range: Error. Output-driven square wave on a family whose output
+//!   does not reach the rail: Warning. One-shot trigger pulse not shorter than the output pulse:
+//!   Error.
+//! - Cautions (people can get hurt): supply above 50 V, capacitor energy ½·C·V² above 1 J, a
+//!   polarised capacitor of 100 µF or more at 35 V or more, a resistor dissipating over 1 W.
+//!
+//! Error findings make a design infeasible; the search treats them as hard constraints.
+
+use super::design::{Form, Stage, Steering};
+use super::family::Family;
+use crate::store::Technology;
+use crate::units::{Amps, Engineering, Farads, Seconds, Volts, Watts, format_sig};
+use serde::Serialize;
+
+/// How serious a finding is.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Severity {
+    /// The design must not be built as it is.
+    Error,
+    /// It will work, but worse than the numbers say.
+    Warning,
+    /// Someone can get hurt; follow local codes and licensed practice.
+    Caution,
+    /// Worth knowing (orientation, wiring).
+    Note,
+}
+
+impl Severity {
+    /// Plain label.
+    pub fn label(self) -> &'static str {
+        match self {
+            Severity::Error => "error",
+            Severity::Warning => "warning",
+            Severity::Caution => "caution",
+            Severity::Note => "note",
+        }
+    }
+}
+
+/// One result of a check.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Finding {
+    /// How serious.
+    pub severity: Severity,
+    /// A stable short code, e.g. `discharge-current`.
+    pub code: &'static str,
+    /// What was found, with the numbers.
+    pub message: String,
+}
+
+/// Limits that belong to the build rather than to the timer family.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Limits {
+    /// Power rating of the resistor between supply and discharge pin.
+    pub resistor_power: Watts,
+    /// Length of the trigger pulse driving a monostable, if known.
+    pub trigger: Option<Seconds>,
+}
+
+impl Default for Limits {
+    fn default() -> Self {
+        Self {
+            // common practice: the usual small through-hole resistor is rated 0.25 W.
+            resistor_power: Watts::from_base(250_000),
+            trigger: None,
+        }
+    }
+}
+
+/// Ratio of charging current to pin bias current below which timing is visibly off.
+pub const BIAS_RATIO_WARN: f64 = 100.0;
+/// The same for the trigger pin against the discharge-path current.
+pub const TRIGGER_RATIO_WARN: f64 = 50.0;
+/// Ratio below which the design is refused.
+pub const BIAS_RATIO_ERROR: f64 = 10.0;
+/// Smallest timing capacitance not swamped by strays (common practice).
+pub const STRAY_LIMIT_F: f64 = 100e-12;
+/// Typical stray capacitance at the timing node (from memory).
+pub const STRAY_TYPICAL_F: f64 = 5e-12;
+/// Voltage-rating margin over the supply (common practice).
+pub const RATING_MARGIN: f64 = 1.5;
+
+const CODES_NOTE: &str = "Follow local codes and licensed practice.";
+
+fn f(e: Error3) -> Finding {
+    Finding {
+        severity: e.0,
+        code: e.1,
+        message: e.2,
+    }
+}
+type Error3 = (Severity, &'static str, String);
+
+fn amps(a: f64) -> String {
+    Amps::from_si(a).map_or_else(|| format!("{a} A"), |x| x.eng(3))
+}
+fn volts(v: f64) -> String {
+    Volts::from_si(v).map_or_else(|| format!("{v} V"), |x| x.eng(3))
+}
+
+/// Check one stage with default build limits.
+pub fn check_stage(stage: &Stage, family: &Family) -> Vec<Finding> {
+    check_stage_with(stage, family, &Limits::default())
+}
+
+/// Check one stage against the family and the build limits.
+pub fn check_stage_with(stage: &Stage, family: &Family, limits: &Limits) -> Vec<Finding> {
+    let mut out = Vec::new();
+    let vcc = stage.conditions.vcc.si();
+    let (smin, smax) = (family.supply_min.value, family.supply_max.value);
+    if vcc < smin || vcc > smax {
+        out.push(f((
+            Severity::Error,
+            "supply-range",
+            format!(
+                "supply {} is outside the {} family's range {} to {} ({})",
+                volts(vcc),
+                family.name,
+                volts(smin),
+                volts(smax),
+                family.supply_max.provenance.label()
+            ),
+        )));
+    }
+    if vcc > 50.0 {
+        out.push(f((
+            Severity::Caution,
+            "high-voltage",
+            format!(
+                "supply {} is above 50 V: shock hazard; insulate, fuse and discharge before touching. {CODES_NOTE}",
+                volts(vcc)
+            ),
+        )));
+    }
+    let times = match stage.times() {
+        Ok(t) => t,
+        Err(e) => {
+            out.push(f((Severity::Error, "form", e.to_string())));
+            // Still check what does not need times.
+            check_r1(stage, family, limits, &mut out);
+            return out;
+        }
+    };
+    check_r1(stage, family, limits, &mut out);
+    check_bias(stage, family, &mut out);
+    check_capacitor(stage, &mut out);
+
+    let fmax = family.max_freq.value;
+    if let Some(freq) = times.frequency {
+        let fr = freq.si();
+        if fr > fmax {
+            out.push(f((
+                Severity::Error,
+                "max-frequency",
+                format!(
+                    "frequency {} is above the {} family's practical maximum {} ({})",
+                    freq.eng(4),
+                    family.name,
+                    format_sig(fmax, 3, "Hz"),
+                    family.max_freq.provenance.label()
+                ),
+            )));
+        } else if fr > fmax / 2.0 {
+            out.push(f((
+                Severity::Warning,
+                "near-max-frequency",
+                format!(
+                    "frequency {} is above half the {} family's practical maximum {}: edges and thresholds lag, expect the period to run long",
+                    freq.eng(4),
+                    family.name,
+                    format_sig(fmax, 3, "Hz")
+                ),
+            )));
+        }
+    } else if times.high.si() < 1.0 / fmax {
+        out.push(f((
+            Severity::Warning,
+            "short-pulse",
+            format!(
+                "pulse {} is shorter than one period of the {} family's maximum frequency {}; the chip's own delays become a large part of it",
+                times.high.eng(3),
+                family.name,
+                format_sig(fmax, 3, "Hz")
+            ),
+        )));
+    }
+    if stage.form == Form::Monostable
+        && let Some(trig) = limits.trigger
+        && trig >= times.high
+    {
+        out.push(f((
+            Severity::Error,
+            "trigger-width",
+            format!(
+                "trigger pulse {} is not shorter than the output pulse {}: the output stays high as long as the trigger is held low; shorten the trigger (e.g. couple it through a small capacitor)",
+                trig.eng(3),
+                times.high.eng(3)
+            ),
+        )));
+    }
+    if stage.form == Form::Square && !family.rail_to_rail() {
+        out.push(f((
+            Severity::Warning,
+            "square-output",
+            format!(
+                "the {} family's output sits about {} below the supply when high ({}), so the output-driven square wave charges toward less than Vcc: the high time runs long and the duty is above 50 %. Use a CMOS timer, or model it with the output-drop refinement",
+                family.name,
+                volts(family.output_high_drop.value),
+                family.output_high_drop.provenance.label()
+            ),
+        )));
+    }
+    out
+}
+
+/// Discharge-pin current and resistor dissipation: the checks on R1.
+fn check_r1(stage: &Stage, family: &Family, limits: &Limits, out: &mut Vec<Finding>) {
+    let vcc = stage.conditions.vcc.si();
+    let r1 = stage.r1.si();
+    if !stage.form.r1_feeds_discharge() {
+        if r1 <= 0.0 {
+            out.push(f((
+                Severity::Error,
+                "zero-resistance",
+                "the resistor from the output to the capacitor is zero: the output would drive the capacitor directly".to_string(),
+            )));
+        }
+        return;
+    }
+    if r1 <= 0.0 {
+        out.push(f((
+            Severity::Error,
+            "r1-zero",
+            "R1 is zero: while discharging, the discharge pin would short the supply to ground through the chip".to_string(),
+        )));
+        return;
+    }
+    let from_supply = vcc / r1;
+    let vu = stage
+        .conditions
+        .thresholds()
+        .map(|(u, _)| u)
+        .unwrap_or(vcc * 2.0 / 3.0);
+    let vf = stage.conditions.diode_drop.si();
+    let from_cap = match (stage.form, stage.r2) {
+        (Form::Astable, Some(r2)) if r2.si() > 0.0 => vu / r2.si(),
+        (Form::Steered, Some(rb)) if rb.si() > 0.0 => match stage.steering {
+            Steering::TwoDiode => (vu - vf).max(0.0) / rb.si(),
+            Steering::OneDiode => vu / rb.si(),
+        },
+        _ => 0.0,
+    };
+    let total = from_supply + from_cap;
+    let limit = family.discharge_max.value;
+    let detail = if from_cap > 0.0 {
+        format!(
+            "{} from the supply through R1 (Vcc/R1 = {} / {}) plus {} from the capacitor",
+            amps(from_supply),
+            volts(vcc),
+            stage.r1.eng(4),
+            amps(from_cap)
+        )
+    } else {
+        format!(
+            "{} (Vcc/R1 = {} / {})",
+            amps(from_supply),
+            volts(vcc),
+            stage.r1.eng(4)
+        )
+    };
+    if total > limit {
+        out.push(f((
+            Severity::Error,
+            "discharge-current",
+            format!(
+                "discharge pin would sink {} = {detail}, above the {} family's limit {} ({}); raise R1",
+                amps(total),
+                family.name,
+                amps(limit),
+                family.discharge_max.provenance.label()
+            ),
+        )));
+    } else if total > limit / 2.0 {
+        out.push(f((
+            Severity::Warning,
+            "discharge-current",
+            format!(
+                "discharge pin sinks {} = {detail}, over half the {} family's limit {} ({}); the discharge transistor's drop shifts the timing",
+                amps(total),
+                family.name,
+                amps(limit),
+                family.discharge_max.provenance.label()
+            ),
+        )));
+    }
+    let p = vcc * vcc / r1;
+    let rating = limits.resistor_power.si();
+    let pw = |x: f64| Watts::from_si(x).map_or_else(|| format!("{x} W"), |w| w.eng(3));
+    if p > rating {
+        out.push(f((
+            Severity::Error,
+            "resistor-power",
+            format!(
+                "R1 dissipates {} while the capacitor discharges (Vcc²/R1 = {}² / {}), above its {} rating",
+                pw(p),
+                volts(vcc),
+                stage.r1.eng(4),
+                pw(rating)
+            ),
+        )));
+    } else if p > rating / 2.0 {
+        out.push(f((
+            Severity::Warning,
+            "resistor-power",
+            format!(
+                "R1 dissipates {} while discharging (Vcc²/R1), over half its {} rating (common practice derating)",
+                pw(p),
+                pw(rating)
+            ),
+        )));
+    }
+    if p > 1.0 {
+        out.push(f((
+            Severity::Caution,
+            "hot-resistor",
+            format!(
+                "R1 dissipates {}: it gets hot enough to burn skin and scorch the board; mount it clear of other parts. {CODES_NOTE}",
+                pw(p)
+            ),
+        )));
+    }
+}
+
+/// Pin bias currents against the currents that set the timing.
+fn check_bias(stage: &Stage, family: &Family, out: &mut Vec<Finding>) {
+    let c = &stage.conditions;
+    let Ok((vu, vl)) = c.thresholds() else {
+        return;
+    };
+    let vcc = c.vcc.si();
+    let vf = c.diode_drop.si();
+    let r1 = stage.r1.si();
+    let r2 = stage.r2.map_or(0.0, |r| r.si());
+    let voh = vcc - c.output_high_drop.si();
+    let (charge_r, charge_i) = match stage.form {
+        Form::Monostable => (r1, (vcc - vu) / r1),
+        Form::Astable => (r1 + r2, (vcc - vu) / (r1 + r2)),
+        Form::Steered => (r1, (vcc - vf - vu) / r1),
+        Form::Square => (r1, (voh - vu) / r1),
+    };
+    let discharge = match stage.form {
+        Form::Monostable => None,
+        Form::Astable => Some((r2, vl / r2)),
+        Form::Steered => match stage.steering {
+            Steering::TwoDiode => Some((r2, (vl - vf) / r2)),
+            Steering::OneDiode => Some((r2, vl / r2)),
+        },
+        Form::Square => Some((r1, vl / r1)),
+    };
+    let mut one = |what: &str, pin: &str, r: f64, i: f64, bias: f64, prov: &str, want: f64| {
+        if !(i.is_finite() && i > 0.0 && bias > 0.0) {
+            return;
+        }
+        let ratio = i / bias;
+        let sev = if ratio < BIAS_RATIO_ERROR {
+            Severity::Error
+        } else if ratio < want {
+            Severity::Warning
+        } else {
+            return;
+        };
+        let rname = crate::units::Ohms::from_si(r).map_or_else(|| format!("{r} Ω"), |x| x.eng(4));
+        out.push(f((
+            sev,
+            "bias-current",
+            format!(
+                "{what} current at the {pin} is {} through {rname}, only {:.0}× the {} family's {pin}-pin current {} ({prov}); common practice wants at least {:.0}×, so the timing runs long by roughly {:.1} % — use a smaller resistance and a larger capacitor, or a CMOS timer",
+                amps(i),
+                ratio,
+                family.name,
+                amps(bias),
+                want,
+                100.0 / ratio
+            ),
+        )));
+    };
+    one(
+        "charging",
+        "threshold",
+        charge_r,
+        charge_i,
+        family.threshold_current.value,
+        family.threshold_current.provenance.label(),
+        BIAS_RATIO_WARN,
+    );
+    if let Some((r, i)) = discharge {
+        one(
+            "discharging",
+            "trigger",
+            r,
+            i,
+            family.trigger_current.value,
+            family.trigger_current.provenance.label(),
+            TRIGGER_RATIO_WARN,
+        );
+    }
+    // Leakage against the same charging current.
+    if let Some(cap) = stage.cap
+        && cap.technology.is_electrolytic()
+        && charge_i > 0.0
+    {
+        let cv = 0.01 * stage.c.si() * vcc; // 0.01·C[µF]·V µA equals 0.01·C[F]·V A.
+        let leak = if cap.technology == Technology::Electrolytic {
+            cv.max(3e-6)
+        } else {
+            cv
+        };
+        let share = leak / charge_i;
+        let sev = if share > 0.5 {
+            Some(Severity::Error)
+        } else if share > 0.01 {
+            Some(Severity::Warning)
+        } else {
+            None
+        };
+        if let Some(sev) = sev {
+            out.push(f((
+                sev,
+                "leakage",
+                format!(
+                    "the electrolytic may leak up to {} (0.01·C·V µA rule{}, from memory) against a charging current of {} at the threshold ({:.0} % of it){}",
+                    amps(leak),
+                    if cap.technology == Technology::Electrolytic { ", at least 3 µA" } else { "" },
+                    amps(charge_i),
+                    share * 100.0,
+                    if sev == Severity::Error {
+                        ": the capacitor may never reach the threshold"
+                    } else {
+                        ": the timing runs long and varies from part to part"
+                    }
+                ),
+            )));
+        }
+    }
+}
+
+/// Dielectric, rating, polarity, strays, stored energy.
+fn check_capacitor(stage: &Stage, out: &mut Vec<Finding>) {
+    let c = stage.c.si();
+    let vcc = stage.conditions.vcc.si();
+    if c < STRAY_LIMIT_F {
+        out.push(f((
+            Severity::Warning,
+            "stray-capacitance",
+            format!(
+                "timing capacitance {} is under 100 pF: about 5 pF of pin and board strays (from memory) add {:.0} % or more",
+                stage.c.eng(3),
+                STRAY_TYPICAL_F / c * 100.0
+            ),
+        )));
+    }
+    let energy = 0.5 * c * vcc * vcc;
+    if energy > 1.0 {
+        out.push(f((
+            Severity::Caution,
+            "stored-energy",
+            format!(
+                "the timing capacitor stores {:.1} J at {}: it can burn, shock and weld tools; discharge it through a resistor before handling. {CODES_NOTE}",
+                energy,
+                volts(vcc)
+            ),
+        )));
+    }
+    let Some(cap) = stage.cap else {
+        return;
+    };
+    match cap.technology {
+        Technology::Electrolytic | Technology::Tantalum => out.push(f((
+            Severity::Warning,
+            "electrolytic-timing",
+            "an electrolytic timing capacitor has a wide tolerance, leaks and drifts with age and temperature; prefer film or C0G ceramic where the value allows".to_string(),
+        ))),
+        Technology::Y5v => out.push(f((
+            Severity::Warning,
+            "dielectric",
+            "Y5V/Z5U ceramic loses much of its capacitance with voltage and temperature; poor for timing — prefer film or C0G".to_string(),
+        ))),
+        Technology::X7r => out.push(f((
+            Severity::Note,
+            "dielectric",
+            "X7R ceramic drifts with voltage and temperature by several percent; C0G or film is steadier for timing".to_string(),
+        ))),
+        _ => {}
+    }
+    if cap.technology.is_polarised() {
+        out.push(f((
+            Severity::Note,
+            "polarity",
+            "polarised capacitor: fit its + lead to the threshold/trigger node and its − lead to ground".to_string(),
+        )));
+        if c >= 100e-6 && vcc >= 35.0 {
+            out.push(f((
+                Severity::Caution,
+                "big-electrolytic",
+                format!(
+                    "a {} electrolytic at {} holds a dangerous charge and can vent if reversed or over-volted. {CODES_NOTE}",
+                    Farads::from_si(c).map_or_else(String::new, |x| x.eng(3)),
+                    volts(vcc)
+                ),
+            )));
+        }
+    }
+    match cap.voltage_rating {
+        Some(rating) if rating.si() < vcc => out.push(f((
+            Severity::Error,
+            "voltage-rating",
+            format!(
+                "capacitor rated {} is below the supply {}",
+                rating.eng(3),
+                volts(vcc)
+            ),
+        ))),
+        Some(rating) if rating.si() < RATING_MARGIN * vcc => out.push(f((
+            Severity::Warning,
+            "voltage-rating",
+            format!(
+                "capacitor rated {} has less than the 1.5× margin over the supply {} (common practice: at least {})",
+                rating.eng(3),
+                volts(vcc),
+                volts(RATING_MARGIN * vcc)
+            ),
+        ))),
+        None if cap.technology.is_polarised() => out.push(f((
+            Severity::Note,
+            "voltage-rating",
+            format!(
+                "voltage rating unknown: use at least {} (1.5× the supply, common practice)",
+                volts(RATING_MARGIN * vcc)
+            ),
+        ))),
+        _ => {}
+    }
+}
+
+fn prefixed(label: &str, mut v: Vec<Finding>) -> Vec<Finding> {
+    for x in &mut v {
+        x.message = format!("{label}: {}", x.message);
+    }
+    v
+}
+
+/// Fixed frequency with adjustable width: a periodic `pace` stage triggers the monostable
+/// `width`. Both stages are checked; the width must stay below the period (Error otherwise).
+pub fn check_pair(pace: &Stage, width: &Stage, family: &Family, limits: &Limits) -> Vec<Finding> {
+    let mut out = prefixed(
+        "pace stage",
+        check_stage_with(
+            pace,
+            family,
+            &Limits {
+                trigger: None,
+                ..*limits
+            },
+        ),
+    );
+    out.extend(prefixed(
+        "width stage",
+        check_stage_with(width, family, limits),
+    ));
+    if !pace.form.is_periodic() {
+        out.push(f((
+            Severity::Error,
+            "pair-form",
+            "the pace stage must run free (astable, steered or square), not fire once".to_string(),
+        )));
+    }
+    if width.form != Form::Monostable {
+        out.push(f((
+            Severity::Error,
+            "pair-form",
+            "the width stage must be a monostable".to_string(),
+        )));
+    }
+    if let (Ok(p), Ok(w)) = (pace.times(), width.times())
+        && let (Some(period), Some(low)) = (p.period, p.low)
+    {
+        let wd = w.high.si();
+        if wd >= period.si() {
+            out.push(f((
+                Severity::Error,
+                "width-exceeds-period",
+                format!(
+                    "pulse width {} is not below the period {}: the one-shot would still be high when the next trigger comes, so the width is not controlled",
+                    w.high.eng(4),
+                    period.eng(4)
+                ),
+            )));
+        } else if wd > 0.9 * period.si() {
+            out.push(f((
+                Severity::Warning,
+                "width-near-period",
+                format!(
+                    "pulse width {} is over 90 % of the period {}: the timing capacitor has little time to empty before the next trigger (common practice: keep 10 % spare)",
+                    w.high.eng(4),
+                    period.eng(4)
+                ),
+            )));
+        }
+        if low.si() >= wd && limits.trigger.is_none() {
+            out.push(f((
+                Severity::Warning,
+                "trigger-width",
+                format!(
+                    "if the pace output drives the trigger directly, its low time {} is not shorter than the pulse {} and would stretch it; couple the trigger through a small capacitor (a differentiator)",
+                    low.eng(4),
+                    w.high.eng(4)
+                ),
+            )));
+        }
+    }
+    out
+}
+
+/// A pair whose width can reach its period somewhere inside the tolerances: `max_duty` is the
+/// exact worst-case maximum of width/period (from the corner search). A Warning: the nominal
+/// design works, but some builds from these parts will not.
+pub fn check_pair_worst_case(max_duty: f64) -> Option<Finding> {
+    (max_duty >= 1.0).then(|| {
+        f((
+            Severity::Warning,
+            "width-may-exceed-period",
+            format!(
+                "within the tolerances the pulse width can reach {:.0} % of the period: some builds from these parts will not control the width; use tighter parts or more margin",
+                max_duty * 100.0
+            ),
+        ))
+    })
+}
+
+/// Two stages in one dual package: each is checked on its own, with the shared supply.
+pub fn check_dual(a: &Stage, b: &Stage, family: &Family, limits: &Limits) -> Vec<Finding> {
+    let mut out = prefixed("timer A", check_stage_with(a, family, limits));
+    out.extend(prefixed("timer B", check_stage_with(b, family, limits)));
+    if a.conditions.vcc != b.conditions.vcc {
+        out.push(f((
+            Severity::Error,
+            "dual-supply",
+            "both halves of a dual package run from one supply pin".to_string(),
+        )));
+    }
+    out
+}
+
+/// Whether any finding is an Error.
+pub fn has_error(findings: &[Finding]) -> bool {
+    findings.iter().any(|x| x.severity == Severity::Error)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::timing::{CapFacts, Conditions};
+    use crate::units::{Ohms, Tolerance};
+
+    fn v(x: f64) -> Volts {
+        Volts::from_si(x).expect("volts")
+    }
+    fn r(x: f64) -> Ohms {
+        Ohms::from_si(x).expect("ohms")
+    }
+    fn c(x: f64) -> Farads {
+        Farads::from_si(x).expect("farads")
+    }
+    fn codes(v: &[Finding], sev: Severity) -> Vec<&'static str> {
+        v.iter()
+            .filter(|x| x.severity == sev)
+            .map(|x| x.code)
+            .collect()
+    }
+    fn good() -> Stage {
+        Stage::astable(r(4700.0), r(68e3), c(10e-9), Conditions::ideal(v(9.0)))
+    }
+
+    #[test]
+    fn a_sound_astable_is_quiet() {
+        let found = check_stage(&good(), &Family::bipolar());
+        assert!(found.is_empty(), "{found:?}");
+        let mono = Stage::monostable(r(100e3), c(1e-6), Conditions::ideal(v(9.0)));
+        assert!(check_stage(&mono, &Family::cmos()).is_empty());
+    }
+
+    #[test]
+    fn twelve_volts_across_ten_ohms_is_1_2_amps() {
+        // common practice (Ohm's law): 12 V across 10 Ω is 1.2 A, far over any discharge pin.
+        let s = Stage::monostable(r(10.0), c(1e-6), Conditions::ideal(v(12.0)));
+        let found = check_stage(&s, &Family::bipolar());
+        let d = found
+            .iter()
+            .find(|x| x.code == "discharge-current")
+            .expect("discharge finding");
+        assert_eq!(d.severity, Severity::Error);
+        assert!(d.message.contains("1.2 A"), "{}", d.message);
+        // Vcc²/R = 14.4 W: resistor power error and a hot-resistor caution.
+        assert!(codes(&found, Severity::Error).contains(&"resistor-power"));
+        assert!(codes(&found, Severity::Caution).contains(&"hot-resistor"));
+    }
+
+    #[test]
+    fn zero_r1_is_refused() {
+        let mut s = good();
+        s.r1 = Ohms::ZERO;
+        assert!(codes(&check_stage(&s, &Family::bipolar()), Severity::Error).contains(&"r1-zero"));
+    }
+
+    #[test]
+    fn big_resistance_meets_bias_current() {
+        // 10 MΩ at 9 V: (9 − 6)/10 MΩ = 0.3 µA, 3× the 0.1 µA bipolar figure → Error.
+        let s = Stage::monostable(r(10e6), c(1e-6), Conditions::ideal(v(9.0)));
+        let b = check_stage(&s, &Family::bipolar());
+        assert!(
+            codes(&b, Severity::Error).contains(&"bias-current"),
+            "{b:?}"
+        );
+        // 1 MΩ: 3 µA, 30× → Warning.
+        let s = Stage::monostable(r(1e6), c(1e-6), Conditions::ideal(v(9.0)));
+        assert!(
+            codes(&check_stage(&s, &Family::bipolar()), Severity::Warning)
+                .contains(&"bias-current")
+        );
+        // CMOS bias is picoamps: quiet.
+        assert!(check_stage(&s, &Family::cmos()).is_empty());
+    }
+
+    #[test]
+    fn electrolytic_leakage_rating_and_polarity() {
+        let mut s = Stage::monostable(r(1e6), c(100e-6), Conditions::ideal(v(9.0)));
+        s.cap = Some(CapFacts {
+            technology: Technology::Electrolytic,
+            voltage_rating: Some(v(6.3)),
+            tolerance: Tolerance::symmetric_percent(20.0).expect("tol"),
+        });
+        let found = check_stage(&s, &Family::cmos());
+        // 0.01·100·9 = 9 µA leak vs 3 µA charging → Error.
+        let errs = codes(&found, Severity::Error);
+        assert!(errs.contains(&"leakage"), "{found:?}");
+        assert!(errs.contains(&"voltage-rating"));
+        assert!(codes(&found, Severity::Note).contains(&"polarity"));
+        assert!(codes(&found, Severity::Warning).contains(&"electrolytic-timing"));
+        // With 10 kΩ (300 µA) the leak is 3 %: a Warning; rating 10 V < 13.5 V margin: Warning.
+        s.r1 = r(10e3);
+        s.cap = s.cap.map(|mut k| {
+            k.voltage_rating = Some(v(10.0));
+            k
+        });
+        let found = check_stage(&s, &Family::cmos());
+        let warns = codes(&found, Severity::Warning);
+        assert!(
+            warns.contains(&"leakage") && warns.contains(&"voltage-rating"),
+            "{found:?}"
+        );
+        assert!(!has_error(&found));
+        // Film capacitor: none of that.
+        s.cap = s.cap.map(|mut k| {
+            k.technology = Technology::Film;
+            k.voltage_rating = Some(v(63.0));
+            k
+        });
+        assert!(check_stage(&s, &Family::cmos()).is_empty());
+    }
+
+    #[test]
+    fn small_capacitor_and_high_frequency() {
+        let s = Stage::astable(r(1e3), r(1e3), c(47e-12), Conditions::ideal(v(9.0)));
+        let found = check_stage(&s, &Family::bipolar());
+        assert!(codes(&found, Severity::Warning).contains(&"stray-capacitance"));
+        // 1.44/(3 kΩ·47 pF) ≈ 10 MHz: above both families' maxima.
+        assert!(codes(&found, Severity::Error).contains(&"max-frequency"));
+        assert!(
+            codes(&check_stage(&s, &Family::cmos()), Severity::Error).contains(&"max-frequency")
+        );
+    }
+
+    #[test]
+    fn supply_range_and_cautions() {
+        let s = Stage::monostable(r(1e6), c(1e-6), Conditions::ideal(v(3.0)));
+        assert!(
+            codes(&check_stage(&s, &Family::bipolar()), Severity::Error).contains(&"supply-range")
+        );
+        assert!(
+            !codes(&check_stage(&s, &Family::cmos()), Severity::Error).contains(&"supply-range")
+        );
+        let s = Stage::monostable(r(1e6), c(10e-3), Conditions::ideal(v(60.0)));
+        let found = check_stage(&s, &Family::bipolar());
+        let cautions = codes(&found, Severity::Caution);
+        // ½·10 mF·60² = 18 J.
+        assert!(cautions.contains(&"high-voltage") && cautions.contains(&"stored-energy"));
+        assert!(found.iter().any(|x| x.message.contains("local codes")));
+    }
+
+    #[test]
+    fn trigger_must_be_shorter_than_pulse() {
+        let s = Stage::monostable(r(10e3), c(1e-9), Conditions::ideal(v(9.0))); // ≈ 11 µs
+        let mut lim = Limits {
+            trigger: Some(Seconds::from_si(20e-6).expect("s")),
+            ..Limits::default()
+        };
+        assert!(
+            codes(
+                &check_stage_with(&s, &Family::cmos(), &lim),
+                Severity::Error
+            )
+            .contains(&"trigger-width")
+        );
+        lim.trigger = Some(Seconds::from_si(1e-6).expect("s"));
+        assert!(check_stage_with(&s, &Family::cmos(), &lim).is_empty());
+    }
+
+    #[test]
+    fn square_wave_on_bipolar_warns() {
+        let s = Stage::square(r(10e3), c(10e-9), Conditions::ideal(v(9.0)));
+        assert!(
+            codes(&check_stage(&s, &Family::bipolar()), Severity::Warning)
+                .contains(&"square-output")
+        );
+        assert!(check_stage(&s, &Family::cmos()).is_empty());
+    }
+
+    #[test]
+    fn pair_width_must_stay_below_period() {
+        let cond = Conditions::ideal(v(9.0));
+        let pace = Stage::astable(r(1e3), r(10e3), c(100e-9), cond); // period ≈ 1.46 ms
+        let short = Stage::monostable(r(10e3), c(10e-9), cond); // ≈ 0.11 ms
+        let long = Stage::monostable(r(100e3), c(100e-9), cond); // ≈ 11 ms
+        let lim = Limits::default();
+        assert!(!has_error(&check_pair(
+            &pace,
+            &short,
+            &Family::bipolar(),
+            &lim
+        )));
+        let found = check_pair(&pace, &long, &Family::bipolar(), &lim);
+        assert!(codes(&found, Severity::Error).contains(&"width-exceeds-period"));
+    }
+
+    #[test]
+    fn the_lesser_warnings_trigger_and_stay_quiet() {
+        let cond = Conditions::ideal(v(9.0));
+        let fam = Family::bipolar();
+        // ≈ 62 kHz: above half of the 100 kHz bipolar figure, below it.
+        let s = Stage::astable(r(1e3), r(11e3), c(1e-9), cond);
+        let found = check_stage(&s, &fam);
+        assert!(
+            codes(&found, Severity::Warning).contains(&"near-max-frequency"),
+            "{found:?}"
+        );
+        assert!(!has_error(&found));
+        // ln3·1 kΩ·1 nF ≈ 1.1 µs: shorter than 1/100 kHz.
+        let s = Stage::monostable(r(1e3), c(1e-9), cond);
+        assert!(codes(&check_stage(&s, &fam), Severity::Warning).contains(&"short-pulse"));
+        // 9 V across 470 Ω: 172 mW, over half of 0.25 W but under it.
+        let s = Stage::monostable(r(470.0), c(1e-6), cond);
+        let found = check_stage(&s, &fam);
+        assert!(
+            codes(&found, Severity::Warning).contains(&"resistor-power"),
+            "{found:?}"
+        );
+        assert!(!codes(&found, Severity::Error).contains(&"resistor-power"));
+        // Discharge path against the trigger pin: 3 V / 10 MΩ = 0.3 µA < 10 × 0.5 µA.
+        let s = Stage::astable(r(10e3), r(10e6), c(1e-9), cond);
+        let found = check_stage(&s, &fam);
+        assert!(
+            found
+                .iter()
+                .any(|x| x.severity == Severity::Error && x.message.starts_with("discharging"))
+        );
+        // Dielectrics: Y5V warns, X7R notes, C0G is quiet.
+        let mut s = good();
+        for (tech, sev) in [
+            (Technology::Y5v, Some(Severity::Warning)),
+            (Technology::X7r, Some(Severity::Note)),
+            (Technology::C0g, None),
+        ] {
+            s.cap = Some(CapFacts {
+                technology: tech,
+                voltage_rating: Some(v(50.0)),
+                tolerance: Tolerance::symmetric_percent(5.0).expect("tol"),
+            });
+            let found = check_stage(&s, &fam);
+            match sev {
+                Some(sev) => assert!(codes(&found, sev).contains(&"dielectric"), "{found:?}"),
+                None => assert!(found.is_empty(), "{found:?}"),
+            }
+        }
+        // Big electrolytic at high voltage: caution.
+        let mut s = Stage::monostable(r(1e6), c(220e-6), Conditions::ideal(v(40.0)));
+        s.cap = Some(CapFacts {
+            technology: Technology::Electrolytic,
+            voltage_rating: Some(v(63.0)),
+            tolerance: Tolerance::symmetric_percent(20.0).expect("tol"),
+        });
+        assert!(codes(&check_stage(&s, &fam), Severity::Caution).contains(&"big-electrolytic"));
+    }
+
+    #[test]
+    fn pair_near_period_and_direct_trigger_warn() {
+        let cond = Conditions::ideal(v(9.0));
+        let lim = Limits::default();
+        // Period ≈ ln2·(1k+20k)·100n ≈ 1.456 ms; width ln3·12.5k·100n ≈ 1.373 ms (94 %).
+        let pace = Stage::astable(r(1e3), r(10e3), c(100e-9), cond);
+        let width = Stage::monostable(r(12.5e3), c(100e-9), cond);
+        let found = check_pair(&pace, &width, &Family::bipolar(), &lim);
+        assert!(
+            codes(&found, Severity::Warning).contains(&"width-near-period"),
+            "{found:?}"
+        );
+        // Width 110 µs is shorter than the pace low time 693 µs: direct trigger would stretch it.
+        let width = Stage::monostable(r(1e3), c(100e-9), cond);
+        let found = check_pair(&pace, &width, &Family::bipolar(), &lim);
+        assert!(codes(&found, Severity::Warning).contains(&"trigger-width"));
+        assert!(!has_error(&found));
+    }
+
+    #[test]
+    fn pair_worst_case_flags_overlap() {
+        assert!(check_pair_worst_case(0.99).is_none());
+        let w = check_pair_worst_case(1.06).expect("finding");
+        assert_eq!(w.severity, Severity::Warning);
+        assert!(w.message.contains("106 %"));
+    }
+
+    #[test]
+    fn discharge_current_counts_the_capacitor_too() {
+        // CMOS limit 10 mA: 9 V / 1.5 kΩ = 6 mA from the supply, + 6 V / 1 kΩ = 6 mA → 12 mA.
+        let s = Stage::astable(r(1500.0), r(1000.0), c(100e-9), Conditions::ideal(v(9.0)));
+        assert!(
+            codes(&check_stage(&s, &Family::cmos()), Severity::Error)
+                .contains(&"discharge-current")
+        );
+        // 9 V / 4.7 kΩ + 6 V / 68 kΩ ≈ 2 mA: quiet.
+        assert!(check_stage(&good(), &Family::cmos()).is_empty());
+    }
+}

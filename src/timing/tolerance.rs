@@ -1,0 +1,1211 @@
+//! Tolerance analysis of a design whose positions are series/parallel networks of toleranced
+//! pieces: exact worst case by corner search, seeded Monte Carlo, "is the target guaranteed?",
+//! the trimmer that covers the spread, and the inverse question (infer an unknown part from a
+//! measurement).
+//!
+//! **Why corners are exact.** A series or parallel network's value rises with every piece in it;
+//! every time of every form is a product of network values and a positive factor, so high, low
+//! and period rise (and frequency falls) with each piece. Duty is not monotone in one direction
+//! across positions — it rises with R1 and falls with R2 — but it is still monotone in each piece
+//! taken alone. A function monotone in each coordinate of a box takes its extremes at vertices,
+//! so evaluating all `2^n` corners (each piece at its minimum or maximum) gives the exact
+//! worst-case interval of every quantity; a linear (first-order) estimate would not.
+//!
+//! The timer's own error (initial error plus drift, from the family) enters as one more "piece"
+//! per stage: a factor `1 ± e` on both the high and the low time of that stage (a simplification:
+//! real threshold errors can move high and low time differently). Capacitor temperature
+//! coefficients are not modelled. Pure: no I/O; randomness only from the caller's seed.
+
+use super::design::{Form, Steering, cycle_si};
+use super::forms::{Conditions, Factors, FormError};
+use crate::network::{Combine, Net};
+use crate::units::{Ratio, Tolerance, eseries::Series};
+use rand::{Rng, SeedableRng, rngs::SmallRng};
+use rand_distr::{Distribution, StandardNormal};
+use serde::Serialize;
+
+/// Largest number of toleranced pieces (parts plus timer factors) the corner search accepts:
+/// 2^22 corners is about four million evaluations.
+pub const MAX_CORNER_PIECES: usize = 22;
+
+/// Track tolerance assumed for a trimmer (±20 %, from memory: a common cermet trimmer figure).
+pub const TRIMMER_TOLERANCE_PERCENT: f64 = 20.0;
+
+/// Trimmer values commonly stocked (1-2-5 steps, common practice), in ohms.
+pub const TRIMMER_VALUES: [f64; 16] = [
+    100.0, 200.0, 500.0, 1e3, 2e3, 5e3, 10e3, 20e3, 50e3, 100e3, 200e3, 500e3, 1e6, 2e6, 5e6, 10e6,
+];
+
+/// Why an analysis cannot be done.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum ToleranceError {
+    /// The form cannot run under the conditions.
+    #[error(transparent)]
+    Form(#[from] FormError),
+    /// Too many pieces for an exact corner search.
+    #[error("{pieces} toleranced pieces give 2^{pieces} corners; at most {max} are searched")]
+    TooManyPieces {
+        /// Pieces in the design.
+        pieces: usize,
+        /// The limit.
+        max: usize,
+    },
+    /// The question has no answer with these parts.
+    #[error("{0}")]
+    NoSolution(String),
+    /// Asked about a quantity this design does not have (e.g. the period of a one-shot).
+    #[error("this design has no {0}")]
+    NoQuantity(&'static str),
+    /// No position of that name.
+    #[error("no position called {0}")]
+    NoPosition(String),
+}
+
+/// One part in a network: nominal value (SI) and tolerance.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Piece {
+    /// Nominal value in SI units (ohms or farads).
+    pub value: f64,
+    /// Tolerance.
+    pub tolerance: Tolerance,
+}
+
+impl Piece {
+    /// Lowest and highest real value.
+    pub fn bounds(&self) -> (f64, f64) {
+        let (lo, hi) = self.tolerance.factors();
+        (self.value * lo, self.value * hi)
+    }
+}
+
+/// A position of the design (R1, R2, C…) filled by a network of pieces.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Position {
+    /// Its name as printed, e.g. `R1`, `C`, `pace R1`.
+    pub name: String,
+    /// Resistive or capacitive combination.
+    pub combine: Combine,
+    /// The network; leaves index `pieces`.
+    pub net: Net,
+    /// The pieces.
+    pub pieces: Vec<Piece>,
+}
+
+impl Position {
+    /// A position holding one piece.
+    pub fn single(name: &str, combine: Combine, value: f64, tolerance: Tolerance) -> Self {
+        Self {
+            name: name.to_string(),
+            combine,
+            net: Net::Piece(0),
+            pieces: vec![Piece { value, tolerance }],
+        }
+    }
+
+    /// Nominal value of the network.
+    pub fn nominal(&self) -> f64 {
+        let v: Vec<f64> = self.pieces.iter().map(|p| p.value).collect();
+        self.net.value(&v, self.combine)
+    }
+
+    /// If the network is `n ≥ 2` equal pieces (same value and tolerance) all in series or all in
+    /// parallel, `n`.
+    pub fn equal_pieces(&self) -> Option<usize> {
+        let ch = match &self.net {
+            Net::Series(ch) | Net::Parallel(ch) => ch,
+            Net::Piece(_) => return None,
+        };
+        let first = self.pieces.first()?;
+        let all_leaves = ch.iter().all(|c| matches!(c, Net::Piece(_)));
+        let equal = self.pieces.iter().all(|p| p == first);
+        (all_leaves && equal && ch.len() >= 2).then_some(ch.len())
+    }
+}
+
+/// One stage to analyse: the form, its positions and the timer's own error.
+#[derive(Debug, Clone, PartialEq)]
+pub struct StageModel {
+    /// Circuit form.
+    pub form: Form,
+    /// Diode wiring (steered only).
+    pub steering: Steering,
+    /// Monostable R, astable R1, steered Ra, square R.
+    pub r1: Position,
+    /// Astable R2, steered Rb.
+    pub r2: Option<Position>,
+    /// Timing capacitor.
+    pub c: Position,
+    /// Operating conditions.
+    pub conditions: Conditions,
+    /// The chip's own timing error either way (initial error plus drift).
+    pub timer_error: Ratio,
+}
+
+/// What is analysed: one stage, or a pace astable triggering a width monostable.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Circuit {
+    /// One stage.
+    Single(Box<StageModel>),
+    /// Fixed frequency from `pace`, width from the monostable `width`.
+    Pair {
+        /// The free-running stage that sets the period.
+        pace: Box<StageModel>,
+        /// The monostable that sets the pulse width.
+        width: Box<StageModel>,
+    },
+}
+
+/// A quantity the analysis reports.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Quantity {
+    /// Output high time (pulse width), seconds.
+    High,
+    /// Output low time, seconds.
+    Low,
+    /// Period, seconds.
+    Period,
+    /// Frequency, hertz.
+    Frequency,
+    /// Duty cycle, fraction.
+    Duty,
+}
+
+impl Quantity {
+    /// Every quantity, in output order.
+    pub const ALL: [Quantity; 5] = [
+        Quantity::High,
+        Quantity::Low,
+        Quantity::Period,
+        Quantity::Frequency,
+        Quantity::Duty,
+    ];
+
+    fn index(self) -> usize {
+        self as usize
+    }
+
+    /// Plain name.
+    pub fn label(self) -> &'static str {
+        match self {
+            Quantity::High => "high time",
+            Quantity::Low => "low time",
+            Quantity::Period => "period",
+            Quantity::Frequency => "frequency",
+            Quantity::Duty => "duty",
+        }
+    }
+
+    /// Unit of its values: `s`, `Hz` or `ratio`.
+    pub fn unit(self) -> &'static str {
+        match self {
+            Quantity::High | Quantity::Low | Quantity::Period => "s",
+            Quantity::Frequency => "Hz",
+            Quantity::Duty => "ratio",
+        }
+    }
+}
+
+/// A quantity's nominal value and worst-case interval (SI units of the quantity).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Interval {
+    /// Which quantity.
+    pub quantity: Quantity,
+    /// At nominal values.
+    pub nominal: f64,
+    /// Lowest over all corners.
+    pub min: f64,
+    /// Highest over all corners.
+    pub max: f64,
+}
+
+/// The exact worst case.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct WorstCase {
+    /// How many corners were evaluated.
+    pub corners: u64,
+    /// Toleranced pieces (parts plus one timer factor per stage).
+    pub pieces: usize,
+    /// One interval per quantity the design has.
+    pub intervals: Vec<Interval>,
+}
+
+impl WorstCase {
+    /// The interval of `q`, if the design has it.
+    pub fn get(&self, q: Quantity) -> Option<&Interval> {
+        self.intervals.iter().find(|i| i.quantity == q)
+    }
+}
+
+/// How each piece is drawn in Monte Carlo.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Default)]
+#[serde(rename_all = "snake_case")]
+pub enum Spread {
+    /// Uniform between the tolerance limits (the default: makes no claim about the maker's
+    /// sorting, and never leaves the limits).
+    #[default]
+    Uniform,
+    /// Normal with the tolerance at 3σ on each side (unbounded).
+    Normal,
+}
+
+/// Summary of one quantity over the samples.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Stats {
+    /// Which quantity.
+    pub quantity: Quantity,
+    /// Mean.
+    pub mean: f64,
+    /// Standard deviation.
+    pub std_dev: f64,
+    /// 1st percentile.
+    pub p1: f64,
+    /// Median.
+    pub p50: f64,
+    /// 99th percentile.
+    pub p99: f64,
+}
+
+/// Monte Carlo result.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct MonteCarlo {
+    /// Samples drawn.
+    pub samples: usize,
+    /// The seed.
+    pub seed: u64,
+    /// How pieces were drawn.
+    pub spread: Spread,
+    /// One summary per quantity.
+    pub stats: Vec<Stats>,
+    /// Share of samples inside the target band, when a target was given.
+    pub within_target: Option<f64>,
+}
+
+impl MonteCarlo {
+    /// The summary of `q`.
+    pub fn get(&self, q: Quantity) -> Option<&Stats> {
+        self.stats.iter().find(|s| s.quantity == q)
+    }
+}
+
+/// A target: quantity, value and allowed relative error either way.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Target {
+    /// Which quantity.
+    pub quantity: Quantity,
+    /// Wanted value (SI units of the quantity).
+    pub value: f64,
+    /// Allowed error either way.
+    pub within: Ratio,
+}
+
+impl Target {
+    /// The band `[value·(1 − within), value·(1 + within)]`.
+    pub fn band(&self) -> (f64, f64) {
+        let w = self.within.si();
+        (self.value * (1.0 - w), self.value * (1.0 + w))
+    }
+}
+
+/// Whether the worst case stays within the target.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Verdict {
+    /// The target.
+    pub target: Target,
+    /// True when every corner lies inside the band.
+    pub guaranteed: bool,
+    /// True when the nominal value lies inside the band.
+    pub nominal_inside: bool,
+    /// Worst-case interval of the quantity.
+    pub interval: Interval,
+}
+
+/// A trimmer in series with a fixed part that can set the quantity exactly in every corner.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct TrimPlan {
+    /// Quantity set by the trim.
+    pub quantity: Quantity,
+    /// Value it is set to.
+    pub goal: f64,
+    /// Lowest and highest resistance the position needs over all corners of the other parts
+    /// and the timer error.
+    pub need_min: f64,
+    /// See `need_min`.
+    pub need_max: f64,
+    /// Resistance needed with everything else nominal.
+    pub need_nominal: f64,
+    /// Fixed resistor (E24), ohms; `None` when the trimmer alone is used.
+    pub fixed: Option<f64>,
+    /// Tolerance assumed for the fixed part.
+    pub fixed_tolerance: Tolerance,
+    /// Trimmer full-track value, ohms.
+    pub trimmer: f64,
+    /// Trimmer track tolerance assumed.
+    pub trimmer_tolerance: Tolerance,
+    /// Where the nominal setting sits on the trimmer's travel (0 = end, 1 = full).
+    pub nominal_setting: f64,
+}
+
+/// The unknown part inferred from a measurement.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Inference {
+    /// The position that was unknown.
+    pub position: String,
+    /// Value with every known part nominal, SI units.
+    pub nominal: f64,
+    /// Lowest value consistent with the known parts' tolerances and the timer error.
+    pub min: f64,
+    /// Highest such value.
+    pub max: f64,
+    /// Nearest preferred value (E24 for resistors, E12 for capacitors) to the nominal.
+    pub nearest: f64,
+    /// The series `nearest` was taken from.
+    pub series: Series,
+    /// Every value of that series inside `[min, max]`.
+    pub candidates: Vec<f64>,
+}
+
+struct FlatStage {
+    form: Form,
+    steering: Steering,
+    k: Factors,
+    r1: usize,
+    r2: Option<usize>,
+    c: usize,
+    timer: usize,
+}
+
+struct FlatPos {
+    name: String,
+    combine: Combine,
+    net: Net,
+    start: usize,
+    len: usize,
+}
+
+/// A circuit flattened for fast evaluation: every piece in one list.
+pub struct Analysis {
+    stages: Vec<FlatStage>,
+    positions: Vec<FlatPos>,
+    pieces: Vec<Piece>,
+    pair: bool,
+}
+
+type Out = [f64; 5];
+
+impl Analysis {
+    /// Flatten `circuit`; fails when a stage cannot run under its conditions.
+    pub fn new(circuit: &Circuit) -> Result<Self, ToleranceError> {
+        let mut a = Analysis {
+            stages: Vec::new(),
+            positions: Vec::new(),
+            pieces: Vec::new(),
+            pair: matches!(circuit, Circuit::Pair { .. }),
+        };
+        match circuit {
+            Circuit::Single(s) => a.add_stage(s)?,
+            Circuit::Pair { pace, width } => {
+                if !pace.form.is_periodic() || width.form != Form::Monostable {
+                    return Err(ToleranceError::NoSolution(
+                        "a pair is a free-running pace stage and a monostable width stage".into(),
+                    ));
+                }
+                a.add_stage(pace)?;
+                a.add_stage(width)?;
+            }
+        }
+        Ok(a)
+    }
+
+    fn add_pos(&mut self, p: &Position) -> usize {
+        let start = self.pieces.len();
+        self.pieces.extend(p.pieces.iter().copied());
+        self.positions.push(FlatPos {
+            name: p.name.clone(),
+            combine: p.combine,
+            net: p.net.clone(),
+            start,
+            len: p.pieces.len(),
+        });
+        self.positions.len() - 1
+    }
+
+    fn add_stage(&mut self, s: &StageModel) -> Result<(), ToleranceError> {
+        let k = s.conditions.factors()?;
+        let r1 = self.add_pos(&s.r1);
+        let r2 = match (&s.r2, s.form.has_r2()) {
+            (Some(p), true) => Some(self.add_pos(p)),
+            (None, true) => {
+                return Err(ToleranceError::NoSolution(
+                    "this form needs a second resistor".into(),
+                ));
+            }
+            _ => None,
+        };
+        let c = self.add_pos(&s.c);
+        self.pieces.push(Piece {
+            value: 1.0,
+            tolerance: Tolerance {
+                minus: s.timer_error,
+                plus: s.timer_error,
+            },
+        });
+        let timer = self.pieces.len() - 1;
+        self.stages.push(FlatStage {
+            form: s.form,
+            steering: s.steering,
+            k,
+            r1,
+            r2,
+            c,
+            timer,
+        });
+        Ok(())
+    }
+
+    /// Every toleranced piece, parts then the stage's timer factor, stage by stage.
+    pub fn pieces(&self) -> &[Piece] {
+        &self.pieces
+    }
+
+    /// The quantities this design has.
+    pub fn quantities(&self) -> Vec<Quantity> {
+        if !self.pair
+            && self
+                .stages
+                .first()
+                .is_some_and(|s| s.form == Form::Monostable)
+        {
+            vec![Quantity::High]
+        } else {
+            Quantity::ALL.to_vec()
+        }
+    }
+
+    /// Index of the position called `name` (case-insensitive).
+    pub fn position(&self, name: &str) -> Result<usize, ToleranceError> {
+        self.positions
+            .iter()
+            .position(|p| p.name.eq_ignore_ascii_case(name))
+            .ok_or_else(|| ToleranceError::NoPosition(name.to_string()))
+    }
+
+    fn pos_value(&self, i: usize, vals: &[f64], replace: Option<(usize, f64)>) -> f64 {
+        if let Some((j, v)) = replace
+            && j == i
+        {
+            return v;
+        }
+        let p = &self.positions[i];
+        p.net.value(&vals[p.start..p.start + p.len], p.combine)
+    }
+
+    fn stage_times(&self, s: &FlatStage, vals: &[f64], rep: Option<(usize, f64)>) -> (f64, f64) {
+        let r1 = self.pos_value(s.r1, vals, rep);
+        let r2 = s.r2.map_or(0.0, |i| self.pos_value(i, vals, rep));
+        let c = self.pos_value(s.c, vals, rep);
+        let t = vals[s.timer];
+        let (h, l) = cycle_si(s.form, s.steering, r1, r2, c, &s.k);
+        (h * t, l.map_or(f64::NAN, |l| l * t))
+    }
+
+    /// Every quantity at these piece values (NaN where the design has none).
+    pub fn eval_at(&self, vals: &[f64]) -> [f64; 5] {
+        self.eval_with(vals, None)
+    }
+
+    fn eval_with(&self, vals: &[f64], rep: Option<(usize, f64)>) -> Out {
+        let Some(first) = self.stages.first() else {
+            return [f64::NAN; 5];
+        };
+        let (h, l) = self.stage_times(first, vals, rep);
+        if self.pair {
+            let Some(second) = self.stages.get(1) else {
+                return [f64::NAN; 5];
+            };
+            let period = h + l;
+            let (w, _) = self.stage_times(second, vals, rep);
+            return [w, period - w, period, 1.0 / period, w / period];
+        }
+        if first.form == Form::Monostable {
+            return [h, f64::NAN, f64::NAN, f64::NAN, f64::NAN];
+        }
+        let period = h + l;
+        [h, l, period, 1.0 / period, h / period]
+    }
+
+    fn nominal_vals(&self) -> Vec<f64> {
+        self.pieces.iter().map(|p| p.value).collect()
+    }
+
+    /// Every quantity at nominal values.
+    pub fn nominal(&self) -> [f64; 5] {
+        self.eval_at(&self.nominal_vals())
+    }
+
+    /// Visit every corner of the pieces listed in `free` (others at nominal).
+    fn corners(
+        &self,
+        free: &[usize],
+        visit: &mut dyn FnMut(&[f64]) -> Result<(), ToleranceError>,
+    ) -> Result<u64, ToleranceError> {
+        if free.len() > MAX_CORNER_PIECES {
+            return Err(ToleranceError::TooManyPieces {
+                pieces: free.len(),
+                max: MAX_CORNER_PIECES,
+            });
+        }
+        let bounds: Vec<(f64, f64)> = free.iter().map(|&i| self.pieces[i].bounds()).collect();
+        let mut vals = self.nominal_vals();
+        let n: u64 = 1 << free.len();
+        for mask in 0..n {
+            for (bit, (&i, &(lo, hi))) in free.iter().zip(&bounds).enumerate() {
+                vals[i] = if mask >> bit & 1 == 1 { hi } else { lo };
+            }
+            visit(&vals)?;
+        }
+        Ok(n)
+    }
+
+    /// Exact worst case over all `2^n` corners.
+    pub fn worst_case(&self) -> Result<WorstCase, ToleranceError> {
+        let qs = self.quantities();
+        let nom = self.nominal();
+        let mut lo = [f64::INFINITY; 5];
+        let mut hi = [f64::NEG_INFINITY; 5];
+        let free: Vec<usize> = (0..self.pieces.len()).collect();
+        let corners = self.corners(&free, &mut |v| {
+            let o = self.eval_at(v);
+            for q in &qs {
+                let i = q.index();
+                lo[i] = lo[i].min(o[i]);
+                hi[i] = hi[i].max(o[i]);
+            }
+            Ok(())
+        })?;
+        Ok(WorstCase {
+            corners,
+            pieces: self.pieces.len(),
+            intervals: qs
+                .iter()
+                .map(|&q| Interval {
+                    quantity: q,
+                    nominal: nom[q.index()],
+                    min: lo[q.index()],
+                    max: hi[q.index()],
+                })
+                .collect(),
+        })
+    }
+
+    /// Whether the worst case stays inside the target band.
+    pub fn verdict(&self, wc: &WorstCase, target: Target) -> Result<Verdict, ToleranceError> {
+        let interval = *wc
+            .get(target.quantity)
+            .ok_or(ToleranceError::NoQuantity(target.quantity.label()))?;
+        let (a, b) = target.band();
+        Ok(Verdict {
+            target,
+            guaranteed: interval.min >= a && interval.max <= b,
+            nominal_inside: interval.nominal >= a && interval.nominal <= b,
+            interval,
+        })
+    }
+
+    fn draw(&self, rng: &mut SmallRng, spread: Spread, vals: &mut [f64]) {
+        for (v, p) in vals.iter_mut().zip(&self.pieces) {
+            *v = match spread {
+                Spread::Uniform => {
+                    let (lo, hi) = p.bounds();
+                    if hi > lo {
+                        rng.random_range(lo..=hi)
+                    } else {
+                        lo
+                    }
+                }
+                Spread::Normal => {
+                    let z: f64 = StandardNormal.sample(rng);
+                    let side = if z < 0.0 {
+                        p.tolerance.minus.si()
+                    } else {
+                        p.tolerance.plus.si()
+                    };
+                    p.value * (1.0 + z * side / 3.0)
+                }
+            };
+        }
+    }
+
+    /// Monte Carlo over `samples` draws from `seed`.
+    pub fn monte_carlo(
+        &self,
+        samples: usize,
+        seed: u64,
+        spread: Spread,
+        target: Option<Target>,
+    ) -> Result<MonteCarlo, ToleranceError> {
+        if samples == 0 {
+            return Err(ToleranceError::NoSolution(
+                "Monte Carlo needs at least one sample".into(),
+            ));
+        }
+        if let Some(t) = target
+            && !self.quantities().contains(&t.quantity)
+        {
+            return Err(ToleranceError::NoQuantity(t.quantity.label()));
+        }
+        let qs = self.quantities();
+        let mut rng = SmallRng::seed_from_u64(seed);
+        let mut vals = self.nominal_vals();
+        let mut cols: Vec<Vec<f64>> = qs.iter().map(|_| Vec::with_capacity(samples)).collect();
+        let mut inside = 0usize;
+        for _ in 0..samples {
+            self.draw(&mut rng, spread, &mut vals);
+            let o = self.eval_at(&vals);
+            for (col, q) in cols.iter_mut().zip(&qs) {
+                col.push(o[q.index()]);
+            }
+            if let Some(t) = target {
+                let (a, b) = t.band();
+                let x = o[t.quantity.index()];
+                if x >= a && x <= b {
+                    inside += 1;
+                }
+            }
+        }
+        let stats = qs
+            .iter()
+            .zip(cols.iter_mut())
+            .map(|(&q, col)| summarise(q, col))
+            .collect();
+        Ok(MonteCarlo {
+            samples,
+            seed,
+            spread,
+            stats,
+            within_target: target.map(|_| inside as f64 / samples as f64),
+        })
+    }
+
+    /// Positions whose equal pieces average their random errors: (name, pieces).
+    pub fn averaging(&self) -> Vec<(String, usize)> {
+        self.positions
+            .iter()
+            .filter_map(|p| {
+                let pos = Position {
+                    name: p.name.clone(),
+                    combine: p.combine,
+                    net: p.net.clone(),
+                    pieces: self.pieces[p.start..p.start + p.len].to_vec(),
+                };
+                pos.equal_pieces().map(|n| (p.name.clone(), n))
+            })
+            .collect()
+    }
+
+    /// The value of position `pos` that makes quantity `q` equal `goal` with the other pieces
+    /// at `vals`. Times rise with every part, so a bisection in log space finds it.
+    fn solve_for(&self, pos: usize, q: Quantity, goal: f64, vals: &[f64]) -> Option<f64> {
+        let (mut lo, mut hi) = match self.positions[pos].combine {
+            Combine::Resistive => (1e-3f64.ln(), 1e13f64.ln()),
+            Combine::Capacitive => (1e-16f64.ln(), 1e4f64.ln()),
+        };
+        let at = |x: f64| self.eval_with(vals, Some((pos, x.exp())))[q.index()] - goal;
+        let (flo, fhi) = (at(lo), at(hi));
+        if !(flo.is_finite() && fhi.is_finite()) || flo.signum() == fhi.signum() {
+            return None;
+        }
+        let rising = fhi > flo;
+        for _ in 0..200 {
+            let mid = 0.5 * (lo + hi);
+            let fm = at(mid);
+            if (fm > 0.0) == rising {
+                hi = mid;
+            } else {
+                lo = mid;
+            }
+        }
+        Some((0.5 * (lo + hi)).exp())
+    }
+
+    /// Range of values of `pos` that make `q` equal `goal` over every corner of the other pieces.
+    fn solve_range(
+        &self,
+        pos: usize,
+        q: Quantity,
+        goal: f64,
+    ) -> Result<(f64, f64, f64), ToleranceError> {
+        if !self.quantities().contains(&q) {
+            return Err(ToleranceError::NoQuantity(q.label()));
+        }
+        if q == Quantity::Duty {
+            return Err(ToleranceError::NoSolution(
+                "solve for a time or a frequency, not the duty".into(),
+            ));
+        }
+        let p = &self.positions[pos];
+        let name = p.name.clone();
+        let none = || {
+            ToleranceError::NoSolution(format!(
+                "no value of {name} gives a {} of {goal} with the other parts",
+                q.label()
+            ))
+        };
+        let nominal = self
+            .solve_for(pos, q, goal, &self.nominal_vals())
+            .ok_or_else(none)?;
+        let free: Vec<usize> = (0..self.pieces.len())
+            .filter(|&i| i < p.start || i >= p.start + p.len)
+            .collect();
+        let (mut lo, mut hi) = (f64::INFINITY, f64::NEG_INFINITY);
+        self.corners(&free, &mut |v| {
+            let x = self.solve_for(pos, q, goal, v).ok_or_else(none)?;
+            lo = lo.min(x);
+            hi = hi.max(x);
+            Ok(())
+        })?;
+        Ok((nominal, lo, hi))
+    }
+
+    /// Which trimmer in series with which fixed E24 resistor lets position `pos` be set so that
+    /// `q` equals `goal` in every corner of the other parts and the timer error. The fixed part
+    /// keeps the tolerance of the position's pieces; the trimmer's track is taken at ±20 %.
+    pub fn trim(&self, pos: usize, q: Quantity, goal: f64) -> Result<TrimPlan, ToleranceError> {
+        let p = &self.positions[pos];
+        if p.combine != Combine::Resistive {
+            return Err(ToleranceError::NoSolution(format!(
+                "{} is a capacitor; trim a resistor position",
+                p.name
+            )));
+        }
+        let (need_nominal, need_min, need_max) = self.solve_range(pos, q, goal)?;
+        let fixed_tolerance = self.pieces[p.start..p.start + p.len]
+            .iter()
+            .map(|x| x.tolerance)
+            .max_by_key(|t| t.widest())
+            .unwrap_or(Tolerance {
+                minus: Ratio::ZERO,
+                plus: Ratio::ZERO,
+            });
+        let trimmer_tolerance =
+            Tolerance::symmetric_percent(TRIMMER_TOLERANCE_PERCENT).unwrap_or(fixed_tolerance);
+        let (flo, fhi) = fixed_tolerance.factors();
+        let (tlo, _) = trimmer_tolerance.factors();
+        // The fixed part at its highest must not exceed the lowest need (so the trimmer can
+        // always add); at its lowest plus the trimmer at its lowest track value must reach the
+        // highest need.
+        let fixed = floor_preferred(need_min / fhi, Series::E24).filter(|&f| f >= 1.0);
+        let base = fixed.map_or(0.0, |f| f * flo);
+        let trimmer = TRIMMER_VALUES
+            .iter()
+            .copied()
+            .find(|&t| base + t * tlo >= need_max)
+            .ok_or_else(|| {
+                ToleranceError::NoSolution(format!(
+                    "no stocked trimmer value (up to 10 MΩ) covers {} to {} Ω",
+                    need_min, need_max
+                ))
+            })?;
+        let nominal_setting = (need_nominal - fixed.unwrap_or(0.0)) / trimmer;
+        Ok(TrimPlan {
+            quantity: q,
+            goal,
+            need_min,
+            need_max,
+            need_nominal,
+            fixed,
+            fixed_tolerance,
+            trimmer,
+            trimmer_tolerance,
+            nominal_setting,
+        })
+    }
+
+    /// Infer the value of position `pos` (its pieces are ignored) from a measured quantity.
+    /// The measurement itself is taken as exact.
+    pub fn infer(
+        &self,
+        pos: usize,
+        q: Quantity,
+        measured: f64,
+    ) -> Result<Inference, ToleranceError> {
+        let (nominal, min, max) = self.solve_range(pos, q, measured)?;
+        let p = &self.positions[pos];
+        let series = match p.combine {
+            Combine::Resistive => Series::E24,
+            Combine::Capacitive => Series::E12,
+        };
+        let nearest = nearest_preferred(nominal, series).unwrap_or(nominal);
+        Ok(Inference {
+            position: p.name.clone(),
+            nominal,
+            min,
+            max,
+            nearest,
+            series,
+            candidates: preferred_between(min, max, series),
+        })
+    }
+}
+
+fn summarise(q: Quantity, col: &mut [f64]) -> Stats {
+    let n = col.len() as f64;
+    let mean = col.iter().sum::<f64>() / n;
+    let var = col.iter().map(|x| (x - mean).powi(2)).sum::<f64>() / (n - 1.0).max(1.0);
+    col.sort_by(f64::total_cmp);
+    let pct = |p: f64| {
+        let i = ((p / 100.0) * (col.len() - 1) as f64).round() as usize;
+        col.get(i).copied().unwrap_or(f64::NAN)
+    };
+    Stats {
+        quantity: q,
+        mean,
+        std_dev: var.sqrt(),
+        p1: pct(1.0),
+        p50: pct(50.0),
+        p99: pct(99.0),
+    }
+}
+
+fn preferred_values_around(x: f64, series: Series) -> Vec<f64> {
+    if !(x.is_finite() && x > 0.0) {
+        return Vec::new();
+    }
+    let d = x.log10().floor() as i32;
+    let mut out = Vec::new();
+    for dec in d - 1..=d + 1 {
+        for m in series.mantissas() {
+            out.push(f64::from(m) / 100.0 * 10f64.powi(dec));
+        }
+    }
+    out
+}
+
+/// The largest preferred value of `series` not above `x` (within a part in 10^9).
+pub fn floor_preferred(x: f64, series: Series) -> Option<f64> {
+    preferred_values_around(x, series)
+        .into_iter()
+        .filter(|&v| v <= x * (1.0 + 1e-9))
+        .max_by(f64::total_cmp)
+}
+
+/// The preferred value of `series` nearest `x` on a log scale.
+pub fn nearest_preferred(x: f64, series: Series) -> Option<f64> {
+    preferred_values_around(x, series)
+        .into_iter()
+        .min_by(|a, b| (a / x).ln().abs().total_cmp(&(b / x).ln().abs()))
+}
+
+/// Every preferred value of `series` in `[lo, hi]`.
+pub fn preferred_between(lo: f64, hi: f64, series: Series) -> Vec<f64> {
+    if !(lo.is_finite() && hi.is_finite() && lo > 0.0 && hi >= lo) {
+        return Vec::new();
+    }
+    let mut out = Vec::new();
+    let (d0, d1) = (lo.log10().floor() as i32, hi.log10().floor() as i32);
+    for dec in d0..=d1.min(d0 + 12) {
+        for m in series.mantissas() {
+            let v = f64::from(m) / 100.0 * 10f64.powi(dec);
+            if v >= lo * (1.0 - 1e-9) && v <= hi * (1.0 + 1e-9) {
+                out.push(v);
+            }
+        }
+    }
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::network::parse_net;
+    use crate::units::Volts;
+
+    fn tol(p: f64) -> Tolerance {
+        Tolerance::symmetric_percent(p).expect("tol")
+    }
+    fn cond() -> Conditions {
+        Conditions::ideal(Volts::from_si(9.0).expect("v"))
+    }
+    fn pos(name: &str, combine: Combine, expr: &str, t: f64) -> Position {
+        let (net, vals) = parse_net(expr, &mut |s: &str| s.parse::<f64>()).expect("net");
+        Position {
+            name: name.into(),
+            combine,
+            net,
+            pieces: vals
+                .into_iter()
+                .map(|value| Piece {
+                    value,
+                    tolerance: tol(t),
+                })
+                .collect(),
+        }
+    }
+    fn astable(r1: &str, r2: &str, c: &str, t: f64, timer: f64) -> Analysis {
+        Analysis::new(&Circuit::Single(Box::new(StageModel {
+            form: Form::Astable,
+            steering: Steering::TwoDiode,
+            r1: pos("R1", Combine::Resistive, r1, t),
+            r2: Some(pos("R2", Combine::Resistive, r2, t)),
+            c: pos("C", Combine::Capacitive, c, t),
+            conditions: cond(),
+            timer_error: Ratio::from_percent(timer).expect("r"),
+        })))
+        .expect("analysis")
+    }
+    fn mono(r: &str, rt: f64, c: &str, ct: f64) -> Analysis {
+        Analysis::new(&Circuit::Single(Box::new(StageModel {
+            form: Form::Monostable,
+            steering: Steering::TwoDiode,
+            r1: pos("R", Combine::Resistive, r, rt),
+            r2: None,
+            c: pos("C", Combine::Capacitive, c, ct),
+            conditions: cond(),
+            timer_error: Ratio::ZERO,
+        })))
+        .expect("analysis")
+    }
+
+    #[test]
+    fn five_percent_of_one_megohm() {
+        // common practice: a 5 % part of 1 MΩ lies between 950 kΩ and 1.05 MΩ.
+        let p = Piece {
+            value: 1e6,
+            tolerance: tol(5.0),
+        };
+        let (lo, hi) = p.bounds();
+        assert!((lo - 950e3).abs() < 1e-6 && (hi - 1.05e6).abs() < 1e-6);
+        // And a one-shot of that part with an exact capacitor spans ±5 % of its width.
+        let a = mono("1e6", 5.0, "1e-6", 0.0);
+        let i = *a
+            .worst_case()
+            .expect("wc")
+            .get(Quantity::High)
+            .expect("high");
+        assert!((i.min / i.nominal - 0.95).abs() < 1e-9);
+        assert!((i.max / i.nominal - 1.05).abs() < 1e-9);
+    }
+
+    #[test]
+    fn corners_are_never_exceeded_by_a_dense_grid() {
+        // Exactness of the corner search: no interior point may fall outside it.
+        let a = astable("2200+1000", "10000||47000", "1e-8", 5.0, 2.0);
+        let wc = a.worst_case().expect("wc");
+        assert_eq!(wc.corners, 1 << a.pieces().len());
+        let n = a.pieces().len();
+        let levels = 4usize;
+        let total = levels.pow(n as u32);
+        let mut vals = vec![0.0; n];
+        let mut attained = [false; 5];
+        for idx in 0..total {
+            let mut k = idx;
+            for (i, v) in vals.iter_mut().enumerate() {
+                let (lo, hi) = a.pieces()[i].bounds();
+                *v = lo + (hi - lo) * (k % levels) as f64 / (levels - 1) as f64;
+                k /= levels;
+            }
+            let o = a.eval_at(&vals);
+            for (j, q) in wc.intervals.iter().enumerate() {
+                let x = o[q.quantity as usize];
+                let eps = 1e-12 * x.abs();
+                assert!(
+                    x >= q.min - eps && x <= q.max + eps,
+                    "{:?} {x} outside",
+                    q.quantity
+                );
+                if (x - q.min).abs() <= eps || (x - q.max).abs() <= eps {
+                    attained[j] = true;
+                }
+            }
+        }
+        assert!(
+            attained.iter().all(|&b| b),
+            "grid corners reach the extremes"
+        );
+        // Duty's extremes pair R1 high with R2 low: a linear guess that moves all pieces
+        // together would miss them. Check the interval is wider than that.
+        let d = wc.get(Quantity::Duty).expect("duty");
+        let all_hi = a.pieces().iter().map(|p| p.bounds().1).collect::<Vec<_>>();
+        let together = a.eval_at(&all_hi)[Quantity::Duty as usize];
+        assert!(d.max > together + 1e-6);
+    }
+
+    #[test]
+    fn monte_carlo_is_seeded_and_inside_worst_case() {
+        let a = astable("4700", "68000", "1e-8", 1.0, 2.25);
+        let m1 = a.monte_carlo(5000, 7, Spread::Uniform, None).expect("mc");
+        let m2 = a.monte_carlo(5000, 7, Spread::Uniform, None).expect("mc");
+        let m3 = a.monte_carlo(5000, 8, Spread::Uniform, None).expect("mc");
+        assert_eq!(m1, m2);
+        assert_ne!(m1, m3);
+        let wc = a.worst_case().expect("wc");
+        for s in &m1.stats {
+            let i = wc.get(s.quantity).expect("q");
+            assert!(s.p1 >= i.min && s.p99 <= i.max && s.p1 <= s.p50 && s.p50 <= s.p99);
+            assert!((s.mean - i.nominal).abs() / i.nominal < 0.01);
+        }
+        let n = a.monte_carlo(5000, 7, Spread::Normal, None).expect("mc");
+        let (u, g) = (
+            m1.get(Quantity::Period).expect("p").std_dev,
+            n.get(Quantity::Period).expect("p").std_dev,
+        );
+        // Uniform over ±t has σ = t/√3; normal with t = 3σ has σ = t/3: ratio ≈ 0.58.
+        assert!(g < u && g / u > 0.45 && g / u < 0.7, "{g} vs {u}");
+    }
+
+    #[test]
+    fn equal_parts_in_series_halve_the_random_spread() {
+        // common practice (averaging of independent errors): n equal parts in series spread
+        // 1/√n as much as one part of the same tolerance; for n = 4, one half.
+        let four = mono("4000+4000+4000+4000", 5.0, "1e-6", 0.0);
+        let one = mono("16000", 5.0, "1e-6", 0.0);
+        let s4 = four
+            .monte_carlo(20000, 1, Spread::Uniform, None)
+            .expect("mc");
+        let s1 = one
+            .monte_carlo(20000, 1, Spread::Uniform, None)
+            .expect("mc");
+        let ratio =
+            s4.get(Quantity::High).expect("h").std_dev / s1.get(Quantity::High).expect("h").std_dev;
+        assert!((ratio - 0.5).abs() < 0.03, "ratio {ratio}");
+        assert_eq!(four.averaging(), vec![("R".to_string(), 4)]);
+        assert!(one.averaging().is_empty());
+        // The worst case does not shrink: all four can sit at the same limit.
+        let w4 = four.worst_case().expect("wc");
+        let w1 = one.worst_case().expect("wc");
+        let (a, b) = (
+            w4.get(Quantity::High).expect("h"),
+            w1.get(Quantity::High).expect("h"),
+        );
+        assert!((a.max / a.nominal - b.max / b.nominal).abs() < 1e-9);
+    }
+
+    #[test]
+    fn target_verdict() {
+        let a = astable("4700", "68000", "1e-8", 1.0, 0.0);
+        let wc = a.worst_case().expect("wc");
+        let f = wc.get(Quantity::Frequency).expect("f").nominal;
+        let t = |w: f64| Target {
+            quantity: Quantity::Frequency,
+            value: f,
+            within: Ratio::from_percent(w).expect("r"),
+        };
+        // 1 % parts everywhere: frequency can move by about 2 %, so ±5 % is guaranteed and ±1 %
+        // is not.
+        assert!(a.verdict(&wc, t(5.0)).expect("v").guaranteed);
+        let v = a.verdict(&wc, t(1.0)).expect("v");
+        assert!(!v.guaranteed && v.nominal_inside);
+        let m = a
+            .monte_carlo(2000, 1, Spread::Uniform, Some(t(1.0)))
+            .expect("mc");
+        let share = m.within_target.expect("share");
+        assert!(share > 0.3 && share < 1.0, "{share}");
+    }
+
+    #[test]
+    fn inverse_recovers_a_known_capacitor() {
+        // Build the "measurement" from a known 22 nF and recover it.
+        let a = astable("4700", "68000", "22e-9", 1.0, 0.0);
+        let f = a.nominal()[Quantity::Frequency as usize];
+        let unknown = astable("4700", "68000", "1", 1.0, 0.0);
+        let c = unknown.position("C").expect("pos");
+        let inf = unknown.infer(c, Quantity::Frequency, f).expect("infer");
+        assert!(
+            (inf.nominal - 22e-9).abs() / 22e-9 < 1e-9,
+            "{}",
+            inf.nominal
+        );
+        assert!((inf.nearest - 22e-9).abs() < 1e-15);
+        // 1 % resistors: C between about 22/1.01 and 22/0.99 nF.
+        assert!(inf.min < 22e-9 && inf.max > 22e-9);
+        assert!((inf.max / inf.min - 1.01 / 0.99).abs() < 1e-6);
+        assert!(inf.candidates.iter().any(|&v| (v - 22e-9).abs() < 1e-15));
+    }
+
+    #[test]
+    fn inverse_recovers_r2_and_refuses_the_impossible() {
+        let a = astable("4700", "33000", "1e-8", 1.0, 0.0);
+        let period = a.nominal()[Quantity::Period as usize];
+        let unknown = astable("4700", "1", "1e-8", 1.0, 0.0);
+        let r2 = unknown.position("R2").expect("pos");
+        let inf = unknown.infer(r2, Quantity::Period, period).expect("infer");
+        assert!((inf.nominal - 33000.0).abs() < 1e-3);
+        // A period shorter than R1 alone allows has no R2.
+        assert!(unknown.infer(r2, Quantity::Period, 1e-9).is_err());
+    }
+
+    #[test]
+    fn trim_covers_the_whole_spread() {
+        let a = mono("100000", 5.0, "1e-6", 10.0);
+        let goal = 0.1;
+        let r = a.position("R").expect("pos");
+        let plan = a.trim(r, Quantity::High, goal).expect("trim");
+        // Re-check in our own terms: the fixed part's highest is below every need, and fixed
+        // lowest plus trimmer lowest reaches every need.
+        let (flo, fhi) = plan.fixed_tolerance.factors();
+        let fixed = plan.fixed.expect("fixed part");
+        assert!(fixed * fhi <= plan.need_min + 1e-9);
+        assert!(fixed * flo + plan.trimmer * 0.8 >= plan.need_max);
+        assert!(TRIMMER_VALUES.contains(&plan.trimmer));
+        // Need range: goal/(ln3·C) over C ±10 %: 91.0 kΩ/1.1 … /0.9.
+        let centre = goal / (3f64.ln() * 1e-6);
+        assert!((plan.need_max / plan.need_min - 1.1 / 0.9).abs() < 1e-6);
+        assert!((plan.need_nominal - centre).abs() / centre < 1e-9);
+        // A smaller trimmer from the list would not do.
+        let idx = TRIMMER_VALUES
+            .iter()
+            .position(|&t| t == plan.trimmer)
+            .expect("idx");
+        if idx > 0 {
+            assert!(fixed * flo + TRIMMER_VALUES[idx - 1] * 0.8 < plan.need_max);
+        }
+        assert!(
+            a.trim(a.position("C").expect("c"), Quantity::High, goal)
+                .is_err()
+        );
+    }
+
+    #[test]
+    fn preferred_value_helpers() {
+        // IEC 60063 E24 contains 4.7, 5.1, 6.8; E12 contains 2.2, 2.7.
+        assert_eq!(floor_preferred(5000.0, Series::E24), Some(4700.0));
+        assert_eq!(
+            nearest_preferred(2.3e-8, Series::E12).map(|v| (v * 1e10).round()),
+            Some(220.0)
+        );
+        let between = preferred_between(4500.0, 7000.0, Series::E24);
+        assert_eq!(between, vec![4700.0, 5100.0, 5600.0, 6200.0, 6800.0]);
+    }
+
+    #[test]
+    fn pair_duty_is_width_over_period() {
+        let pace = StageModel {
+            form: Form::Astable,
+            steering: Steering::TwoDiode,
+            r1: pos("R1", Combine::Resistive, "1000", 1.0),
+            r2: Some(pos("R2", Combine::Resistive, "10000", 1.0)),
+            c: pos("C1", Combine::Capacitive, "1e-7", 5.0),
+            conditions: cond(),
+            timer_error: Ratio::ZERO,
+        };
+        let width = StageModel {
+            form: Form::Monostable,
+            steering: Steering::TwoDiode,
+            r1: pos("R3", Combine::Resistive, "10000", 1.0),
+            r2: None,
+            c: pos("C2", Combine::Capacitive, "1e-8", 5.0),
+            conditions: cond(),
+            timer_error: Ratio::ZERO,
+        };
+        let a = Analysis::new(&Circuit::Pair {
+            pace: Box::new(pace),
+            width: Box::new(width),
+        })
+        .expect("pair");
+        let o = a.nominal();
+        let period = 2f64.ln() * 21e3 * 1e-7;
+        let w = 3f64.ln() * 1e4 * 1e-8;
+        assert!((o[Quantity::Period as usize] - period).abs() < 1e-12);
+        assert!((o[Quantity::Duty as usize] - w / period).abs() < 1e-9);
+    }
+}
