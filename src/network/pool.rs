@@ -180,7 +180,7 @@ impl Pool {
 
     /// Hand every canonical network of exactly `n` pieces with value in `[lo, hi]` that fits on
     /// top of `used` to `f`, which may narrow the window or stop. Returns false when stopped
-    /// (by the visitor or the deadline).
+    /// (by the visitor or the deadline); an empty window ends the walk normally.
     pub fn walk(
         &self,
         n: usize,
@@ -198,6 +198,7 @@ impl Pool {
             lo,
             hi,
             stop: false,
+            aborted: false,
             used,
             f,
             deadline,
@@ -222,7 +223,7 @@ impl Pool {
             }
             _ => {}
         }
-        !w.stop
+        !w.aborted
     }
 }
 
@@ -231,6 +232,7 @@ struct Walk<'p, 'u, 'f, 'g> {
     lo: f64,
     hi: f64,
     stop: bool,
+    aborted: bool,
     used: &'u mut [u32],
     f: &'f mut Visitor<'g>,
     deadline: Option<Instant>,
@@ -242,6 +244,7 @@ impl Walk<'_, '_, '_, '_> {
         self.ticks = self.ticks.wrapping_add(1);
         if self.ticks % 4096 == 0 && self.deadline.is_some_and(|d| Instant::now() >= d) {
             self.stop = true;
+            self.aborted = true;
         }
         self.stop
     }
@@ -259,8 +262,18 @@ impl Walk<'_, '_, '_, '_> {
             Step::Go(lo, hi) => {
                 self.lo = lo;
                 self.hi = hi;
+                // An empty window can hold nothing more: finish early, not aborted.
+                if lo
+                    .partial_cmp(&hi)
+                    .is_none_or(|o| o == std::cmp::Ordering::Greater)
+                {
+                    self.stop = true;
+                }
             }
-            Step::Stop => self.stop = true,
+            Step::Stop => {
+                self.stop = true;
+                self.aborted = true;
+            }
         }
     }
 

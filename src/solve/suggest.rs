@@ -1,0 +1,1 @@
+//! Advice when nothing in stock meets the target (to be filled in).
