@@ -1,1 +1,3 @@
 //! Pure renderers: tables, JSON, CSV, pictures, netlists.
+
+pub mod find;

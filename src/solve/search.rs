@@ -277,6 +277,25 @@ struct Ctx<'a> {
     family: &'a Family,
 }
 
+/// The operating conditions of a stage: the settings' conditions, plus the family's output drop
+/// for the output-driven square wave (its resistor is fed from the output).
+pub fn stage_conditions(g: &StageGoal, s: &Settings) -> Conditions {
+    let mut cond = s.conditions;
+    if let StageGoal::Square { .. } = g {
+        cond.output_high_drop = Volts::from_si(s.family.output_high_drop).unwrap_or(Volts::ZERO);
+    }
+    cond
+}
+
+/// The timing factors of a stage and the timer's own initial error for its form.
+pub fn stage_factors(g: &StageGoal, s: &Settings) -> Result<(Factors, f64), SolveError> {
+    let ie = match g {
+        StageGoal::Pulse { .. } => s.family.initial_error.0,
+        _ => s.family.initial_error.1,
+    };
+    Ok((stage_conditions(g, s).factors()?, ie))
+}
+
 fn item(row: usize, p: &Part, value: f64) -> Item {
     let (fl, fh) = p.tolerance.factors();
     Item {
@@ -318,18 +337,11 @@ impl<'a> Ctx<'a> {
             Goal::Value { kind, target } => Some((*kind, *target)),
             Goal::Stages(gs) => {
                 for g in gs {
-                    let mut cond = s.conditions;
-                    if let StageGoal::Square { .. } = g {
-                        cond.output_high_drop =
-                            Volts::from_si(s.family.output_high_drop).unwrap_or(Volts::ZERO);
-                    }
-                    let ie = match g {
-                        StageGoal::Pulse { .. } => s.family.initial_error.0,
-                        _ => s.family.initial_error.1,
-                    };
+                    let cond = stage_conditions(g, s);
+                    let (f, ie) = stage_factors(g, s)?;
                     stages.push(Plan {
                         goal: *g,
-                        f: cond.factors()?,
+                        f,
                         cond,
                         ie,
                     });
