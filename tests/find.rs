@@ -224,3 +224,61 @@ fn guarantee_needs_the_worst_case_inside() {
     ])
     .code(1);
 }
+
+#[test]
+fn time_limit_is_reported_never_silent() {
+    // A full E24/E12 assortment (IEC 60063 base values) and a target no network can reach: the
+    // four-piece search cannot finish in 0.3 s, and the output must say so.
+    const E24: [f64; 24] = [
+        1.0, 1.1, 1.2, 1.3, 1.5, 1.6, 1.8, 2.0, 2.2, 2.4, 2.7, 3.0, 3.3, 3.6, 3.9, 4.3, 4.7, 5.1,
+        5.6, 6.2, 6.8, 7.5, 8.2, 9.1,
+    ];
+    let mut csv = String::from("kind,value,tolerance,technology,bin,quantity\n");
+    for d in 0..7 {
+        for m in E24 {
+            csv += &format!("resistor,{},1%,metal_film,R,10\n", m * 10f64.powi(d));
+        }
+    }
+    for d in -11..-3 {
+        for m in E24.iter().step_by(2) {
+            csv += &format!("capacitor,{:e},5%,film,C,5\n", m * 10f64.powi(d));
+        }
+    }
+    let b = Bench::new();
+    let p = b.write("full.csv", &csv);
+    let s = p.to_str().expect("path");
+    let j = b
+        .run(&[
+            "--json",
+            "find",
+            "pulse",
+            "123.456789ms",
+            "--tol",
+            "0.0000001%",
+            "--pieces",
+            "4",
+            "--time-limit",
+            "0.3s",
+            "--stock",
+            s,
+        ])
+        .code(1)
+        .json();
+    assert_eq!(j["complete"], false);
+    assert!(j["no_design_below"].as_u64().expect("bound") >= 2);
+    b.run(&[
+        "find",
+        "pulse",
+        "123.456789ms",
+        "--tol",
+        "0.0000001%",
+        "--pieces",
+        "4",
+        "--time-limit",
+        "0.3s",
+        "--stock",
+        s,
+    ])
+    .code(1)
+    .stdout_has("Search stopped at the time limit");
+}

@@ -35,7 +35,12 @@ fn unit(kind: Kind) -> &'static str {
 }
 
 fn pct(x: f64) -> String {
-    format!("{:.3} %", x * 100.0)
+    let p = x * 100.0;
+    if p != 0.0 && p.abs() < 0.001 {
+        format!("{p:.1e} %")
+    } else {
+        format!("{p:.3} %")
+    }
 }
 
 /// A part as written in a network: `33 kΩ`.
@@ -178,9 +183,15 @@ pub fn text(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
         writeln!(
             out,
             "Search stopped at the time limit after {:.1} s: no design with fewer than {} \
-             pieces exists; the designs below are the best found so far, and a better one \
-             with {} or more pieces may exist.",
-            o.seconds, o.no_design_below, o.no_design_below
+             pieces exists; {}",
+            o.seconds,
+            o.no_design_below,
+            if o.designs.is_empty() {
+                "nothing was found in the time given."
+            } else {
+                "the designs below are the best found so far, and one with smaller error \
+                 (and as few pieces as that bound) may exist."
+            }
         )?;
     }
     for (i, d) in o.designs.iter().enumerate() {

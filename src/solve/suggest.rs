@@ -15,7 +15,7 @@ use crate::store::{Kind, Part, Technology, Value};
 use crate::units::eseries::Series;
 use crate::units::{Farads, Ohms, Tolerance, Volts};
 use serde::Serialize;
-use std::time::Duration;
+use std::time::{Duration, Instant};
 
 /// One part to buy and the design it makes possible.
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -68,11 +68,14 @@ pub fn advise(
     s: &Settings,
     series: Series,
 ) -> Result<Advice, SolveError> {
-    let short = Some(
-        s.time_limit
-            .unwrap_or(Duration::from_secs(10))
-            .min(Duration::from_secs(5)),
-    );
+    // One budget for all the advice: the search's own time limit, at most five seconds.
+    let budget = s
+        .time_limit
+        .unwrap_or(Duration::from_secs(10))
+        .min(Duration::from_secs(5));
+    let end = Instant::now() + budget;
+    let left = || Some(end.saturating_duration_since(Instant::now()));
+    let short = left();
     let closest_settings = Settings {
         tol: 0.999,
         rank: Rank::SmallestError,
@@ -140,6 +143,13 @@ pub fn advise(
         ..s.clone()
     };
     for (kind, v) in tries {
+        if Instant::now() >= end {
+            break;
+        }
+        let quick = Settings {
+            time_limit: left(),
+            ..quick.clone()
+        };
         let mut with = parts.to_vec();
         with.push(bought(kind, v, s));
         let out = solve(&with, goal, &quick)?;
