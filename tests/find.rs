@@ -1,1 +1,284 @@
-//! (to be written)
+//! `onhand find` end to end, on small invented drawers given with `--stock FILE`.
+
+use crate::util::Bench;
+
+/// An invented bench drawer (demo data).
+const DRAWER: &str = "\
+kind,value,tolerance,technology,voltage,bin,quantity,held
+resistor,10k,1%,metal_film,,A1,4,0
+resistor,22k,1%,metal_film,,A2,2,1
+resistor,33k,5%,carbon_film,,A3,3,0
+resistor,4.7k,1%,metal_film,,A4,2,0
+resistor,1k,1%,metal_film,,A5,5,0
+resistor,100k,1%,metal_film,,A6,2,0
+capacitor,10n,5%,film,100,C1,3,0
+capacitor,2.2n,5%,c0g,50,C3,2,0
+capacitor,10u,20%,electrolytic,16,C4,2,0
+capacitor,1u,10%,film,63,C5,2,0
+";
+
+fn drawer() -> (Bench, String) {
+    let b = Bench::new();
+    let p = b.write("drawer.csv", DRAWER);
+    let s = p.to_str().expect("utf-8 path").to_string();
+    (b, s)
+}
+
+#[test]
+fn value_substitute_in_series() {
+    let (b, s) = drawer();
+    let r = b
+        .run(&["--json", "find", "value", "32k", "--stock", &s])
+        .ok();
+    let j = r.json();
+    let d = &j["designs"][0];
+    // common practice: 22 kΩ + 10 kΩ = 32 kΩ in series, exact, two pieces.
+    assert_eq!(d["pieces"], 2);
+    assert!(d["error"].as_f64().expect("error") < 1e-9);
+    let net = d["positions"][0]["network"].as_str().expect("network");
+    assert!(net == "10 kΩ + 22 kΩ" || net == "22 kΩ + 10 kΩ", "{net}");
+}
+
+#[test]
+fn held_stock_is_left_alone_unless_asked() {
+    let (b, s) = drawer();
+    // common practice: two equal resistors in parallel halve: 22 kΩ ∥ 22 kΩ = 11 kΩ exactly;
+    // but one of the two 22 kΩ is held by a reservation.
+    let nets = |extra: &[&str]| -> Vec<String> {
+        let mut args = vec![
+            "--json",
+            "find",
+            "value",
+            "11k",
+            "--pieces",
+            "2",
+            "--alternatives",
+            "9",
+        ];
+        args.extend_from_slice(extra);
+        args.extend_from_slice(&["--stock", &s]);
+        let j = b.run(&args).ok().json();
+        j["designs"]
+            .as_array()
+            .expect("designs")
+            .iter()
+            .map(|d| {
+                d["positions"][0]["network"]
+                    .as_str()
+                    .expect("net")
+                    .to_string()
+            })
+            .collect()
+    };
+    assert!(!nets(&[]).iter().any(|n| n == "22 kΩ ∥ 22 kΩ"));
+    assert!(
+        nets(&["--include-held"])
+            .iter()
+            .any(|n| n == "22 kΩ ∥ 22 kΩ")
+    );
+}
+
+#[test]
+fn one_shot_from_the_drawer() {
+    let (b, s) = drawer();
+    // DESIGN physics table: t = ln 3 · R · C; 100 kΩ · 1 µF · 1.0986 = 109.86 ms.
+    let r = b
+        .run(&["find", "pulse", "109.9ms", "--stock", &s])
+        .ok()
+        .stdout_has("R     = 100 kΩ")
+        .stdout_has("C     = 1 µF")
+        .stdout_has("A6")
+        .stdout_has("C5");
+    assert!(r.stdout.contains("Design 1 of"));
+}
+
+#[test]
+fn electrolytic_only_when_allowed() {
+    let (b, s) = drawer();
+    // 100 kΩ · 10 µF · ln 3 = 1.0986 s needs the electrolytic.
+    let j = b
+        .run(&[
+            "--json", "find", "pulse", "1.0986s", "--pieces", "1", "--stock", &s,
+        ])
+        .code(1)
+        .json();
+    assert_eq!(j["found"], false);
+    let j = b
+        .run(&[
+            "--json",
+            "find",
+            "pulse",
+            "1.0986s",
+            "--pieces",
+            "1",
+            "--tech",
+            "film,electrolytic",
+            "--stock",
+            &s,
+        ])
+        .ok()
+        .json();
+    let stages = &j["designs"][0]["stages"][0]["findings"];
+    assert!(
+        stages
+            .as_array()
+            .expect("findings")
+            .iter()
+            .any(|f| f["code"] == "electrolytic"),
+        "{stages}"
+    );
+}
+
+#[test]
+fn astable_duty_window_is_respected() {
+    let (b, s) = drawer();
+    let j = b
+        .run(&[
+            "--json", "find", "astable", "1kHz", "--duty", "60..70%", "--tol", "5%", "--stock", &s,
+        ])
+        .ok()
+        .json();
+    for d in j["designs"].as_array().expect("designs") {
+        let q = d["stages"][0]["quantities"]
+            .as_array()
+            .expect("quantities")
+            .iter()
+            .find(|q| q["name"] == "duty")
+            .expect("duty")
+            .clone();
+        let duty = q["nominal"].as_f64().expect("duty");
+        assert!((0.6..=0.7).contains(&duty), "duty {duty}");
+    }
+}
+
+#[test]
+fn nothing_fits_exits_1_with_closest_and_purchase() {
+    let (b, s) = drawer();
+    let r = b
+        .run(&["find", "value", "56.5k", "--pieces", "2", "--stock", &s])
+        .code(1)
+        .stdout_has("Nothing in stock meets the target")
+        .stdout_has("Closest from stock");
+    // IEC 60063 E24 holds 56 (within 1 % of 56.5 kΩ).
+    assert!(
+        r.stdout.contains("Buy one value to fix it: 56 kΩ"),
+        "{}",
+        r.stdout
+    );
+}
+
+#[test]
+fn pair_width_must_stay_below_period() {
+    let (b, s) = drawer();
+    b.run(&[
+        "find", "pair", "--freq", "1kHz", "--width", "2ms", "--stock", &s,
+    ])
+    .code(2)
+    .stderr_has("below the period");
+}
+
+#[test]
+fn dual_binds_stock_across_stages() {
+    // Only one 100 kΩ and one 1 µF: two 109.86 ms one-shots cannot both use them.
+    let b = Bench::new();
+    let p = b.write(
+        "d.csv",
+        "value,tolerance,technology,voltage,bin,quantity\n100k,1%,metal_film,,R1,1\n1uF,5%,film,63,C1,1\n",
+    );
+    let s = p.to_str().expect("path");
+    b.run(&["find", "pulse", "109.86ms", "--stock", s]).ok();
+    b.run(&[
+        "find",
+        "dual",
+        "pulse:109.86ms",
+        "pulse:109.86ms",
+        "--stock",
+        s,
+    ])
+    .code(1);
+}
+
+#[test]
+fn missing_stock_is_an_error() {
+    Bench::new()
+        .run(&["find", "pulse", "1ms"])
+        .code(2)
+        .stderr_has("--stock");
+}
+
+#[test]
+fn guarantee_needs_the_worst_case_inside() {
+    let (b, s) = drawer();
+    // 1 µF ±10 % can never guarantee ±5 %.
+    b.run(&[
+        "find",
+        "pulse",
+        "109.9ms",
+        "--tol",
+        "5%",
+        "--guarantee",
+        "--pieces",
+        "1",
+        "--stock",
+        &s,
+    ])
+    .code(1);
+}
+
+#[test]
+fn time_limit_is_reported_never_silent() {
+    // A full E24/E12 assortment (IEC 60063 base values) and a target no network can reach: the
+    // four-piece search cannot finish in 0.3 s, and the output must say so.
+    const E24: [f64; 24] = [
+        1.0, 1.1, 1.2, 1.3, 1.5, 1.6, 1.8, 2.0, 2.2, 2.4, 2.7, 3.0, 3.3, 3.6, 3.9, 4.3, 4.7, 5.1,
+        5.6, 6.2, 6.8, 7.5, 8.2, 9.1,
+    ];
+    let mut csv = String::from("kind,value,tolerance,technology,bin,quantity\n");
+    for d in 0..7 {
+        for m in E24 {
+            csv += &format!("resistor,{},1%,metal_film,R,10\n", m * 10f64.powi(d));
+        }
+    }
+    for d in -11..-3 {
+        for m in E24.iter().step_by(2) {
+            csv += &format!("capacitor,{:e},5%,film,C,5\n", m * 10f64.powi(d));
+        }
+    }
+    let b = Bench::new();
+    let p = b.write("full.csv", &csv);
+    let s = p.to_str().expect("path");
+    let j = b
+        .run(&[
+            "--json",
+            "find",
+            "pulse",
+            "123.456789ms",
+            "--tol",
+            "0.0000001%",
+            "--pieces",
+            "4",
+            "--time-limit",
+            "0.3s",
+            "--stock",
+            s,
+        ])
+        .code(1)
+        .json();
+    assert_eq!(j["complete"], false);
+    assert!(j["no_design_below"].as_u64().expect("bound") >= 2);
+    b.run(&[
+        "find",
+        "pulse",
+        "123.456789ms",
+        "--tol",
+        "0.0000001%",
+        "--pieces",
+        "4",
+        "--time-limit",
+        "0.3s",
+        "--stock",
+        s,
+    ])
+    .code(1)
+    .stdout_has("Search stopped at the time limit");
+}

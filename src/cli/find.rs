@@ -1,13 +1,594 @@
-//! `onhand find`: designs from the drawer. (Built in the search work.)
+//! `onhand find`: designs from the drawer with the fewest pieces.
+//!
+//! Converts the arguments once into a [`Goal`] and [`Settings`], loads the stock snapshot
+//! ([`load_stock`]), runs the pure search, and hands the outcome to `report::find`. Exit 0 when
+//! a design is found, 1 when nothing in stock meets the target (with the closest design and a
+//! single purchase that fixes it), 2 on bad input.
 
 use super::{Context, Status};
+use crate::report::find as render;
+use crate::solve::suggest::advise;
+use crate::solve::{Duty, Goal, Rank, Settings, StageGoal, family_by_name, solve};
+use crate::store::{Kind, Part, Technology, Value};
+use crate::timing::Conditions;
+use crate::units::eseries::Series;
+use crate::units::{
+    Farads, Ohms, Tolerance, parse_capacitance, parse_frequency, parse_ratio, parse_resistance,
+    parse_time, parse_tolerance, parse_voltage,
+};
+use anyhow::{Context as _, Result, anyhow, bail};
 use std::io::Write;
+use std::path::{Path, PathBuf};
+use std::time::Duration;
 
 /// Arguments of `find`.
 #[derive(Debug, clap::Args)]
-pub struct FindArgs {}
+#[command(after_help = FIND_EXAMPLES)]
+pub struct FindArgs {
+    #[command(subcommand)]
+    target: Target,
+    #[command(flatten)]
+    opts: Box<FindOptions>,
+}
+
+/// Options shared by every form of `find` (boxed: they are many).
+#[derive(Debug, clap::Args)]
+struct FindOptions {
+    /// Stock to search, as CSV (columns: kind,value,tolerance,technology,voltage,bin,quantity,held).
+    #[arg(long, global = true, value_name = "FILE")]
+    stock: Option<PathBuf>,
+    /// Allowed deviation of each targeted quantity from its target.
+    #[arg(long, global = true, default_value = "1%", value_name = "PERCENT")]
+    tol: String,
+    /// Timer family: bipolar or cmos.
+    #[arg(long, global = true, default_value = "bipolar")]
+    family: String,
+    /// Supply voltage.
+    #[arg(long, global = true, default_value = "9V", value_name = "VOLTS")]
+    vcc: String,
+    /// Most pieces in one position (1 to 4).
+    #[arg(long, global = true, default_value_t = 3, value_name = "K")]
+    pieces: usize,
+    /// Capacitor technologies allowed, comma separated (film,c0g,x7r,y5v,electrolytic,tantalum,
+    /// other or all). Timing searches leave out electrolytics and tantalum unless named here.
+    #[arg(long, global = true, value_delimiter = ',', value_name = "LIST")]
+    tech: Vec<String>,
+    /// A capacitor's known voltage rating must be at least the supply times this margin
+    /// (parts with no recorded rating are allowed, with a warning).
+    #[arg(long, global = true, default_value_t = 1.5, value_name = "FACTOR")]
+    voltage_margin: f64,
+    /// Require the whole worst-case interval (part tolerances and the timer's own initial
+    /// error) inside the target window, not just the nominal result.
+    #[arg(long, global = true)]
+    guarantee: bool,
+    /// How many ranked designs to show.
+    #[arg(long, global = true, default_value_t = 3, value_name = "N")]
+    alternatives: usize,
+    /// Also use stock that is held by reservations (by default only unreserved stock is used).
+    #[arg(long, global = true)]
+    include_held: bool,
+    /// Stop the search after this long and report the best found with what was proven.
+    #[arg(long, global = true, default_value = "10s", value_name = "TIME")]
+    time_limit: String,
+    /// Forward drop of the steering diodes (steered form); 0 is the ideal model.
+    #[arg(long, global = true, default_value = "0V", value_name = "VOLTS")]
+    diode_drop: String,
+    /// Preferred-value series for the purchase suggestion (E12 or E24).
+    #[arg(long, global = true, default_value = "E24", value_name = "SERIES")]
+    buy_series: String,
+}
+
+const FIND_EXAMPLES: &str = "\
+Examples:
+  onhand find value 68k --tol 1%                 a substitute for a 68 kΩ resistor
+  onhand find pulse 250ms                        a one-shot of 250 ms
+  onhand find astable 1kHz --duty 60..70%        a classic astable
+  onhand find steered --high 1ms --low 200us     duty below 50 % with steering diodes
+  onhand find square 1kHz --family cmos          one resistor from the output
+  onhand find pair --freq 1kHz --width 200us     an astable triggering a one-shot
+  onhand find dual pulse:250ms astable:2Hz       two stages in one 556 package
+
+Each targeted quantity must lie within --tol of its target (for a frequency, the period does).";
+
+#[derive(Debug, clap::Subcommand)]
+enum Target {
+    /// A network that substitutes one resistor or capacitor value.
+    Value {
+        /// The value, e.g. 68k or 100nF.
+        value: String,
+        /// Resistor or capacitor (default: guessed from the value's unit or prefix).
+        #[arg(long)]
+        kind: Option<String>,
+    },
+    /// A monostable (one-shot) with this pulse width.
+    Pulse {
+        /// Pulse width, e.g. 250ms.
+        width: String,
+    },
+    /// A classic astable with this frequency (or --period).
+    Astable {
+        /// Frequency, e.g. 1kHz.
+        freq: Option<String>,
+        /// Period instead of frequency, e.g. 1ms.
+        #[arg(long, conflicts_with = "freq")]
+        period: Option<String>,
+        /// Duty cycle: a window such as 60..70% or a target such as 65%.
+        #[arg(long)]
+        duty: Option<String>,
+    },
+    /// A diode-steered astable with separate high and low times (duty below 50 % allowed).
+    Steered {
+        /// Output high time.
+        #[arg(long)]
+        high: String,
+        /// Output low time.
+        #[arg(long)]
+        low: String,
+    },
+    /// An output-driven square wave (one resistor from the output to the capacitor).
+    Square {
+        /// Frequency, e.g. 1kHz.
+        freq: Option<String>,
+        /// Period instead of frequency.
+        #[arg(long, conflicts_with = "freq")]
+        period: Option<String>,
+    },
+    /// An astable that triggers a one-shot: steady frequency, set pulse width.
+    Pair {
+        /// Frequency of the astable.
+        #[arg(long, conflicts_with = "period")]
+        freq: Option<String>,
+        /// Period of the astable instead.
+        #[arg(long)]
+        period: Option<String>,
+        /// Width of the one-shot's pulse (must stay below the period).
+        #[arg(long)]
+        width: String,
+    },
+    /// Two independent stages in one dual (556) package, sharing the stock.
+    Dual {
+        /// First stage: pulse:WIDTH, astable:FREQ[:DUTY], square:FREQ or steered:HIGH:LOW.
+        first: String,
+        /// Second stage, same forms.
+        second: String,
+    },
+}
 
 /// Run `find`.
-pub fn run(_args: FindArgs, _ctx: &Context, _out: &mut dyn Write) -> anyhow::Result<Status> {
-    anyhow::bail!("find is not built yet")
+pub fn run(args: FindArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status> {
+    let target = args.target;
+    let args = *args.opts;
+    let tol = parse_tolerance(&args.tol)
+        .map_err(|e| anyhow!(e))?
+        .widest()
+        .si();
+    let family = family_by_name(&args.family)
+        .ok_or_else(|| anyhow!("unknown family {:?}: use bipolar or cmos", args.family))?;
+    let vcc = parse_voltage(&args.vcc).map_err(|e| anyhow!(e))?;
+    let mut conditions = Conditions::ideal(vcc);
+    conditions.diode_drop = parse_voltage(&args.diode_drop).map_err(|e| anyhow!(e))?;
+    let time_limit = parse_time(&args.time_limit).map_err(|e| anyhow!(e))?.si();
+    if !(args.voltage_margin.is_finite() && args.voltage_margin >= 1.0) {
+        bail!("--voltage-margin must be 1 or more");
+    }
+    let series = match args.buy_series.to_ascii_uppercase().as_str() {
+        "E12" => Series::E12,
+        "E24" => Series::E24,
+        other => bail!("--buy-series {other:?}: use E12 or E24"),
+    };
+    let goal = goal_of(&target, tol)?;
+    let timing = !matches!(goal, Goal::Value { .. });
+    let cap_techs = techs(&args.tech, timing)?;
+    let settings = Settings {
+        tol,
+        max_pieces: args.pieces,
+        alternatives: args.alternatives,
+        guarantee: args.guarantee,
+        family: family.clone(),
+        conditions,
+        cap_techs,
+        min_cap_rating: Some(vcc.si() * args.voltage_margin),
+        time_limit: Some(Duration::from_secs_f64(time_limit.max(0.001))),
+        rank: Rank::FewestPieces,
+    };
+    let mut parts = load_stock(ctx, args.stock.as_deref())?;
+    if args.include_held {
+        for p in &mut parts {
+            p.held = 0;
+        }
+    }
+    let outcome = solve(&parts, &goal, &settings).context("search")?;
+    let advice = if outcome.designs.is_empty() {
+        Some(advise(&parts, &goal, &settings, series).context("advice")?)
+    } else {
+        None
+    };
+    let view = render::View {
+        goal: &goal,
+        settings: &settings,
+        parts: &parts,
+        outcome: &outcome,
+        advice: advice.as_ref(),
+    };
+    if ctx.json {
+        render::json(out, &view)?;
+    } else {
+        render::text(out, &view)?;
+    }
+    Ok(if outcome.designs.is_empty() {
+        Status::NotMet
+    } else {
+        Status::Success
+    })
+}
+
+fn goal_of(t: &Target, tol: f64) -> Result<Goal> {
+    let time = |s: &str| -> Result<f64> { Ok(parse_time(s).map_err(|e| anyhow!(e))?.si()) };
+    let period_of = |freq: &Option<String>, period: &Option<String>| -> Result<f64> {
+        match (freq, period) {
+            (Some(f), None) => Ok(1.0 / parse_frequency(f).map_err(|e| anyhow!(e))?.si()),
+            (None, Some(p)) => time(p),
+            _ => bail!("give a frequency or --period"),
+        }
+    };
+    Ok(match t {
+        Target::Value { value, kind } => {
+            let kind = match kind.as_deref() {
+                Some(k) if k.eq_ignore_ascii_case("resistor") || k == "r" => Kind::Resistor,
+                Some(k) if k.eq_ignore_ascii_case("capacitor") || k == "c" => Kind::Capacitor,
+                Some(k) => bail!("--kind {k:?}: use resistor or capacitor"),
+                None => guess_kind(value),
+            };
+            let target = match kind {
+                Kind::Capacitor => parse_capacitance(value).map_err(|e| anyhow!(e))?.si(),
+                _ => parse_resistance(value).map_err(|e| anyhow!(e))?.si(),
+            };
+            Goal::Value { kind, target }
+        }
+        Target::Pulse { width } => Goal::Stages(vec![StageGoal::Pulse {
+            width: time(width)?,
+        }]),
+        Target::Astable { freq, period, duty } => Goal::Stages(vec![StageGoal::Astable {
+            period: period_of(freq, period)?,
+            duty: duty_of(duty.as_deref())?,
+        }]),
+        Target::Steered { high, low } => Goal::Stages(vec![StageGoal::Steered {
+            high: time(high)?,
+            low: time(low)?,
+        }]),
+        Target::Square { freq, period } => Goal::Stages(vec![StageGoal::Square {
+            period: period_of(freq, period)?,
+        }]),
+        Target::Pair {
+            freq,
+            period,
+            width,
+        } => {
+            let period = period_of(freq, period)?;
+            let width = time(width)?;
+            if width * (1.0 + tol) >= period * (1.0 - tol) {
+                bail!(
+                    "the pulse width must stay below the period even at the edges of the \
+                     tolerance: width {} s, period {} s",
+                    width,
+                    period
+                );
+            }
+            Goal::Stages(vec![
+                StageGoal::Astable {
+                    period,
+                    duty: Duty::Any,
+                },
+                StageGoal::Pulse { width },
+            ])
+        }
+        Target::Dual { first, second } => Goal::Stages(vec![stage_of(first)?, stage_of(second)?]),
+    })
+}
+
+/// One stage written as `pulse:250ms`, `astable:1kHz[:60..70%]`, `square:1kHz` or
+/// `steered:1ms:200us`.
+fn stage_of(text: &str) -> Result<StageGoal> {
+    let mut it = text.split(':');
+    let form = it.next().unwrap_or_default().trim().to_ascii_lowercase();
+    let rest: Vec<&str> = it.collect();
+    let time = |s: &str| -> Result<f64> { Ok(parse_time(s).map_err(|e| anyhow!(e))?.si()) };
+    // A value ending in "s" is a period; otherwise a frequency.
+    let period = |s: &str| -> Result<f64> {
+        if s.trim().ends_with('s') {
+            time(s)
+        } else {
+            Ok(1.0 / parse_frequency(s).map_err(|e| anyhow!(e))?.si())
+        }
+    };
+    let need = |n: usize| -> Result<()> {
+        if rest.len() < n {
+            bail!("stage {text:?}: missing values");
+        }
+        Ok(())
+    };
+    Ok(match form.as_str() {
+        "pulse" => {
+            need(1)?;
+            StageGoal::Pulse {
+                width: time(rest[0])?,
+            }
+        }
+        "astable" => {
+            need(1)?;
+            StageGoal::Astable {
+                period: period(rest[0])?,
+                duty: duty_of(rest.get(1).copied())?,
+            }
+        }
+        "square" => {
+            need(1)?;
+            StageGoal::Square {
+                period: period(rest[0])?,
+            }
+        }
+        "steered" => {
+            need(2)?;
+            StageGoal::Steered {
+                high: time(rest[0])?,
+                low: time(rest[1])?,
+            }
+        }
+        other => bail!("stage form {other:?}: use pulse, astable, square or steered"),
+    })
+}
+
+fn duty_of(text: Option<&str>) -> Result<Duty> {
+    let Some(t) = text else { return Ok(Duty::Any) };
+    let ratio = |s: &str| -> Result<f64> { Ok(parse_ratio(s).map_err(|e| anyhow!(e))?.si()) };
+    Ok(match t.split_once("..") {
+        Some((a, b)) => {
+            let a = if b.trim().ends_with('%') && !a.trim().ends_with('%') {
+                format!("{a}%")
+            } else {
+                a.to_string()
+            };
+            Duty::Range(ratio(&a)?, ratio(b)?)
+        }
+        None => Duty::Point(ratio(t)?),
+    })
+}
+
+/// Resistor unless the text says farads or uses a prefix only capacitors use (p, n, u, µ).
+fn guess_kind(text: &str) -> Kind {
+    let t = text.trim();
+    if t.ends_with('F') {
+        return Kind::Capacitor;
+    }
+    if t.ends_with('Ω') || t.ends_with('R') || t.to_ascii_lowercase().ends_with("ohm") {
+        return Kind::Resistor;
+    }
+    let last_alpha = t.chars().rev().find(|c| c.is_alphabetic());
+    match last_alpha {
+        Some('p' | 'n' | 'u' | 'µ' | 'μ') => Kind::Capacitor,
+        _ => Kind::Resistor,
+    }
+}
+
+fn tech_of(name: &str) -> Option<Technology> {
+    Some(
+        match name
+            .trim()
+            .to_ascii_lowercase()
+            .replace(['-', ' '], "_")
+            .as_str()
+        {
+            "metal_film" | "metal" | "mf" => Technology::MetalFilm,
+            "carbon_film" | "carbon" | "cf" => Technology::CarbonFilm,
+            "thick_film" | "thick" => Technology::ThickFilm,
+            "wirewound" | "ww" => Technology::Wirewound,
+            "c0g" | "np0" | "cog" => Technology::C0g,
+            "x7r" => Technology::X7r,
+            "y5v" | "z5u" => Technology::Y5v,
+            "film" | "polyester" | "polypropylene" => Technology::Film,
+            "electrolytic" | "elec" => Technology::Electrolytic,
+            "tantalum" | "tant" => Technology::Tantalum,
+            "other" | "" => Technology::Other,
+            _ => return None,
+        },
+    )
+}
+
+fn techs(list: &[String], timing: bool) -> Result<Option<Vec<Technology>>> {
+    if list.iter().any(|t| t.eq_ignore_ascii_case("all")) {
+        return Ok(None);
+    }
+    if list.is_empty() {
+        return Ok(timing.then(|| {
+            vec![
+                Technology::C0g,
+                Technology::Film,
+                Technology::X7r,
+                Technology::Y5v,
+                Technology::Other,
+            ]
+        }));
+    }
+    list.iter()
+        .map(|t| tech_of(t).ok_or_else(|| anyhow!("unknown technology {t:?}")))
+        .collect::<Result<Vec<_>>>()
+        .map(Some)
+}
+
+/// The stock snapshot for the search. Until the store is wired in, it comes from the CSV file
+/// given by `--stock`.
+pub fn load_stock(_ctx: &Context, stock: Option<&Path>) -> Result<Vec<Part>> {
+    let Some(path) = stock else {
+        bail!("no stock to search: give --stock FILE (a CSV of parts)");
+    };
+    let text = std::fs::read_to_string(path)
+        .with_context(|| format!("reading stock file {}", path.display()))?;
+    parse_stock_csv(&text).with_context(|| format!("stock file {}", path.display()))
+}
+
+/// Parse stock CSV: a header row naming the columns (any order, case ignored): `value`
+/// (required), `kind`, `tolerance`, `technology`, `voltage`, `bin`, `quantity`, `held`,
+/// `package`, `note`. Kind is guessed from the value when absent.
+pub fn parse_stock_csv(text: &str) -> Result<Vec<Part>> {
+    let mut rdr = csv::ReaderBuilder::new()
+        .trim(csv::Trim::All)
+        .comment(Some(b'#'))
+        .from_reader(text.as_bytes());
+    let headers: Vec<String> = rdr
+        .headers()
+        .context("reading the header row")?
+        .iter()
+        .map(|h| h.to_ascii_lowercase())
+        .collect();
+    let col = |names: &[&str]| headers.iter().position(|h| names.contains(&h.as_str()));
+    let c_value = col(&["value"]).ok_or_else(|| anyhow!("no 'value' column"))?;
+    let (c_kind, c_tol, c_tech) = (
+        col(&["kind"]),
+        col(&["tolerance", "tol"]),
+        col(&["technology", "tech"]),
+    );
+    let (c_volt, c_bin, c_qty, c_held) = (
+        col(&["voltage", "rating", "voltage_rating"]),
+        col(&["bin", "location"]),
+        col(&["quantity", "qty"]),
+        col(&["held"]),
+    );
+    let (c_pkg, c_note) = (col(&["package"]), col(&["note"]));
+    let mut parts = Vec::new();
+    for (i, rec) in rdr.records().enumerate() {
+        let line = i + 2;
+        let rec = rec.with_context(|| format!("row {line}"))?;
+        let get = |c: Option<usize>| c.and_then(|c| rec.get(c)).unwrap_or("").trim();
+        let value_text = get(Some(c_value));
+        let kind = match get(c_kind).to_ascii_lowercase().as_str() {
+            "" => guess_kind(value_text),
+            "resistor" | "r" => Kind::Resistor,
+            "capacitor" | "c" => Kind::Capacitor,
+            other => bail!("row {line}: kind {other:?} is not resistor or capacitor"),
+        };
+        let value = match kind {
+            Kind::Capacitor => Value::Capacitance(
+                parse_capacitance(value_text)
+                    .map_err(|e| anyhow!("row {line}: {e}"))
+                    .and_then(|v: Farads| {
+                        if v.is_positive() {
+                            Ok(v)
+                        } else {
+                            Err(anyhow!("row {line}: value must be above zero"))
+                        }
+                    })?,
+            ),
+            _ => Value::Resistance(
+                parse_resistance(value_text)
+                    .map_err(|e| anyhow!("row {line}: {e}"))
+                    .and_then(|v: Ohms| {
+                        if v.is_positive() {
+                            Ok(v)
+                        } else {
+                            Err(anyhow!("row {line}: value must be above zero"))
+                        }
+                    })?,
+            ),
+        };
+        let technology = match get(c_tech) {
+            "" if kind == Kind::Resistor => Technology::MetalFilm,
+            "" => Technology::Other,
+            t => tech_of(t).ok_or_else(|| anyhow!("row {line}: unknown technology {t:?}"))?,
+        };
+        let tolerance = match get(c_tol) {
+            // Without a marking, assume the common wide grades (common practice).
+            "" => Tolerance::symmetric_percent(match (kind, technology.is_electrolytic()) {
+                (Kind::Resistor, _) => 5.0,
+                (_, true) => 20.0,
+                _ => 10.0,
+            })
+            .ok_or_else(|| anyhow!("row {line}: tolerance"))?,
+            t => parse_tolerance(t).map_err(|e| anyhow!("row {line}: {e}"))?,
+        };
+        let voltage_rating = match get(c_volt) {
+            "" => None,
+            v => Some(parse_voltage(v).map_err(|e| anyhow!("row {line}: {e}"))?),
+        };
+        let int = |c: Option<usize>, default: i64, what: &str| -> Result<i64> {
+            match get(c) {
+                "" => Ok(default),
+                t => t
+                    .parse::<i64>()
+                    .ok()
+                    .filter(|n| *n >= 0)
+                    .ok_or_else(|| anyhow!("row {line}: {what} {t:?} is not a whole number")),
+            }
+        };
+        parts.push(Part {
+            id: line as i64,
+            kind,
+            value,
+            tolerance,
+            technology,
+            voltage_rating,
+            power_rating: None,
+            package: get(c_pkg).to_string(),
+            bin: get(c_bin).to_string(),
+            quantity: int(c_qty, 1, "quantity")?,
+            held: int(c_held, 0, "held")?,
+            low_stock: None,
+            note: get(c_note).to_string(),
+        });
+    }
+    Ok(parts)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn kinds_are_guessed_from_the_value() {
+        assert_eq!(guess_kind("68k"), Kind::Resistor);
+        assert_eq!(guess_kind("100n"), Kind::Capacitor);
+        assert_eq!(guess_kind("4.7uF"), Kind::Capacitor);
+        assert_eq!(guess_kind("220"), Kind::Resistor);
+    }
+
+    #[test]
+    fn duty_forms() {
+        assert_eq!(duty_of(None).expect("none"), Duty::Any);
+        match duty_of(Some("60..70%")).expect("range") {
+            Duty::Range(a, b) => assert!((a - 0.6).abs() < 1e-9 && (b - 0.7).abs() < 1e-9),
+            other => panic!("{other:?}"),
+        }
+        assert!(matches!(duty_of(Some("65%")), Ok(Duty::Point(_))));
+    }
+
+    #[test]
+    fn stage_text_forms() {
+        assert!(matches!(
+            stage_of("pulse:250ms"),
+            Ok(StageGoal::Pulse { .. })
+        ));
+        match stage_of("astable:1kHz:60..70%").expect("astable") {
+            StageGoal::Astable { period, duty } => {
+                assert!((period - 1e-3).abs() < 1e-12);
+                assert!(matches!(duty, Duty::Range(..)));
+            }
+            other => panic!("{other:?}"),
+        }
+        assert!(stage_of("steered:1ms").is_err());
+        assert!(stage_of("wobble:1ms").is_err());
+    }
+
+    #[test]
+    fn stock_csv_rows_and_errors() {
+        let parts = parse_stock_csv(
+            "kind,value,tolerance,technology,voltage,bin,quantity,held\n\
+             resistor,10k,1%,metal_film,,A1,5,1\n\
+             ,100n,5%,film,50,C1,2,\n",
+        )
+        .expect("parse");
+        assert_eq!(parts.len(), 2);
+        assert_eq!(parts[0].available(), 4);
+        assert_eq!(parts[1].kind, Kind::Capacitor);
+        let err = parse_stock_csv("value,quantity\n10k,lots\n").expect_err("bad qty");
+        assert!(format!("{err:#}").contains("row 2"));
+    }
 }

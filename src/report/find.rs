@@ -1,0 +1,457 @@
+//! Rendering of `find` results: a plain ranked text listing and JSON with the same content.
+//! Pure: takes the outcome and writes to the given writer.
+
+use crate::solve::suggest::Advice;
+use crate::solve::{Design, Duty, Goal, Outcome, Quantity, Settings, StageGoal};
+use crate::store::{Kind, Part, Value};
+use crate::units::format_sig;
+use serde::Serialize;
+use std::io::{self, Write};
+
+/// Everything a `find` report shows.
+pub struct View<'a> {
+    /// What was asked.
+    pub goal: &'a Goal,
+    /// With which settings.
+    pub settings: &'a Settings,
+    /// The stock snapshot the rows index.
+    pub parts: &'a [Part],
+    /// The answer.
+    pub outcome: &'a Outcome,
+    /// Closest design and purchase, when nothing was found.
+    pub advice: Option<&'a Advice>,
+}
+
+fn si(p: &Part) -> f64 {
+    match p.value {
+        Value::Resistance(v) => v.si(),
+        Value::Capacitance(v) => v.si(),
+        Value::None => f64::NAN,
+    }
+}
+
+fn unit(kind: Kind) -> &'static str {
+    if kind == Kind::Capacitor { "F" } else { "Ω" }
+}
+
+fn pct(x: f64) -> String {
+    let p = x * 100.0;
+    if p != 0.0 && p.abs() < 0.001 {
+        format!("{p:.1e} %")
+    } else {
+        format!("{p:.3} %")
+    }
+}
+
+/// A part as written in a network: `33 kΩ`.
+fn part_label(p: &Part) -> String {
+    format_sig(si(p), 3, unit(p.kind))
+}
+
+/// Where a row comes from: its bin, or "row N" when it has none.
+fn bin_label(p: &Part) -> String {
+    if p.bin.is_empty() {
+        format!("row {}", p.id)
+    } else {
+        p.bin.clone()
+    }
+}
+
+fn describe_goal(goal: &Goal, s: &Settings) -> String {
+    let t = |x: f64| format_sig(x, 4, "s");
+    let f = |x: f64| format_sig(1.0 / x, 4, "Hz");
+    let stage = |g: &StageGoal| match *g {
+        StageGoal::Pulse { width } => format!("one-shot of {}", t(width)),
+        StageGoal::Square { period } => format!("square wave of {} ({})", f(period), t(period)),
+        StageGoal::Steered { high, low } => {
+            format!("steered astable, high {}, low {}", t(high), t(low))
+        }
+        StageGoal::Astable { period, duty } => {
+            let d = match duty {
+                Duty::Any => String::new(),
+                Duty::Range(a, b) => format!(", duty {:.1}–{:.1} %", a * 100.0, b * 100.0),
+                Duty::Point(d) => format!(", duty {:.1} %", d * 100.0),
+            };
+            format!("astable of {} ({}){d}", f(period), t(period))
+        }
+    };
+    let what = match goal {
+        Goal::Value { kind, target } => {
+            format!("substitute for {}", format_sig(*target, 4, unit(*kind)))
+        }
+        Goal::Stages(st) => st.iter().map(stage).collect::<Vec<_>>().join(" + "),
+    };
+    format!(
+        "{what}, within ±{} {}, {} family at {} V, at most {} per position",
+        crate::units::Ratio::from_si(s.tol).unwrap_or_default(),
+        if s.guarantee {
+            "(worst case guaranteed)"
+        } else {
+            "(nominal)"
+        },
+        s.family.name,
+        s.conditions.vcc.si(),
+        s.max_pieces
+    )
+}
+
+fn quantity_line(q: &Quantity) -> String {
+    let v = |x: f64| {
+        if q.unit.is_empty() {
+            format!("{:.2} %", x * 100.0)
+        } else {
+            format_sig(x, 4, q.unit)
+        }
+    };
+    let mut s = format!("{:<9} {}", q.name, v(q.nominal));
+    if let (Some(t), Some(e)) = (q.target, q.error) {
+        s += &format!("  (target {}, off {})", v(t), pct(e));
+    } else if let Some((lo, hi)) = q.window {
+        s += &format!("  (allowed {} … {})", v(lo), v(hi));
+    }
+    s += &format!("  worst case {} … {}", v(q.worst_lo), v(q.worst_hi));
+    s
+}
+
+fn write_design(out: &mut dyn Write, parts: &[Part], d: &Design, stages: usize) -> io::Result<()> {
+    for (si, st) in d.stages.iter().enumerate() {
+        if stages > 1 {
+            let form = st
+                .form
+                .map(|f| format!("{f:?}").to_lowercase())
+                .unwrap_or_default();
+            writeln!(out, "  stage {} ({form}):", si + 1)?;
+        }
+        for p in d.positions.iter().filter(|p| p.stage == si) {
+            let label = |i: usize| {
+                p.rows
+                    .get(i)
+                    .and_then(|&r| parts.get(r))
+                    .map(part_label)
+                    .unwrap_or_default()
+            };
+            let net = p.net.describe(&label);
+            let bins: Vec<String> = p
+                .rows
+                .iter()
+                .filter_map(|&r| parts.get(r))
+                .map(|pt| {
+                    format!(
+                        "{} {} ±{}",
+                        bin_label(pt),
+                        part_label(pt),
+                        pt.tolerance.widest()
+                    )
+                })
+                .collect();
+            writeln!(
+                out,
+                "    {:<5} = {:<28} from {}",
+                p.name,
+                net,
+                bins.join("; ")
+            )?;
+            if p.rows.len() > 1 {
+                writeln!(
+                    out,
+                    "            network {} (worst case {} … {})",
+                    format_sig(p.value, 4, unit(p.kind)),
+                    format_sig(p.lo, 4, unit(p.kind)),
+                    format_sig(p.hi, 4, unit(p.kind))
+                )?;
+            }
+        }
+        for q in &st.quantities {
+            writeln!(out, "    {}", quantity_line(q))?;
+        }
+        for f in &st.findings {
+            writeln!(out, "    {:?}: {}", f.severity, f.message)?;
+        }
+    }
+    Ok(())
+}
+
+/// Plain text.
+pub fn text(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
+    let o = v.outcome;
+    writeln!(out, "Looking for: {}", describe_goal(v.goal, v.settings))?;
+    let stages = match v.goal {
+        Goal::Stages(s) => s.len(),
+        Goal::Value { .. } => 1,
+    };
+    if !o.complete {
+        writeln!(
+            out,
+            "Search stopped at the time limit after {:.1} s: no design with fewer than {} \
+             pieces exists; {}",
+            o.seconds,
+            o.no_design_below,
+            if o.designs.is_empty() {
+                "nothing was found in the time given."
+            } else {
+                "the designs below are the best found so far, and one with smaller error \
+                 (and as few pieces as that bound) may exist."
+            }
+        )?;
+    }
+    for (i, d) in o.designs.iter().enumerate() {
+        writeln!(
+            out,
+            "\nDesign {} of {}: {} pieces, error {}{}",
+            i + 1,
+            o.designs.len(),
+            d.pieces,
+            pct(d.error),
+            if d.guaranteed {
+                ", worst case inside the window"
+            } else {
+                ""
+            }
+        )?;
+        write_design(out, v.parts, d, stages)?;
+    }
+    if o.designs.is_empty() {
+        writeln!(
+            out,
+            "\nNothing in stock meets the target{}.",
+            if o.complete {
+                ""
+            } else {
+                " within the time limit"
+            }
+        )?;
+        if !o.refused.is_empty() {
+            let why: Vec<String> = o.refused.iter().map(|(c, n)| format!("{c} ×{n}")).collect();
+            writeln!(
+                out,
+                "Candidates refused by the electrical checks: {}",
+                why.join(", ")
+            )?;
+        }
+        if let Some(a) = v.advice {
+            match &a.closest {
+                Some(d) => {
+                    writeln!(
+                        out,
+                        "\nClosest from stock: {} pieces, error {}",
+                        d.pieces,
+                        pct(d.error)
+                    )?;
+                    write_design(out, v.parts, d, stages)?;
+                }
+                None => writeln!(
+                    out,
+                    "No design from stock comes near the target within the electrical checks."
+                )?,
+            }
+            match &a.purchase {
+                Some(p) => {
+                    writeln!(
+                        out,
+                        "\nBuy one value to fix it: {} ({:?}); then:",
+                        format_sig(p.value, 3, unit(p.kind)),
+                        p.series
+                    )?;
+                    let mut with = v.parts.to_vec();
+                    with.push(bought_row(p));
+                    write_design(out, &with, &p.design, stages)?;
+                }
+                None => writeln!(out, "No single purchase found that fixes it.")?,
+            }
+        }
+    }
+    if o.designs.iter().any(|d| {
+        d.stages
+            .iter()
+            .flat_map(|s| &s.findings)
+            .any(|f| f.severity == crate::solve::admit::Severity::Caution)
+    }) {
+        writeln!(
+            out,
+            "\nCaution: follow local codes and licensed practice where mains or stored energy is involved."
+        )?;
+    }
+    Ok(())
+}
+
+/// A stand-in row for a purchased part so its piece can be labelled (the design's rows index
+/// the stock with the purchase appended last).
+fn bought_row(p: &crate::solve::suggest::Purchase) -> Part {
+    Part {
+        id: -1,
+        kind: p.kind,
+        value: match p.kind {
+            Kind::Capacitor => Value::Capacitance(
+                crate::units::Farads::from_si(p.value).unwrap_or(crate::units::Farads::ZERO),
+            ),
+            _ => Value::Resistance(
+                crate::units::Ohms::from_si(p.value).unwrap_or(crate::units::Ohms::ZERO),
+            ),
+        },
+        tolerance: crate::units::Tolerance::symmetric_percent(if p.kind == Kind::Capacitor {
+            5.0
+        } else {
+            1.0
+        })
+        .unwrap_or(crate::units::Tolerance {
+            minus: crate::units::Ratio::ZERO,
+            plus: crate::units::Ratio::ZERO,
+        }),
+        technology: crate::store::Technology::Other,
+        voltage_rating: None,
+        power_rating: None,
+        package: String::new(),
+        bin: "to buy".into(),
+        quantity: 0,
+        held: 0,
+        low_stock: None,
+        note: String::new(),
+    }
+}
+
+#[derive(Serialize)]
+struct JPiece<'a> {
+    part_id: i64,
+    bin: &'a str,
+    value: f64,
+    tolerance: f64,
+}
+
+#[derive(Serialize)]
+struct JPosition<'a> {
+    stage: usize,
+    name: &'a str,
+    kind: Kind,
+    network: String,
+    value: f64,
+    worst_lo: f64,
+    worst_hi: f64,
+    pieces: Vec<JPiece<'a>>,
+}
+
+#[derive(Serialize)]
+struct JDesign<'a> {
+    rank: usize,
+    pieces: usize,
+    error: f64,
+    tolerance_sum: f64,
+    scarcity: f64,
+    guaranteed: bool,
+    positions: Vec<JPosition<'a>>,
+    stages: &'a [crate::solve::StageReport],
+}
+
+fn jdesign<'a>(parts: &'a [Part], rank: usize, d: &'a Design) -> JDesign<'a> {
+    JDesign {
+        rank,
+        pieces: d.pieces,
+        error: d.error,
+        tolerance_sum: d.tolerance_sum,
+        scarcity: d.scarcity,
+        guaranteed: d.guaranteed,
+        positions: d
+            .positions
+            .iter()
+            .map(|p| JPosition {
+                stage: p.stage,
+                name: p.name,
+                kind: p.kind,
+                network: p.net.describe(&|i| {
+                    p.rows
+                        .get(i)
+                        .and_then(|&r| parts.get(r))
+                        .map(part_label)
+                        .unwrap_or_else(|| "(to buy)".into())
+                }),
+                value: p.value,
+                worst_lo: p.lo,
+                worst_hi: p.hi,
+                pieces: p
+                    .rows
+                    .iter()
+                    .map(|&r| match parts.get(r) {
+                        Some(pt) => JPiece {
+                            part_id: pt.id,
+                            bin: &pt.bin,
+                            value: si(pt),
+                            tolerance: pt.tolerance.widest().si(),
+                        },
+                        None => JPiece {
+                            part_id: -1,
+                            bin: "to buy",
+                            value: f64::NAN,
+                            tolerance: f64::NAN,
+                        },
+                    })
+                    .collect(),
+            })
+            .collect(),
+        stages: &d.stages,
+    }
+}
+
+/// JSON with the same content as the text.
+pub fn json(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
+    #[derive(Serialize)]
+    struct JPurchase<'a> {
+        kind: Kind,
+        value: f64,
+        series: String,
+        design: JDesign<'a>,
+    }
+    #[derive(Serialize)]
+    struct J<'a> {
+        goal: &'a Goal,
+        tolerance: f64,
+        family: &'a str,
+        vcc: f64,
+        max_pieces: usize,
+        guarantee: bool,
+        found: bool,
+        complete: bool,
+        no_design_below: usize,
+        seconds: f64,
+        networks_seen: u64,
+        refused: &'a [(String, u64)],
+        designs: Vec<JDesign<'a>>,
+        closest: Option<JDesign<'a>>,
+        purchase: Option<JPurchase<'a>>,
+    }
+    let o = v.outcome;
+    let j = J {
+        goal: v.goal,
+        tolerance: v.settings.tol,
+        family: v.settings.family.name,
+        vcc: v.settings.conditions.vcc.si(),
+        max_pieces: v.settings.max_pieces,
+        guarantee: v.settings.guarantee,
+        found: !o.designs.is_empty(),
+        complete: o.complete,
+        no_design_below: o.no_design_below,
+        seconds: o.seconds,
+        networks_seen: o.networks_seen,
+        refused: &o.refused,
+        designs: o
+            .designs
+            .iter()
+            .enumerate()
+            .map(|(i, d)| jdesign(v.parts, i + 1, d))
+            .collect(),
+        closest: v
+            .advice
+            .and_then(|a| a.closest.as_ref())
+            .map(|d| jdesign(v.parts, 0, d)),
+        purchase: v
+            .advice
+            .and_then(|a| a.purchase.as_ref())
+            .map(|p| JPurchase {
+                kind: p.kind,
+                value: p.value,
+                series: format!("{:?}", p.series),
+                design: jdesign(v.parts, 0, &p.design),
+            }),
+    };
+    // Serialise first, so a closed pipe reaches the caller as the io error it is.
+    let text = serde_json::to_string_pretty(&j).map_err(io::Error::other)?;
+    writeln!(out, "{text}")
+}

@@ -1,0 +1,240 @@
+//! What a search is asked for (targets, settings) and what it answers (ranked designs).
+//!
+//! Objective, in order (exact over the network space):
+//! 1. every hard constraint: each targeted quantity within `tol` of its target (or, with
+//!    `guarantee`, its whole worst-case interval within that window), duty windows, stock counts
+//!    across all positions, and the electrical checks ([`super::admit::admissible`]);
+//! 2. fewest total pieces;
+//! 3. smallest error: the largest relative deviation `|actual − target| / target` of the
+//!    nominal result over all targeted quantities of all stages (a duty *range* is a window only
+//!    and adds nothing to the error);
+//! 4. tighter parts: smallest sum over all pieces of each piece's wider tolerance side;
+//! 5. sparing scarce stock: smallest largest fraction `used / available` over the rows used;
+//! 6. then the order the walk met them (stable, deterministic).
+//!
+//! With [`Rank::SmallestError`] items 2 and 3 swap (used to find the closest design when nothing
+//! meets the target).
+
+use super::admit::{Family, Finding, Form};
+use crate::network::Net;
+use crate::store::Kind;
+use crate::timing::Conditions;
+use serde::Serialize;
+use std::time::Duration;
+
+/// The duty-cycle requirement of an astable.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Duty {
+    /// Any duty.
+    Any,
+    /// Duty must lie in `[lo, hi]` (ratios); a window only, no error contribution.
+    Range(f64, f64),
+    /// Duty as a target with the same relative tolerance as the period.
+    Point(f64),
+}
+
+/// One timer stage to design. Times in seconds.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[serde(rename_all = "snake_case", tag = "form")]
+pub enum StageGoal {
+    /// Monostable pulse width.
+    Pulse {
+        /// Width, s.
+        width: f64,
+    },
+    /// Classic astable: period and duty.
+    Astable {
+        /// Period, s.
+        period: f64,
+        /// Duty requirement.
+        duty: Duty,
+    },
+    /// Diode-steered astable: separate high and low times.
+    Steered {
+        /// High time, s.
+        high: f64,
+        /// Low time, s.
+        low: f64,
+    },
+    /// Output-driven square wave: period.
+    Square {
+        /// Period, s.
+        period: f64,
+    },
+}
+
+impl StageGoal {
+    /// The circuit form.
+    pub fn form(&self) -> Form {
+        match self {
+            StageGoal::Pulse { .. } => Form::Monostable,
+            StageGoal::Astable { .. } => Form::Astable,
+            StageGoal::Steered { .. } => Form::Steered,
+            StageGoal::Square { .. } => Form::Square,
+        }
+    }
+
+    /// Position names, in the order designs list them.
+    pub fn positions(&self) -> &'static [&'static str] {
+        match self {
+            StageGoal::Pulse { .. } | StageGoal::Square { .. } => &["R", "C"],
+            StageGoal::Astable { .. } => &["R1", "R2", "C"],
+            StageGoal::Steered { .. } => &["Ra", "Rb", "C"],
+        }
+    }
+}
+
+/// The whole request.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Goal {
+    /// One part's worth of value from a network (the repair substitute). Value in SI units.
+    Value {
+        /// Resistor or capacitor.
+        kind: Kind,
+        /// Target value, Ω or F.
+        target: f64,
+    },
+    /// One or more timer stages sharing the stock (a pair or a dual package: two).
+    Stages(Vec<StageGoal>),
+}
+
+/// How designs are ranked.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Rank {
+    /// Fewest pieces, then smallest error (the normal objective).
+    FewestPieces,
+    /// Smallest error, then fewest pieces.
+    SmallestError,
+}
+
+/// Everything besides the targets.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Settings {
+    /// Allowed relative deviation of each targeted quantity (0.01 for 1 %).
+    pub tol: f64,
+    /// Most pieces in one position (1..=4).
+    pub max_pieces: usize,
+    /// How many ranked designs to return.
+    pub alternatives: usize,
+    /// Require the worst-case interval (parts' tolerance and the timer's initial error) inside
+    /// the window, not just the nominal.
+    pub guarantee: bool,
+    /// Timer family.
+    pub family: Family,
+    /// Supply and refinements (the square form adds the family's output drop itself).
+    pub conditions: Conditions,
+    /// Capacitor technologies allowed (None: all).
+    pub cap_techs: Option<Vec<crate::store::Technology>>,
+    /// Lowest acceptable capacitor voltage rating, volts; rows with a lower known rating are
+    /// left out, rows with no rating are allowed (and warned about).
+    pub min_cap_rating: Option<f64>,
+    /// Stop after this long and report the best found with what was proven.
+    pub time_limit: Option<Duration>,
+    /// Ranking.
+    pub rank: Rank,
+}
+
+/// One filled position of a design.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Position {
+    /// Which stage (0 for the first; always 0 for a value search).
+    pub stage: usize,
+    /// Position name: "R", "C", "R1", "Ra", "value" …
+    pub name: &'static str,
+    /// Resistor or capacitor.
+    pub kind: Kind,
+    /// The network; leaf `i` is `rows[i]`.
+    #[serde(skip)]
+    pub net: Net,
+    /// Row index into the parts slice for each leaf.
+    pub rows: Vec<usize>,
+    /// Nominal value, SI.
+    pub value: f64,
+    /// Worst-case lowest value, SI.
+    pub lo: f64,
+    /// Worst-case highest value, SI.
+    pub hi: f64,
+}
+
+/// A quantity a design produces, with its target and worst case.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Quantity {
+    /// "value", "width", "period", "frequency", "duty", "high", "low".
+    pub name: &'static str,
+    /// Unit symbol ("s", "Hz", "Ω", "F", "" for duty).
+    pub unit: &'static str,
+    /// The target, when this quantity has one.
+    pub target: Option<f64>,
+    /// Nominal.
+    pub nominal: f64,
+    /// The interval this quantity must lie in (a hard constraint), when it has one.
+    pub window: Option<(f64, f64)>,
+    /// Relative error of the nominal against the target.
+    pub error: Option<f64>,
+    /// Worst-case lowest, including the timer's initial error for times.
+    pub worst_lo: f64,
+    /// Worst-case highest.
+    pub worst_hi: f64,
+}
+
+/// One stage of a design as reported.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct StageReport {
+    /// Circuit form (None for a value search).
+    pub form: Option<Form>,
+    /// The quantities.
+    pub quantities: Vec<Quantity>,
+    /// Warnings and cautions from the electrical checks (errors never appear: such designs are
+    /// refused).
+    pub findings: Vec<Finding>,
+}
+
+/// One ranked design.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Design {
+    /// Total pieces.
+    pub pieces: usize,
+    /// The error (objective item 3).
+    pub error: f64,
+    /// Sum of the pieces' tolerances (objective item 4).
+    pub tolerance_sum: f64,
+    /// Largest fraction of a row's available stock used (objective item 5).
+    pub scarcity: f64,
+    /// Whether every targeted quantity's worst case lies within the window.
+    pub guaranteed: bool,
+    /// Filled positions, stage by stage.
+    pub positions: Vec<Position>,
+    /// Per stage: results and remarks.
+    pub stages: Vec<StageReport>,
+}
+
+/// What the search did, besides its answers.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Outcome {
+    /// Ranked designs, best first.
+    pub designs: Vec<Design>,
+    /// False when the time limit stopped the search.
+    pub complete: bool,
+    /// Every design with fewer pieces than this was ruled out (proven bound).
+    pub no_design_below: usize,
+    /// Networks examined.
+    pub networks_seen: u64,
+    /// Candidates refused by the electrical checks, by finding code.
+    pub refused: Vec<(String, u64)>,
+    /// Wall time, seconds.
+    pub seconds: f64,
+}
+
+/// Why a search could not run.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum SolveError {
+    /// A setting or target out of range.
+    #[error("{0}")]
+    Invalid(String),
+    /// The operating conditions make the form impossible.
+    #[error(transparent)]
+    Form(#[from] crate::timing::FormError),
+}

@@ -1,0 +1,387 @@
+//! Property tests: the search against the brute force on random small drawers and targets, and
+//! every answer re-checked from scratch (stock that exists, targets met). Lives in `src/` so
+//! proptest can persist failing cases under `proptest-regressions/`.
+
+use super::admit::Family;
+use super::brute::brute_best;
+use super::goal::{Design, Duty, Goal, Rank, Settings, StageGoal};
+use super::search::{quantity_guaranteed, solve};
+use crate::network::Combine;
+use crate::store::{Kind, Part, Technology, Value};
+use crate::timing::Conditions;
+use crate::units::{Farads, Ohms, Tolerance, Volts};
+use proptest::prelude::*;
+
+/// IEC 60063 E12 base values (the brute force and the search both see whatever values we pick;
+/// using preferred numbers makes near-coincidences, and so ties, common).
+const E12: [f64; 12] = [1.0, 1.2, 1.5, 1.8, 2.2, 2.7, 3.3, 3.9, 4.7, 5.6, 6.8, 8.2];
+
+fn part(id: i64, kind: Kind, value: f64, tol: f64, qty: i64, held: i64, tech: Technology) -> Part {
+    Part {
+        id,
+        kind,
+        value: match kind {
+            Kind::Capacitor => Value::Capacitance(Farads::from_si(value).expect("farads")),
+            _ => Value::Resistance(Ohms::from_si(value).expect("ohms")),
+        },
+        tolerance: Tolerance::symmetric_percent(tol).expect("tolerance"),
+        technology: tech,
+        voltage_rating: if id % 3 == 0 {
+            None
+        } else {
+            Volts::from_si(if id % 2 == 0 { 16.0 } else { 6.3 })
+        },
+        power_rating: None,
+        package: String::new(),
+        bin: format!("B{id}"),
+        quantity: qty,
+        held,
+        low_stock: None,
+        note: String::new(),
+    }
+}
+
+/// A resistor row: (E12 index, decade, 1 % or 5 %, quantity, held).
+fn resistor() -> impl Strategy<Value = (usize, i32, bool, i64, i64)> {
+    (0..12usize, 2..6i32, any::<bool>(), 1..4i64, 0..2i64)
+}
+
+/// A capacitor row: (E12 index, decade in nF, technology, quantity).
+fn capacitor() -> impl Strategy<Value = (usize, i32, usize, i64)> {
+    (0..12usize, -1..4i32, 0..4usize, 1..4i64)
+}
+
+fn drawer(rs: &[(usize, i32, bool, i64, i64)], cs: &[(usize, i32, usize, i64)]) -> Vec<Part> {
+    let mut out = Vec::new();
+    for (i, &(m, d, tight, q, h)) in rs.iter().enumerate() {
+        let v = E12[m] * 10f64.powi(d);
+        let tol = if tight { 1.0 } else { 5.0 };
+        out.push(part(
+            i as i64,
+            Kind::Resistor,
+            v,
+            tol,
+            q,
+            h,
+            Technology::MetalFilm,
+        ));
+    }
+    for (i, &(m, d, t, q)) in cs.iter().enumerate() {
+        let v = E12[m] * 10f64.powi(d) * 1e-9;
+        let tech = [
+            Technology::Film,
+            Technology::C0g,
+            Technology::Film,
+            Technology::Electrolytic,
+        ][t];
+        out.push(part(100 + i as i64, Kind::Capacitor, v, 5.0, q, 0, tech));
+    }
+    out
+}
+
+fn settings(tol_pct: f64, k: usize, alternatives: usize, guarantee: bool) -> Settings {
+    Settings {
+        tol: tol_pct / 100.0,
+        max_pieces: k,
+        alternatives,
+        guarantee,
+        family: Family::bipolar(),
+        conditions: Conditions::ideal(Volts::from_si(9.0).expect("volts")),
+        cap_techs: Some(vec![Technology::Film, Technology::C0g]),
+        min_cap_rating: Some(9.0),
+        time_limit: None,
+        rank: Rank::FewestPieces,
+    }
+}
+
+/// Re-check a design from nothing but the parts: stock counts, network values, ranking keys.
+fn recheck(parts: &[Part], d: &Design) {
+    let mut used = vec![0i64; parts.len()];
+    let mut pieces = 0;
+    for p in &d.positions {
+        let vals: Vec<f64> = p
+            .rows
+            .iter()
+            .map(|&r| match parts[r].value {
+                Value::Resistance(v) => v.si(),
+                Value::Capacitance(v) => v.si(),
+                Value::None => f64::NAN,
+            })
+            .collect();
+        let combine = if p.kind == Kind::Capacitor {
+            Combine::Capacitive
+        } else {
+            Combine::Resistive
+        };
+        let v = p.net.value(&vals, combine);
+        assert!(
+            (v - p.value).abs() <= 1e-9 * v,
+            "position value {v} vs {}",
+            p.value
+        );
+        for &r in &p.rows {
+            assert_eq!(parts[r].kind, p.kind, "a piece of the wrong kind");
+            used[r] += 1;
+            pieces += 1;
+        }
+    }
+    assert_eq!(pieces, d.pieces);
+    for (r, u) in used.iter().enumerate() {
+        assert!(*u <= parts[r].available(), "row {r} used {u} times");
+    }
+    for s in &d.stages {
+        for q in &s.quantities {
+            if let Some((lo, hi)) = q.window {
+                assert!(
+                    q.nominal >= lo * (1.0 - 1e-12) && q.nominal <= hi * (1.0 + 1e-12),
+                    "{} {} outside {lo}..{hi}",
+                    q.name,
+                    q.nominal
+                );
+            }
+        }
+    }
+}
+
+fn compare(parts: &[Part], goal: &Goal, s: &Settings) -> Result<(), TestCaseError> {
+    let out = solve(parts, goal, s).expect("search runs");
+    let brute = brute_best(parts, goal, s);
+    for d in &out.designs {
+        recheck(parts, d);
+        if s.guarantee {
+            prop_assert!(
+                d.stages
+                    .iter()
+                    .flat_map(|s| &s.quantities)
+                    .all(quantity_guaranteed)
+            );
+        }
+    }
+    for w in out.designs.windows(2) {
+        prop_assert!(
+            (w[0].pieces, w[0].error) <= (w[1].pieces, w[1].error + 1e-12),
+            "ranking out of order"
+        );
+    }
+    match (out.designs.first(), brute) {
+        (None, None) => {}
+        (Some(d), Some(b)) => {
+            prop_assert_eq!(
+                d.pieces,
+                b.pieces,
+                "piece count: search {:?} brute {:?}",
+                d.error,
+                b
+            );
+            prop_assert!(
+                (d.error - b.error).abs() <= 1e-9,
+                "error: search {} brute {}",
+                d.error,
+                b.error
+            );
+        }
+        (a, b) => prop_assert!(false, "search {:?} vs brute {:?}", a.map(|d| d.pieces), b),
+    }
+    prop_assert!(out.complete);
+    Ok(())
+}
+
+/// SI value of a row.
+fn val(p: &Part) -> f64 {
+    match p.value {
+        Value::Resistance(v) => v.si(),
+        Value::Capacitance(v) => v.si(),
+        Value::None => f64::NAN,
+    }
+}
+
+/// A value near something the drawer can make: one or two rows (picked by `a`, `b`), combined
+/// by adding or by reciprocals, moved by `shift` (a multiple of the tolerance). Targets built
+/// this way are met about half the time, so both answers ("found", "nothing") are exercised.
+fn near(
+    rows: &[&Part],
+    a: prop::sample::Index,
+    b: Option<prop::sample::Index>,
+    add: bool,
+    shift: f64,
+) -> f64 {
+    let x = val(rows[a.index(rows.len())]);
+    let v = match b {
+        None => x,
+        Some(b) => {
+            let y = val(rows[b.index(rows.len())]);
+            if add { x + y } else { x * y / (x + y) }
+        }
+    };
+    v * (1.0 + shift)
+}
+
+/// Rows of this kind a timing search may use (so targets built from them are often met); the
+/// drawer still holds unusable rows, which the searches must leave out.
+fn of_kind(parts: &[Part], kind: Kind) -> Vec<&Part> {
+    let usable: Vec<&Part> = parts
+        .iter()
+        .filter(|p| {
+            p.kind == kind
+                && p.available() > 0
+                && p.technology != Technology::Electrolytic
+                && p.voltage_rating.is_none_or(|v| v.si() >= 9.0)
+        })
+        .collect();
+    if usable.is_empty() {
+        parts.iter().filter(|p| p.kind == kind).collect()
+    } else {
+        usable
+    }
+}
+
+/// A pick of one or two rows and how to combine them.
+fn pick() -> impl Strategy<Value = (prop::sample::Index, Option<prop::sample::Index>, bool)> {
+    (
+        any::<prop::sample::Index>(),
+        prop::option::of(any::<prop::sample::Index>()),
+        any::<bool>(),
+    )
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 300, ..ProptestConfig::default() })]
+
+    #[test]
+    fn value_search_matches_brute_force(
+        rs in prop::collection::vec(resistor(), 1..7),
+        (a, b, add) in pick(),
+        shift in -1.6f64..1.6,
+        tol in prop::sample::select(vec![0.5, 1.0, 2.0, 5.0]),
+        k in 1..4usize,
+        alts in 1..4usize,
+        guarantee in any::<bool>(),
+    ) {
+        let parts = drawer(&rs, &[]);
+        let tol = if guarantee { tol + 5.0 } else { tol };
+        let target = near(&of_kind(&parts, Kind::Resistor), a, b, add, shift * tol / 100.0);
+        let goal = Goal::Value { kind: Kind::Resistor, target };
+        compare(&parts, &goal, &settings(tol, k, alts, guarantee))?;
+    }
+
+    #[test]
+    fn capacitor_value_search_matches_brute_force(
+        cs in prop::collection::vec(capacitor(), 1..6),
+        (a, b, add) in pick(),
+        shift in -1.6f64..1.6,
+        tol in prop::sample::select(vec![1.0, 2.0, 5.0]),
+        k in 1..4usize,
+    ) {
+        let parts = drawer(&[], &cs);
+        let target = near(&of_kind(&parts, Kind::Capacitor), a, b, add, shift * tol / 100.0);
+        let goal = Goal::Value { kind: Kind::Capacitor, target };
+        let mut s = settings(tol, k, 1, false);
+        s.cap_techs = None;
+        s.min_cap_rating = None;
+        compare(&parts, &goal, &s)?;
+    }
+
+    #[test]
+    fn one_shot_search_matches_brute_force(
+        rs in prop::collection::vec(resistor(), 1..5),
+        cs in prop::collection::vec(capacitor(), 1..4),
+        (a, b, add) in pick(),
+        c in any::<prop::sample::Index>(),
+        shift in -1.6f64..1.6,
+        tol in prop::sample::select(vec![1.0, 2.0, 5.0]),
+        k in 1..4usize,
+        alts in 1..3usize,
+        guarantee in any::<bool>(),
+    ) {
+        let parts = drawer(&rs, &cs);
+        let tol = if guarantee { tol * 4.0 + 6.0 } else { tol };
+        let r = near(&of_kind(&parts, Kind::Resistor), a, b, add, shift * tol / 100.0);
+        let c = val(of_kind(&parts, Kind::Capacitor)[c.index(of_kind(&parts, Kind::Capacitor).len())]);
+        // DESIGN physics table: ideal one-shot width ln 3 · R · C.
+        let goal = Goal::Stages(vec![StageGoal::Pulse { width: 3f64.ln() * r * c }]);
+        compare(&parts, &goal, &settings(tol, k, alts, guarantee))?;
+    }
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 200, ..ProptestConfig::default() })]
+
+    #[test]
+    fn astable_search_matches_brute_force(
+        rs in prop::collection::vec(resistor(), 2..6),
+        cs in prop::collection::vec(capacitor(), 1..4),
+        r1 in any::<prop::sample::Index>(),
+        r2 in any::<prop::sample::Index>(),
+        c in any::<prop::sample::Index>(),
+        shift in -1.6f64..1.6,
+        duty in prop::sample::select(vec![0usize, 1, 2]),
+        tol in prop::sample::select(vec![1.0, 2.0, 5.0]),
+        k in 1..3usize,
+        guarantee in any::<bool>(),
+    ) {
+        let parts = drawer(&rs, &cs);
+        let tol = if guarantee { tol * 4.0 + 6.0 } else { tol };
+        let res = of_kind(&parts, Kind::Resistor);
+        let (x1, x2) = (val(res[r1.index(res.len())]), val(res[r2.index(res.len())]));
+        let c = val(of_kind(&parts, Kind::Capacitor)[c.index(of_kind(&parts, Kind::Capacitor).len())]);
+        // DESIGN physics table: period ln 2 · (R1 + 2 R2) · C, duty (R1 + R2)/(R1 + 2 R2).
+        let period = 2f64.ln() * (x1 + 2.0 * x2) * c * (1.0 + shift * tol / 100.0);
+        let d = (x1 + x2) / (x1 + 2.0 * x2);
+        let duty = [Duty::Any, Duty::Range(d - 0.03, (d + 0.03).min(0.99)), Duty::Point((d * (1.0 + shift * tol / 300.0)).min(0.99))][duty];
+        let goal = Goal::Stages(vec![StageGoal::Astable { period, duty }]);
+        compare(&parts, &goal, &settings(tol, k, 2, guarantee))?;
+    }
+
+    #[test]
+    fn steered_and_square_match_brute_force(
+        rs in prop::collection::vec(resistor(), 2..6),
+        cs in prop::collection::vec(capacitor(), 1..4),
+        ra in any::<prop::sample::Index>(),
+        rb in any::<prop::sample::Index>(),
+        c in any::<prop::sample::Index>(),
+        shift in -1.6f64..1.6,
+        square in any::<bool>(),
+        tol in prop::sample::select(vec![2.0, 5.0]),
+        k in 1..3usize,
+    ) {
+        let parts = drawer(&rs, &cs);
+        let res = of_kind(&parts, Kind::Resistor);
+        let (xa, xb) = (val(res[ra.index(res.len())]), val(res[rb.index(res.len())]));
+        let c = val(of_kind(&parts, Kind::Capacitor)[c.index(of_kind(&parts, Kind::Capacitor).len())]);
+        let m = 1.0 + shift * tol / 100.0;
+        let g = if square {
+            // Output-driven square wave with the bipolar output drop at 9 V: about 1.9 · R · C.
+            StageGoal::Square { period: 1.9 * xa * c * m }
+        } else {
+            // Ideal steered astable: ln 2 · Ra · C high, ln 2 · Rb · C low.
+            StageGoal::Steered { high: 2f64.ln() * xa * c * m, low: 2f64.ln() * xb * c }
+        };
+        compare(&parts, &Goal::Stages(vec![g]), &settings(tol, k, 1, false))?;
+    }
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 100, ..ProptestConfig::default() })]
+
+    /// Two stages share one drawer: stock binds across them.
+    #[test]
+    fn two_stage_search_matches_brute_force(
+        rs in prop::collection::vec(resistor(), 3..6),
+        cs in prop::collection::vec(capacitor(), 2..4),
+        r in (any::<prop::sample::Index>(), any::<prop::sample::Index>(), any::<prop::sample::Index>()),
+        c in (any::<prop::sample::Index>(), any::<prop::sample::Index>()),
+        tol in prop::sample::select(vec![5.0, 10.0]),
+        k in 1..3usize,
+    ) {
+        let parts = drawer(&rs, &cs);
+        let res = of_kind(&parts, Kind::Resistor);
+        let caps = of_kind(&parts, Kind::Capacitor);
+        let x = |i: &prop::sample::Index| val(res[i.index(res.len())]);
+        let y = |i: &prop::sample::Index| val(caps[i.index(caps.len())]);
+        let goal = Goal::Stages(vec![
+            StageGoal::Astable { period: 2f64.ln() * (x(&r.0) + 2.0 * x(&r.1)) * y(&c.0), duty: Duty::Any },
+            StageGoal::Pulse { width: 3f64.ln() * x(&r.2) * y(&c.1) },
+        ]);
+        compare(&parts, &goal, &settings(tol, k, 2, false))?;
+    }
+}

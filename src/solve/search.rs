@@ -1,0 +1,1253 @@
+//! The exact fewest-pieces search for one design (a value, one stage, or two stages sharing
+//! stock). Pure: takes a snapshot of parts, returns ranked designs; no I/O.
+//!
+//! Method: total piece counts are tried in increasing order; for each count, every way of
+//! sharing the pieces among the positions. Within one sharing, the capacitor network is walked
+//! first; the target and the current error bound give the window of resistance each resistor
+//! position must lie in, and the pool walk (`network::pool`) finds exactly the resistor networks
+//! in that window (binary search over sorted single and pair lists, meet in the middle). The
+//! best `alternatives` designs so far bound the error, so windows narrow as the search goes
+//! (branch and bound). Stock counts are shared across all positions through usage vectors.
+//! Every candidate that would enter the ranking passes the electrical checks
+//! ([`admissible`](super::admit::admissible)) first.
+
+use super::admit::{self, CapFacts, Family, Stage};
+use super::goal::{
+    Design, Duty, Goal, Outcome, Position, Quantity, Rank, Settings, SolveError, StageGoal,
+    StageReport,
+};
+use crate::network::{Cand, Combine, Item, Pool, Step};
+use crate::store::{Kind, Part, Technology, Value};
+use crate::timing::{Conditions, Factors};
+use crate::units::{Farads, Ohms, Volts};
+use std::cmp::Ordering;
+use std::collections::BTreeMap;
+use std::time::Instant;
+
+/// Search the stock for the best designs meeting `goal`.
+pub fn solve(parts: &[Part], goal: &Goal, settings: &Settings) -> Result<Outcome, SolveError> {
+    let started = Instant::now();
+    validate(goal, settings)?;
+    let ctx = Ctx::new(parts, goal, settings)?;
+    let mut st = State {
+        top: Vec::new(),
+        n: settings.alternatives,
+        tol: settings.tol,
+        rank: settings.rank,
+        stop: false,
+        picks: Vec::new(),
+        seen: 0,
+        refused: BTreeMap::new(),
+        seq: 0,
+        cur_p: 0,
+        deadline: settings.time_limit.map(|d| started + d),
+    };
+    let m = ctx.positions();
+    let k = settings.max_pieces;
+    // Every piece count below this was searched to the end with nothing found (a proof: while
+    // the ranking is empty the error bound is the full tolerance).
+    let mut no_design_below = m;
+    for p in m..=m * k {
+        if settings.rank == Rank::FewestPieces
+            && st.top.len() >= st.n
+            && st.top.last().is_some_and(|w| w.pieces < p)
+        {
+            // The ranking is full of designs with fewer pieces: nothing larger can enter.
+            break;
+        }
+        st.cur_p = p;
+        for split in compositions(p, m, k) {
+            let mut used_r = ctx.rpool.fresh_usage();
+            let mut used_c = ctx.cpool.fresh_usage();
+            match &ctx.value {
+                Some(_) => ctx.walk_value(split[0], &mut used_r, &mut used_c, &mut st),
+                None => ctx.walk_stage(0, &split, &mut used_r, &mut used_c, &mut st, 0.0),
+            }
+            if st.stop {
+                break;
+            }
+        }
+        if st.stop {
+            break;
+        }
+        if st.top.is_empty() {
+            no_design_below = p + 1;
+        }
+    }
+    let designs = st.top.iter().map(|f| ctx.build(f)).collect::<Vec<_>>();
+    Ok(Outcome {
+        designs,
+        complete: !st.stop,
+        no_design_below,
+        networks_seen: st.seen,
+        refused: st
+            .refused
+            .into_iter()
+            .map(|(c, n)| (c.to_string(), n))
+            .collect(),
+        seconds: started.elapsed().as_secs_f64(),
+    })
+}
+
+fn validate(goal: &Goal, s: &Settings) -> Result<(), SolveError> {
+    let bad = |m: String| Err(SolveError::Invalid(m));
+    if !(s.tol > 0.0 && s.tol < 1.0) {
+        return bad(format!(
+            "tolerance must lie between 0 and 100 %, not {} %",
+            s.tol * 100.0
+        ));
+    }
+    if !(1..=4).contains(&s.max_pieces) {
+        return bad(format!(
+            "pieces per position must be 1 to 4, not {}",
+            s.max_pieces
+        ));
+    }
+    if s.alternatives == 0 {
+        return bad("ask for at least one design".into());
+    }
+    let pos = |v: f64, what: &str| -> Result<(), SolveError> {
+        if v.is_finite() && v > 0.0 {
+            Ok(())
+        } else {
+            Err(SolveError::Invalid(format!("{what} must be above zero")))
+        }
+    };
+    match goal {
+        Goal::Value { target, .. } => pos(*target, "the value")?,
+        Goal::Stages(stages) => {
+            if stages.is_empty() || stages.len() > 2 {
+                return bad("a design has one or two stages".into());
+            }
+            for g in stages {
+                match *g {
+                    StageGoal::Pulse { width } => pos(width, "the pulse width")?,
+                    StageGoal::Square { period } => pos(period, "the period")?,
+                    StageGoal::Steered { high, low } => {
+                        pos(high, "the high time")?;
+                        pos(low, "the low time")?;
+                    }
+                    StageGoal::Astable { period, duty } => {
+                        pos(period, "the period")?;
+                        match duty {
+                            Duty::Any => {}
+                            Duty::Point(d) if d > 0.0 && d < 1.0 => {}
+                            Duty::Range(a, b) if a > 0.0 && a <= b && b < 1.0 => {}
+                            _ => return bad("duty must lie between 0 and 100 %".into()),
+                        }
+                    }
+                }
+            }
+        }
+    }
+    Ok(())
+}
+
+/// Every way of giving `m` positions 1..=k pieces each, `p` in all.
+fn compositions(p: usize, m: usize, k: usize) -> Vec<Vec<usize>> {
+    fn rec(left: usize, slots: usize, k: usize, cur: &mut Vec<usize>, out: &mut Vec<Vec<usize>>) {
+        if slots == 0 {
+            if left == 0 {
+                out.push(cur.clone());
+            }
+            return;
+        }
+        for n in 1..=k.min(left) {
+            if left - n < slots - 1 || left - n > (slots - 1) * k {
+                continue;
+            }
+            cur.push(n);
+            rec(left - n, slots - 1, k, cur, out);
+            cur.pop();
+        }
+    }
+    let mut out = Vec::new();
+    rec(p, m, k, &mut Vec::new(), &mut out);
+    out
+}
+
+/// `|x − t| / t`.
+#[inline]
+fn rel(x: f64, t: f64) -> f64 {
+    ((x - t) / t).abs()
+}
+
+/// `[t(1 − e), t(1 + e)]`; empty (lo > hi) for a negative bound.
+#[inline]
+fn win(t: f64, e: f64) -> (f64, f64) {
+    (t * (1.0 - e), t * (1.0 + e))
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Which {
+    R,
+    C,
+}
+
+#[derive(Debug, Clone, Copy)]
+struct Pick {
+    stage: usize,
+    slot: usize,
+    which: Which,
+    cand: Cand,
+}
+
+#[derive(Debug, Clone)]
+struct Found {
+    pieces: usize,
+    err: f64,
+    tol_sum: f64,
+    scarcity: f64,
+    seq: u64,
+    picks: Vec<Pick>,
+}
+
+struct State {
+    top: Vec<Found>,
+    n: usize,
+    tol: f64,
+    rank: Rank,
+    stop: bool,
+    picks: Vec<Pick>,
+    seen: u64,
+    refused: BTreeMap<&'static str, u64>,
+    seq: u64,
+    cur_p: usize,
+    deadline: Option<Instant>,
+}
+
+impl State {
+    /// The largest error a new candidate may have and still enter the ranking (ties enter and
+    /// are settled by the later keys); negative when nothing can enter.
+    fn bound(&self) -> f64 {
+        if self.stop {
+            return -1.0;
+        }
+        match self.top.get(self.n.wrapping_sub(1)) {
+            Some(w) if self.rank == Rank::FewestPieces && w.pieces < self.cur_p => -1.0,
+            Some(w) => w.err.min(self.tol),
+            None => self.tol,
+        }
+    }
+
+    fn order(&self, a: &Found, b: &Found) -> Ordering {
+        let rest = || {
+            a.tol_sum
+                .total_cmp(&b.tol_sum)
+                .then(a.scarcity.total_cmp(&b.scarcity))
+                .then(a.seq.cmp(&b.seq))
+        };
+        match self.rank {
+            Rank::FewestPieces => a
+                .pieces
+                .cmp(&b.pieces)
+                .then(a.err.total_cmp(&b.err))
+                .then_with(rest),
+            Rank::SmallestError => a
+                .err
+                .total_cmp(&b.err)
+                .then(a.pieces.cmp(&b.pieces))
+                .then_with(rest),
+        }
+    }
+
+    fn timed_out(&mut self) -> bool {
+        if !self.stop && self.deadline.is_some_and(|d| Instant::now() >= d) {
+            self.stop = true;
+        }
+        self.stop
+    }
+}
+
+struct Plan {
+    goal: StageGoal,
+    f: Factors,
+    cond: Conditions,
+    /// The timer's own initial error for this form.
+    ie: f64,
+}
+
+struct Ctx<'a> {
+    parts: &'a [Part],
+    rpool: Pool,
+    cpool: Pool,
+    stages: Vec<Plan>,
+    value: Option<(Kind, f64)>,
+    s: &'a Settings,
+    family: &'a Family,
+}
+
+/// The operating conditions of a stage: the settings' conditions, plus the family's output drop
+/// for the output-driven square wave (its resistor is fed from the output).
+pub fn stage_conditions(g: &StageGoal, s: &Settings) -> Conditions {
+    let mut cond = s.conditions;
+    if let StageGoal::Square { .. } = g {
+        cond.output_high_drop = Volts::from_si(s.family.output_high_drop).unwrap_or(Volts::ZERO);
+    }
+    cond
+}
+
+/// The timing factors of a stage and the timer's own initial error for its form.
+pub fn stage_factors(g: &StageGoal, s: &Settings) -> Result<(Factors, f64), SolveError> {
+    let ie = match g {
+        StageGoal::Pulse { .. } => s.family.initial_error.0,
+        _ => s.family.initial_error.1,
+    };
+    Ok((stage_conditions(g, s).factors()?, ie))
+}
+
+fn item(row: usize, p: &Part, value: f64) -> Item {
+    let (fl, fh) = p.tolerance.factors();
+    Item {
+        row,
+        value,
+        lo: value * fl,
+        hi: value * fh,
+        avail: u32::try_from(p.available()).unwrap_or(u32::MAX),
+        tol: p.tolerance.widest().si(),
+    }
+}
+
+impl<'a> Ctx<'a> {
+    fn new(parts: &'a [Part], goal: &Goal, s: &'a Settings) -> Result<Self, SolveError> {
+        let mut rs = Vec::new();
+        let mut cs = Vec::new();
+        for (row, p) in parts.iter().enumerate() {
+            match (p.kind, p.value) {
+                (Kind::Resistor, Value::Resistance(r)) => rs.push(item(row, p, r.si())),
+                (Kind::Capacitor, Value::Capacitance(c)) => {
+                    if s.cap_techs
+                        .as_ref()
+                        .is_some_and(|t| !t.contains(&p.technology))
+                    {
+                        continue;
+                    }
+                    if let (Some(min), Some(rated)) = (s.min_cap_rating, p.voltage_rating) {
+                        if rated.si() < min {
+                            continue;
+                        }
+                    }
+                    cs.push(item(row, p, c.si()));
+                }
+                _ => {}
+            }
+        }
+        let mut stages = Vec::new();
+        let value = match goal {
+            Goal::Value { kind, target } => Some((*kind, *target)),
+            Goal::Stages(gs) => {
+                for g in gs {
+                    let cond = stage_conditions(g, s);
+                    let (f, ie) = stage_factors(g, s)?;
+                    stages.push(Plan {
+                        goal: *g,
+                        f,
+                        cond,
+                        ie,
+                    });
+                }
+                None
+            }
+        };
+        Ok(Self {
+            parts,
+            rpool: Pool::new(rs),
+            cpool: Pool::new(cs),
+            stages,
+            value,
+            s,
+            family: &s.family,
+        })
+    }
+
+    fn positions(&self) -> usize {
+        if self.value.is_some() {
+            1
+        } else {
+            self.stages.iter().map(|p| p.goal.positions().len()).sum()
+        }
+    }
+
+    fn pool(&self, w: Which) -> &Pool {
+        match w {
+            Which::R => &self.rpool,
+            Which::C => &self.cpool,
+        }
+    }
+
+    fn offset(&self, si: usize) -> usize {
+        self.stages[..si]
+            .iter()
+            .map(|p| p.goal.positions().len())
+            .sum()
+    }
+
+    // ---- the value search -------------------------------------------------------------
+
+    fn walk_value(&self, n: usize, used_r: &mut [u32], used_c: &mut [u32], st: &mut State) {
+        let Some((kind, t)) = self.value else { return };
+        let which = if kind == Kind::Capacitor {
+            Which::C
+        } else {
+            Which::R
+        };
+        let pool = self.pool(which);
+        let (lo, hi) = win(t, st.bound());
+        let tol = self.s.tol;
+        let guarantee = self.s.guarantee;
+        let (used, other): (&mut [u32], &[u32]) = match which {
+            Which::R => (used_r, &*used_c),
+            Which::C => (used_c, &*used_r),
+        };
+        let deadline = st.deadline;
+        let ok = pool.walk(n, lo, hi, used, deadline, &mut |c, used| {
+            st.seen += 1;
+            let err = rel(c.value, t);
+            if err <= st.bound() {
+                let fits = !guarantee || {
+                    let (_, l, h) = pool.span(c);
+                    l >= t * (1.0 - tol) && h <= t * (1.0 + tol)
+                };
+                if fits {
+                    Pool::take(c, used, 1);
+                    st.picks.push(Pick {
+                        stage: 0,
+                        slot: 0,
+                        which,
+                        cand: *c,
+                    });
+                    let (ur, uc) = match which {
+                        Which::R => (&*used, other),
+                        Which::C => (other, &*used),
+                    };
+                    self.offer(st, ur, uc, err, None);
+                    st.picks.pop();
+                    Pool::take(c, used, -1);
+                }
+            }
+            if st.timed_out() {
+                return Step::Stop;
+            }
+            let (a, b) = win(t, st.bound());
+            Step::Go(a, b)
+        });
+        if !ok {
+            st.stop = true;
+        }
+    }
+
+    // ---- timer stages -----------------------------------------------------------------
+
+    fn walk_stage(
+        &self,
+        si: usize,
+        split: &[usize],
+        used_r: &mut [u32],
+        used_c: &mut [u32],
+        st: &mut State,
+        floor: f64,
+    ) {
+        if floor > st.bound() {
+            return;
+        }
+        let plan = &self.stages[si];
+        let o = self.offset(si);
+        let ns = &split[o..o + plan.goal.positions().len()];
+        match plan.goal {
+            StageGoal::Pulse { width } => self.walk_product(
+                si,
+                plan.f.one_shot,
+                width,
+                (ns[0], ns[1]),
+                split,
+                used_r,
+                used_c,
+                st,
+                floor,
+            ),
+            StageGoal::Square { period } => self.walk_product(
+                si,
+                plan.f.square_high + plan.f.square_low,
+                period,
+                (ns[0], ns[1]),
+                split,
+                used_r,
+                used_c,
+                st,
+                floor,
+            ),
+            StageGoal::Astable { period, duty } => self.walk_astable(
+                si,
+                period,
+                duty,
+                (ns[0], ns[1], ns[2]),
+                split,
+                used_r,
+                used_c,
+                st,
+                floor,
+            ),
+            StageGoal::Steered { high, low } => self.walk_steered(
+                si,
+                (high, low),
+                (ns[0], ns[1], ns[2]),
+                split,
+                used_r,
+                used_c,
+                st,
+                floor,
+            ),
+        }
+    }
+
+    /// A stage is complete with error `err` (already combined with earlier stages): rank it, or
+    /// check it and go on to the next stage.
+    fn stage_done(
+        &self,
+        si: usize,
+        split: &[usize],
+        used_r: &mut [u32],
+        used_c: &mut [u32],
+        st: &mut State,
+        err: f64,
+    ) {
+        if si + 1 == self.stages.len() {
+            self.offer(st, used_r, used_c, err, Some(si));
+        } else if self.refuse(st, si) {
+            // refused; counted
+        } else {
+            self.walk_stage(si + 1, split, used_r, used_c, st, err);
+        }
+    }
+
+    /// Whether stage `si` of the current picks fails the electrical checks (and count it).
+    fn refuse(&self, st: &mut State, si: usize) -> bool {
+        let stage = self.stage_of(&st.picks, si);
+        match admit::blocking(&stage, self.family) {
+            Some(f) => {
+                *st.refused.entry(f.code).or_insert(0) += 1;
+                true
+            }
+            None => false,
+        }
+    }
+
+    /// Offer the current picks to the ranking; `check` names the last stage, whose electrical
+    /// checks run only if the design would enter.
+    fn offer(
+        &self,
+        st: &mut State,
+        used_r: &[u32],
+        used_c: &[u32],
+        err: f64,
+        check: Option<usize>,
+    ) {
+        let mut pieces = 0;
+        let mut tol_sum = 0.0;
+        let mut scarcity: f64 = 0.0;
+        for p in &st.picks {
+            let pool = self.pool(p.which);
+            let used = match p.which {
+                Which::R => used_r,
+                Which::C => used_c,
+            };
+            for &i in p.cand.pieces() {
+                let it = &pool.items()[i as usize];
+                pieces += 1;
+                tol_sum += it.tol;
+                let u = used.get(i as usize).copied().unwrap_or(0);
+                scarcity = scarcity.max(f64::from(u) / f64::from(it.avail.max(1)));
+            }
+        }
+        let found = Found {
+            pieces,
+            err,
+            tol_sum,
+            scarcity,
+            seq: st.seq,
+            picks: st.picks.clone(),
+        };
+        if st.top.len() >= st.n
+            && st
+                .top
+                .last()
+                .is_some_and(|w| st.order(&found, w) != Ordering::Less)
+        {
+            return;
+        }
+        if let Some(si) = check {
+            if self.refuse(st, si) {
+                return;
+            }
+        }
+        st.seq += 1;
+        let pos = st
+            .top
+            .partition_point(|x| st.order(x, &found) == Ordering::Less);
+        st.top.insert(pos, found);
+        st.top.truncate(st.n);
+    }
+
+    #[allow(clippy::too_many_arguments)]
+    fn walk_product(
+        &self,
+        si: usize,
+        k: f64,
+        t: f64,
+        (nr, nc): (usize, usize),
+        split: &[usize],
+        used_r: &mut [u32],
+        used_c: &mut [u32],
+        st: &mut State,
+        floor: f64,
+    ) {
+        let (rmin, rmax) = self.rpool.range(nr);
+        let cw = |e: f64| {
+            let (lo, hi) = win(t, e);
+            (lo / (k * rmax), hi / (k * rmin))
+        };
+        let (clo, chi) = cw(st.bound());
+        let dl = st.deadline;
+        let (tol, guarantee, ie) = (self.s.tol, self.s.guarantee, self.stages[si].ie);
+        let ok = self
+            .cpool
+            .walk(nc, clo, chi, used_c, dl, &mut |cc, used_c| {
+                let c = cc.value;
+                Pool::take(cc, used_c, 1);
+                st.picks.push(Pick {
+                    stage: si,
+                    slot: 1,
+                    which: Which::C,
+                    cand: *cc,
+                });
+                let rw = |e: f64| {
+                    let (lo, hi) = win(t, e);
+                    (lo / (k * c), hi / (k * c))
+                };
+                let (rlo, rhi) = rw(st.bound());
+                let ok = self
+                    .rpool
+                    .walk(nr, rlo, rhi, used_r, dl, &mut |rc, used_r| {
+                        st.seen += 1;
+                        let err = rel(k * rc.value * c, t);
+                        if err <= st.bound()
+                            && (!guarantee || {
+                                let (_, rl, rh) = self.rpool.span(rc);
+                                let (_, cl, ch) = self.cpool.span(cc);
+                                k * rl * cl * (1.0 - ie) >= t * (1.0 - tol)
+                                    && k * rh * ch * (1.0 + ie) <= t * (1.0 + tol)
+                            })
+                        {
+                            Pool::take(rc, used_r, 1);
+                            st.picks.push(Pick {
+                                stage: si,
+                                slot: 0,
+                                which: Which::R,
+                                cand: *rc,
+                            });
+                            self.stage_done(si, split, used_r, used_c, st, floor.max(err));
+                            st.picks.pop();
+                            Pool::take(rc, used_r, -1);
+                        }
+                        if st.timed_out() {
+                            return Step::Stop;
+                        }
+                        let (a, b) = rw(st.bound());
+                        Step::Go(a, b)
+                    });
+                st.picks.pop();
+                Pool::take(cc, used_c, -1);
+                if !ok {
+                    st.stop = true;
+                }
+                if st.timed_out() {
+                    return Step::Stop;
+                }
+                let (a, b) = cw(st.bound());
+                Step::Go(a, b)
+            });
+        if !ok {
+            st.stop = true;
+        }
+    }
+
+    #[allow(clippy::too_many_arguments)]
+    fn walk_astable(
+        &self,
+        si: usize,
+        period: f64,
+        duty: Duty,
+        (n1, n2, nc): (usize, usize, usize),
+        split: &[usize],
+        used_r: &mut [u32],
+        used_c: &mut [u32],
+        st: &mut State,
+        floor: f64,
+    ) {
+        let f = self.stages[si].f;
+        let kc = f.charge;
+        let ks = f.charge + f.discharge;
+        // Duty D = kc(R1+R2)/(kc·R1 + ks·R2) rises with x = R1/R2; x(D) inverts it.
+        let xof = |d: f64| {
+            if d >= 1.0 {
+                f64::INFINITY
+            } else {
+                (d * ks - kc) / (kc * (1.0 - d))
+            }
+        };
+        let xwin = |e: f64| match duty {
+            Duty::Any => (0.0, f64::INFINITY),
+            Duty::Range(a, b) => (xof(a).max(0.0), xof(b)),
+            Duty::Point(d) => (xof(d * (1.0 - e)).max(0.0), xof(d * (1.0 + e))),
+        };
+        let (r1min, r1max) = self.rpool.range(n1);
+        let (r2min, r2max) = self.rpool.range(n2);
+        let (amin, amax) = (kc * r1min + ks * r2min, kc * r1max + ks * r2max);
+        let cw = |e: f64| {
+            let (lo, hi) = win(period, e);
+            (lo / amax, hi / amin)
+        };
+        let (tol, guarantee, ie) = (self.s.tol, self.s.guarantee, self.stages[si].ie);
+        let dl = st.deadline;
+        let (clo, chi) = cw(st.bound());
+        let ok = self
+            .cpool
+            .walk(nc, clo, chi, used_c, dl, &mut |cc, used_c| {
+                let c = cc.value;
+                Pool::take(cc, used_c, 1);
+                st.picks.push(Pick {
+                    stage: si,
+                    slot: 2,
+                    which: Which::C,
+                    cand: *cc,
+                });
+                let r2w = |e: f64| {
+                    let (plo, phi) = win(period, e);
+                    let (xlo, xhi) = xwin(e);
+                    (plo / c / (kc * xhi + ks), phi / c / (kc * xlo + ks))
+                };
+                let (a, b) = r2w(st.bound());
+                let ok = self.rpool.walk(n2, a, b, used_r, dl, &mut |r2c, used_r| {
+                    let r2 = r2c.value;
+                    Pool::take(r2c, used_r, 1);
+                    st.picks.push(Pick {
+                        stage: si,
+                        slot: 1,
+                        which: Which::R,
+                        cand: *r2c,
+                    });
+                    let r1w = |e: f64| {
+                        let (plo, phi) = win(period, e);
+                        let (xlo, xhi) = xwin(e);
+                        (
+                            ((plo / c - ks * r2) / kc).max(xlo * r2),
+                            ((phi / c - ks * r2) / kc).min(xhi * r2),
+                        )
+                    };
+                    let (a, b) = r1w(st.bound());
+                    let ok = self.rpool.walk(n1, a, b, used_r, dl, &mut |r1c, used_r| {
+                        st.seen += 1;
+                        let r1 = r1c.value;
+                        let aa = kc * r1 + ks * r2;
+                        let d = kc * (r1 + r2) / aa;
+                        let mut err = rel(c * aa, period);
+                        let duty_ok = match duty {
+                            Duty::Any => true,
+                            Duty::Range(lo, hi) => d >= lo && d <= hi,
+                            Duty::Point(dt) => {
+                                err = err.max(rel(d, dt));
+                                true
+                            }
+                        };
+                        if duty_ok
+                            && err <= st.bound()
+                            && (!guarantee || {
+                                let (_, l1, h1) = self.rpool.span(r1c);
+                                let (_, l2, h2) = self.rpool.span(r2c);
+                                let (_, cl, ch) = self.cpool.span(cc);
+                                let plo = cl * (kc * l1 + ks * l2) * (1.0 - ie);
+                                let phi = ch * (kc * h1 + ks * h2) * (1.0 + ie);
+                                let dlo = kc * (l1 + h2) / (kc * l1 + ks * h2);
+                                let dhi = kc * (h1 + l2) / (kc * h1 + ks * l2);
+                                plo >= period * (1.0 - tol)
+                                    && phi <= period * (1.0 + tol)
+                                    && match duty {
+                                        Duty::Any => true,
+                                        Duty::Range(a, b) => dlo >= a && dhi <= b,
+                                        Duty::Point(dt) => {
+                                            dlo >= dt * (1.0 - tol) && dhi <= dt * (1.0 + tol)
+                                        }
+                                    }
+                            })
+                        {
+                            Pool::take(r1c, used_r, 1);
+                            st.picks.push(Pick {
+                                stage: si,
+                                slot: 0,
+                                which: Which::R,
+                                cand: *r1c,
+                            });
+                            self.stage_done(si, split, used_r, used_c, st, floor.max(err));
+                            st.picks.pop();
+                            Pool::take(r1c, used_r, -1);
+                        }
+                        if st.timed_out() {
+                            return Step::Stop;
+                        }
+                        let (a, b) = r1w(st.bound());
+                        Step::Go(a, b)
+                    });
+                    st.picks.pop();
+                    Pool::take(r2c, used_r, -1);
+                    if !ok {
+                        st.stop = true;
+                    }
+                    if st.timed_out() {
+                        return Step::Stop;
+                    }
+                    let (a, b) = r2w(st.bound());
+                    Step::Go(a, b)
+                });
+                st.picks.pop();
+                Pool::take(cc, used_c, -1);
+                if !ok {
+                    st.stop = true;
+                }
+                if st.timed_out() {
+                    return Step::Stop;
+                }
+                let (a, b) = cw(st.bound());
+                Step::Go(a, b)
+            });
+        if !ok {
+            st.stop = true;
+        }
+    }
+
+    #[allow(clippy::too_many_arguments)]
+    fn walk_steered(
+        &self,
+        si: usize,
+        (high, low): (f64, f64),
+        (na, nb, nc): (usize, usize, usize),
+        split: &[usize],
+        used_r: &mut [u32],
+        used_c: &mut [u32],
+        st: &mut State,
+        floor: f64,
+    ) {
+        let f = self.stages[si].f;
+        let (kh, kl) = (f.steered_charge, f.steered_discharge);
+        let (ramin, ramax) = self.rpool.range(na);
+        let (rbmin, rbmax) = self.rpool.range(nb);
+        let cw = |e: f64| {
+            let (hlo, hhi) = win(high, e);
+            let (llo, lhi) = win(low, e);
+            (
+                (hlo / (kh * ramax)).max(llo / (kl * rbmax)),
+                (hhi / (kh * ramin)).min(lhi / (kl * rbmin)),
+            )
+        };
+        let (tol, guarantee, ie) = (self.s.tol, self.s.guarantee, self.stages[si].ie);
+        let dl = st.deadline;
+        let (clo, chi) = cw(st.bound());
+        let ok = self
+            .cpool
+            .walk(nc, clo, chi, used_c, dl, &mut |cc, used_c| {
+                let c = cc.value;
+                Pool::take(cc, used_c, 1);
+                st.picks.push(Pick {
+                    stage: si,
+                    slot: 2,
+                    which: Which::C,
+                    cand: *cc,
+                });
+                let rbw = |e: f64| {
+                    let (lo, hi) = win(low, e);
+                    (lo / (kl * c), hi / (kl * c))
+                };
+                let raw = |e: f64| {
+                    let (lo, hi) = win(high, e);
+                    (lo / (kh * c), hi / (kh * c))
+                };
+                let (a, b) = rbw(st.bound());
+                let ok = self.rpool.walk(nb, a, b, used_r, dl, &mut |rbc, used_r| {
+                    let el = rel(kl * rbc.value * c, low);
+                    Pool::take(rbc, used_r, 1);
+                    st.picks.push(Pick {
+                        stage: si,
+                        slot: 1,
+                        which: Which::R,
+                        cand: *rbc,
+                    });
+                    let (a, b) = raw(st.bound());
+                    let ok = self.rpool.walk(na, a, b, used_r, dl, &mut |rac, used_r| {
+                        st.seen += 1;
+                        let err = el.max(rel(kh * rac.value * c, high));
+                        if err <= st.bound()
+                            && (!guarantee || {
+                                let (_, al, ah) = self.rpool.span(rac);
+                                let (_, bl, bh) = self.rpool.span(rbc);
+                                let (_, cl, ch) = self.cpool.span(cc);
+                                kh * al * cl * (1.0 - ie) >= high * (1.0 - tol)
+                                    && kh * ah * ch * (1.0 + ie) <= high * (1.0 + tol)
+                                    && kl * bl * cl * (1.0 - ie) >= low * (1.0 - tol)
+                                    && kl * bh * ch * (1.0 + ie) <= low * (1.0 + tol)
+                            })
+                        {
+                            Pool::take(rac, used_r, 1);
+                            st.picks.push(Pick {
+                                stage: si,
+                                slot: 0,
+                                which: Which::R,
+                                cand: *rac,
+                            });
+                            self.stage_done(si, split, used_r, used_c, st, floor.max(err));
+                            st.picks.pop();
+                            Pool::take(rac, used_r, -1);
+                        }
+                        if st.timed_out() {
+                            return Step::Stop;
+                        }
+                        let (a, b) = raw(st.bound());
+                        Step::Go(a, b)
+                    });
+                    st.picks.pop();
+                    Pool::take(rbc, used_r, -1);
+                    if !ok {
+                        st.stop = true;
+                    }
+                    if st.timed_out() {
+                        return Step::Stop;
+                    }
+                    let (a, b) = rbw(st.bound());
+                    Step::Go(a, b)
+                });
+                st.picks.pop();
+                Pool::take(cc, used_c, -1);
+                if !ok {
+                    st.stop = true;
+                }
+                if st.timed_out() {
+                    return Step::Stop;
+                }
+                let (a, b) = cw(st.bound());
+                Step::Go(a, b)
+            });
+        if !ok {
+            st.stop = true;
+        }
+    }
+
+    // ---- building the answer ----------------------------------------------------------
+
+    /// The stage as the electrical checks see it, from the picks of stage `si`.
+    fn stage_of(&self, picks: &[Pick], si: usize) -> Stage {
+        let plan = &self.stages[si];
+        let mut vals = [0.0f64; 3];
+        let mut cap = None;
+        for p in picks.iter().filter(|p| p.stage == si) {
+            vals[p.slot.min(2)] = p.cand.value;
+            if p.which == Which::C {
+                cap = Some(self.cap_facts(&p.cand));
+            }
+        }
+        let c_slot = plan.goal.positions().len() - 1;
+        let ohms = |v: f64| Ohms::from_si(v).unwrap_or(Ohms::ZERO);
+        Stage {
+            form: plan.goal.form(),
+            r1: ohms(vals[0]),
+            r2: (c_slot == 2).then(|| ohms(vals[1])),
+            c: Farads::from_si(vals[c_slot]).unwrap_or(Farads::ZERO),
+            cap,
+            conditions: plan.cond,
+        }
+    }
+
+    /// Facts of a capacitor network: least suitable technology, lowest rating, widest tolerance.
+    fn cap_facts(&self, c: &Cand) -> CapFacts {
+        let rank = |t: Technology| match t {
+            Technology::C0g | Technology::Film => 0,
+            Technology::X7r => 1,
+            Technology::Y5v | Technology::Other => 2,
+            Technology::Tantalum | Technology::Electrolytic => 3,
+            _ => 2,
+        };
+        let mut facts: Option<CapFacts> = None;
+        let mut unknown_rating = false;
+        for &i in c.pieces() {
+            let part = &self.parts[self.cpool.items()[i as usize].row];
+            unknown_rating |= part.voltage_rating.is_none();
+            facts = Some(match facts {
+                None => CapFacts {
+                    technology: part.technology,
+                    voltage_rating: part.voltage_rating,
+                    tolerance: part.tolerance,
+                },
+                Some(f) => CapFacts {
+                    technology: if rank(part.technology) > rank(f.technology) {
+                        part.technology
+                    } else {
+                        f.technology
+                    },
+                    voltage_rating: match (f.voltage_rating, part.voltage_rating) {
+                        (Some(a), Some(b)) => Some(a.min(b)),
+                        (a, b) => a.or(b),
+                    },
+                    tolerance: if part.tolerance.widest() > f.tolerance.widest() {
+                        part.tolerance
+                    } else {
+                        f.tolerance
+                    },
+                },
+            });
+        }
+        let mut f = facts.unwrap_or(CapFacts {
+            technology: Technology::Other,
+            voltage_rating: None,
+            tolerance: crate::units::Tolerance {
+                minus: crate::units::Ratio::ZERO,
+                plus: crate::units::Ratio::ZERO,
+            },
+        });
+        if unknown_rating {
+            f.voltage_rating = None;
+        }
+        f
+    }
+
+    fn build(&self, found: &Found) -> Design {
+        let mut picks = found.picks.clone();
+        picks.sort_by_key(|p| (p.stage, p.slot));
+        let positions: Vec<Position> = picks
+            .iter()
+            .map(|p| {
+                let pool = self.pool(p.which);
+                let (value, lo, hi) = pool.span(&p.cand);
+                let (kind, combine) = match p.which {
+                    Which::R => (Kind::Resistor, Combine::Resistive),
+                    Which::C => (Kind::Capacitor, Combine::Capacitive),
+                };
+                let name = match self.value {
+                    Some(_) => "value",
+                    None => self.stages[p.stage].goal.positions()[p.slot],
+                };
+                Position {
+                    stage: p.stage,
+                    name,
+                    kind,
+                    net: p.cand.shape.to_net(combine),
+                    rows: p
+                        .cand
+                        .pieces()
+                        .iter()
+                        .map(|&i| pool.items()[i as usize].row)
+                        .collect(),
+                    value,
+                    lo,
+                    hi,
+                }
+            })
+            .collect();
+        let tol = self.s.tol;
+        let stages: Vec<StageReport> = match self.value {
+            Some((kind, t)) => {
+                let p = &positions[0];
+                let unit = if kind == Kind::Capacitor { "F" } else { "Ω" };
+                vec![StageReport {
+                    form: None,
+                    quantities: vec![quantity("value", unit, Some(t), tol, p.value, p.lo, p.hi)],
+                    findings: Vec::new(),
+                }]
+            }
+            None => (0..self.stages.len())
+                .map(|si| {
+                    let spans: Vec<(f64, f64, f64)> = positions
+                        .iter()
+                        .filter(|p| p.stage == si)
+                        .map(|p| (p.value, p.lo, p.hi))
+                        .collect();
+                    StageReport {
+                        form: Some(self.stages[si].goal.form()),
+                        quantities: stage_quantities(&self.stages[si], &spans, tol),
+                        findings: admit::review(&self.stage_of(&picks, si), self.family)
+                            .into_iter()
+                            .filter(|f| f.severity != admit::Severity::Error)
+                            .collect(),
+                    }
+                })
+                .collect(),
+        };
+        let guaranteed = stages
+            .iter()
+            .flat_map(|s| &s.quantities)
+            .all(quantity_guaranteed);
+        Design {
+            pieces: found.pieces,
+            error: found.err,
+            tolerance_sum: found.tol_sum,
+            scarcity: found.scarcity,
+            guaranteed,
+            positions,
+            stages,
+        }
+    }
+}
+
+/// Whether a quantity's worst case lies within its window (quantities without one pass).
+pub fn quantity_guaranteed(q: &Quantity) -> bool {
+    q.window
+        .is_none_or(|(lo, hi)| q.worst_lo >= lo && q.worst_hi <= hi)
+}
+
+fn quantity(
+    name: &'static str,
+    unit: &'static str,
+    target: Option<f64>,
+    tol: f64,
+    nominal: f64,
+    worst_lo: f64,
+    worst_hi: f64,
+) -> Quantity {
+    Quantity {
+        name,
+        unit,
+        target,
+        window: target.map(|t| win(t, tol)),
+        nominal,
+        error: target.map(|t| rel(nominal, t)),
+        worst_lo,
+        worst_hi,
+    }
+}
+
+/// Derived quantity: shown with its target, but the window belongs to another quantity.
+fn derived(mut q: Quantity) -> Quantity {
+    q.window = None;
+    q
+}
+
+fn stage_quantities(plan: &Plan, spans: &[(f64, f64, f64)], tol: f64) -> Vec<Quantity> {
+    let f = plan.f;
+    let ie = plan.ie;
+    let g = |i: usize| {
+        spans
+            .get(i)
+            .copied()
+            .unwrap_or((f64::NAN, f64::NAN, f64::NAN))
+    };
+    let times = |name, target: Option<f64>, k: f64, r: (f64, f64, f64), c: (f64, f64, f64)| {
+        quantity(
+            name,
+            "s",
+            target,
+            tol,
+            k * r.0 * c.0,
+            k * r.1 * c.1 * (1.0 - ie),
+            k * r.2 * c.2 * (1.0 + ie),
+        )
+    };
+    let freq = |p: &Quantity, target: Option<f64>| {
+        derived(quantity(
+            "frequency",
+            "Hz",
+            target,
+            tol,
+            1.0 / p.nominal,
+            1.0 / p.worst_hi,
+            1.0 / p.worst_lo,
+        ))
+    };
+    match plan.goal {
+        StageGoal::Pulse { width } => vec![times("width", Some(width), f.one_shot, g(0), g(1))],
+        StageGoal::Square { period } => {
+            let (r, c) = (g(0), g(1));
+            let p = times("period", Some(period), f.square_high + f.square_low, r, c);
+            let fq = freq(&p, Some(1.0 / period));
+            let d = f.square_high / (f.square_high + f.square_low);
+            vec![p, fq, quantity("duty", "", None, tol, d, d, d)]
+        }
+        StageGoal::Steered { high, low } => {
+            let (ra, rb, c) = (g(0), g(1), g(2));
+            let h = times("high", Some(high), f.steered_charge, ra, c);
+            let l = times("low", Some(low), f.steered_discharge, rb, c);
+            let p = derived(quantity(
+                "period",
+                "s",
+                Some(high + low),
+                tol,
+                h.nominal + l.nominal,
+                h.worst_lo + l.worst_lo,
+                h.worst_hi + l.worst_hi,
+            ));
+            let fq = freq(&p, Some(1.0 / (high + low)));
+            let d = h.nominal / p.nominal;
+            let dlo = h.worst_lo / (h.worst_lo + l.worst_hi);
+            let dhi = h.worst_hi / (h.worst_hi + l.worst_lo);
+            vec![h, l, p, fq, quantity("duty", "", None, tol, d, dlo, dhi)]
+        }
+        StageGoal::Astable { period, duty } => {
+            let (r1, r2, c) = (g(0), g(1), g(2));
+            let (kc, kd) = (f.charge, f.discharge);
+            let a = |x1: f64, x2: f64| kc * x1 + (kc + kd) * x2;
+            let p = quantity(
+                "period",
+                "s",
+                Some(period),
+                tol,
+                c.0 * a(r1.0, r2.0),
+                c.1 * a(r1.1, r2.1) * (1.0 - ie),
+                c.2 * a(r1.2, r2.2) * (1.0 + ie),
+            );
+            let fq = freq(&p, Some(1.0 / period));
+            let dv = |x1: f64, x2: f64| kc * (x1 + x2) / a(x1, x2);
+            let mut dq = quantity(
+                "duty",
+                "",
+                match duty {
+                    Duty::Point(d) => Some(d),
+                    _ => None,
+                },
+                tol,
+                dv(r1.0, r2.0),
+                dv(r1.1, r2.2),
+                dv(r1.2, r2.1),
+            );
+            if let Duty::Range(lo, hi) = duty {
+                dq.window = Some((lo, hi));
+            }
+            let high = quantity(
+                "high",
+                "s",
+                None,
+                tol,
+                kc * (r1.0 + r2.0) * c.0,
+                kc * (r1.1 + r2.1) * c.1 * (1.0 - ie),
+                kc * (r1.2 + r2.2) * c.2 * (1.0 + ie),
+            );
+            let low = quantity(
+                "low",
+                "s",
+                None,
+                tol,
+                kd * r2.0 * c.0,
+                kd * r2.1 * c.1 * (1.0 - ie),
+                kd * r2.2 * c.2 * (1.0 + ie),
+            );
+            vec![p, fq, dq, high, low]
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn compositions_cover_every_split() {
+        assert_eq!(compositions(3, 2, 3), vec![vec![1, 2], vec![2, 1]]);
+        assert_eq!(compositions(3, 3, 3), vec![vec![1, 1, 1]]);
+        assert_eq!(compositions(7, 2, 3).len(), 0);
+        assert_eq!(compositions(6, 3, 4).len(), 10);
+    }
+}
