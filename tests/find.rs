@@ -124,7 +124,7 @@ fn electrolytic_only_when_allowed() {
             .as_array()
             .expect("findings")
             .iter()
-            .any(|f| f["code"] == "electrolytic"),
+            .any(|f| f["code"] == "electrolytic-timing"),
         "{stages}"
     );
 }

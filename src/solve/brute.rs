@@ -272,12 +272,12 @@ fn stage_error(parts: &[Part], g: &StageGoal, nets: &[&BNet], s: &Settings) -> O
     let tol = s.tol;
     let mut cond: Conditions = s.conditions;
     if let StageGoal::Square { .. } = g {
-        cond.output_high_drop = Volts::from_si(s.family.output_high_drop).unwrap_or(Volts::ZERO);
+        cond.output_high_drop = Volts::from_si(s.family.output_high_drop.value).unwrap_or(Volts::ZERO);
     }
     let f = cond.factors().ok()?;
     let ie = match g {
-        StageGoal::Pulse { .. } => s.family.initial_error.0,
-        _ => s.family.initial_error.1,
+        StageGoal::Pulse { .. } => s.family.error_one_shot.value,
+        _ => s.family.error_astable.value,
     };
     let rel = |x: f64, t: f64| ((x - t) / t).abs();
     // Check a time: nominal in the window, and with guarantee the worst case too.
@@ -390,6 +390,7 @@ fn stage_error(parts: &[Part], g: &StageGoal, nets: &[&BNet], s: &Settings) -> O
             tolerance: parts[cap_rows[0]].tolerance,
         }),
         conditions: cond,
+        steering: crate::timing::Steering::default(),
     };
     admit::admissible(&stage, &s.family).then_some(err)
 }

@@ -282,7 +282,7 @@ struct Ctx<'a> {
 pub fn stage_conditions(g: &StageGoal, s: &Settings) -> Conditions {
     let mut cond = s.conditions;
     if let StageGoal::Square { .. } = g {
-        cond.output_high_drop = Volts::from_si(s.family.output_high_drop).unwrap_or(Volts::ZERO);
+        cond.output_high_drop = Volts::from_si(s.family.output_high_drop.value).unwrap_or(Volts::ZERO);
     }
     cond
 }
@@ -290,8 +290,8 @@ pub fn stage_conditions(g: &StageGoal, s: &Settings) -> Conditions {
 /// The timing factors of a stage and the timer's own initial error for its form.
 pub fn stage_factors(g: &StageGoal, s: &Settings) -> Result<(Factors, f64), SolveError> {
     let ie = match g {
-        StageGoal::Pulse { .. } => s.family.initial_error.0,
-        _ => s.family.initial_error.1,
+        StageGoal::Pulse { .. } => s.family.error_one_shot.value,
+        _ => s.family.error_astable.value,
     };
     Ok((stage_conditions(g, s).factors()?, ie))
 }
@@ -961,6 +961,7 @@ impl<'a> Ctx<'a> {
             c: Farads::from_si(vals[c_slot]).unwrap_or(Farads::ZERO),
             cap,
             conditions: plan.cond,
+            steering: crate::timing::Steering::default(),
         }
     }
 

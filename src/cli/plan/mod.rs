@@ -1,0 +1,3 @@
+//! Plans: many units of one or more stages against shared stock.
+
+pub mod file;
