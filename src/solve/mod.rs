@@ -8,6 +8,7 @@ pub mod admit;
 pub mod allocate;
 pub mod brute;
 pub mod goal;
+pub mod plan;
 pub mod search;
 pub mod suggest;
 
