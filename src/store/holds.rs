@@ -284,17 +284,53 @@ impl Store {
         who: &str,
         why: &str,
     ) -> Result<HoldChange, StoreError> {
+        let items: Vec<(&str, i64, i64)> = items.iter().map(|&(p, q)| (member, p, q)).collect();
+        let mut change = self.hold_for_members(plan, &items, who, why)?;
+        change.member = Some(clean_name(member, "member", true)?);
+        Ok(change)
+    }
+
+    /// Hold pieces for several members of `plan` in one transaction (what a plan's allocation
+    /// needs): each item is (member, part row id, pieces ≥ 1). Free stock is checked per part
+    /// against the sum over all members, so either every member gets its pieces or nothing is
+    /// held ([`StoreError::NotFree`] lists every part short, with its counts).
+    pub fn hold_for_members(
+        &mut self,
+        plan: &str,
+        items: &[(&str, i64, i64)],
+        who: &str,
+        why: &str,
+    ) -> Result<HoldChange, StoreError> {
         let plan = clean_name(plan, "plan", false)?;
-        let member = clean_name(member, "member", true)?;
-        let items = merge_items(items, "the quantity to hold")?;
-        if items.is_empty() {
+        // (member, part, pieces), repeated (member, part) pairs summed, first order kept.
+        let mut asks: Vec<(String, i64, i64)> = Vec::new();
+        for &(member, id, qty) in items {
+            let member = clean_name(member, "member", true)?;
+            let merged = merge_items(&[(id, qty)], "the quantity to hold")?;
+            let Some(&(_, qty)) = merged.first() else {
+                continue;
+            };
+            match asks.iter_mut().find(|(m, i, _)| *m == member && *i == id) {
+                Some((_, _, q)) => {
+                    *q = q.checked_add(qty).ok_or_else(|| StoreError::Overflow {
+                        label: format!("part #{id}"),
+                    })?;
+                }
+                None => asks.push((member, id, qty)),
+            }
+        }
+        if asks.is_empty() {
             return Err(StoreError::Invalid("nothing to hold: name a part".into()));
         }
+        let per_part = merge_items(
+            &asks.iter().map(|(_, id, q)| (*id, *q)).collect::<Vec<_>>(),
+            "the quantity to hold",
+        )?;
         let tx = self
             .conn
             .transaction_with_behavior(TransactionBehavior::Immediate)?;
         let mut short = Vec::new();
-        for &(id, qty) in &items {
+        for &(id, qty) in &per_part {
             let part = part_by_id(&tx, id)?;
             if qty > part.available() {
                 short.push(Shortfall {
@@ -311,16 +347,16 @@ impl Store {
         if !short.is_empty() {
             return Err(StoreError::NotFree { plan, short });
         }
-        let mut lines = Vec::with_capacity(items.len());
-        for &(id, qty) in &items {
-            let hold = hold_row(&tx, &plan, &member, id, who, why)?;
-            lines.push(move_hold(&tx, &hold, qty, 0, who, why)?);
+        let mut lines = Vec::with_capacity(asks.len());
+        for (member, id, qty) in &asks {
+            let hold = hold_row(&tx, &plan, member, *id, who, why)?;
+            lines.push(move_hold(&tx, &hold, *qty, 0, who, why)?);
         }
         tx.commit()?;
         Ok(HoldChange {
             action: HoldAction::Hold,
             plan,
-            member: Some(member),
+            member: None,
             why: why.to_string(),
             lines,
         })
@@ -709,6 +745,62 @@ mod tests {
             .expect("use all");
         assert_eq!(u.pieces(), 2);
         assert_eq!(s.part(r).expect("r").quantity, 3);
+        assert_ledger_re_derives(&s);
+    }
+
+    #[test]
+    fn holding_for_several_members_is_one_all_or_nothing_change() {
+        let (_d, mut s) = store();
+        let r = add(&mut s, "4.7k", 5);
+        let c = add(&mut s, "10n", 2);
+        // Each member alone would fit; together they need 6 of the 5 resistors.
+        let err = s
+            .hold_for_members(
+                "clocks",
+                &[("unit 1", r, 3), ("unit 1", c, 1), ("unit 2", r, 3)],
+                "t",
+                "x",
+            )
+            .expect_err("6 of 5");
+        assert!(
+            err.to_string().contains("asked for 6, 5 on the shelf"),
+            "{err}"
+        );
+        assert_eq!(s.part(r).expect("r").held, 0);
+        assert_eq!(s.ledger(None).expect("ledger").len(), 2);
+        let zero = s
+            .hold_for_members(
+                "clocks",
+                &[
+                    ("unit 1", r, 2),
+                    ("unit 1", c, 1),
+                    ("unit 2", r, 3),
+                    ("unit 1", r, 0),
+                ],
+                "t",
+                "x",
+            )
+            .expect_err("a zero count is refused");
+        assert!(matches!(zero, StoreError::BadCount { .. }));
+        let done = s
+            .hold_for_members(
+                "clocks",
+                &[("unit 1", r, 2), ("unit 1", c, 1), ("unit 2", r, 3)],
+                "t",
+                "x",
+            )
+            .expect("fits");
+        assert_eq!(done.lines.len(), 3);
+        assert_eq!(s.part(r).expect("r").available(), 0);
+        assert_eq!(
+            s.holds(&HoldFilter {
+                member: Some("unit 2".into()),
+                ..Default::default()
+            })
+            .expect("holds")[0]
+                .quantity,
+            3
+        );
         assert_ledger_re_derives(&s);
     }
 
