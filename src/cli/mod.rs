@@ -9,6 +9,7 @@ mod check;
 mod context;
 mod demo;
 mod find;
+mod holds;
 mod series;
 mod stock;
 
@@ -63,6 +64,8 @@ pub enum Command {
     Demo(demo::DemoArgs),
     #[command(flatten)]
     Stock(stock::StockCommand),
+    #[command(flatten)]
+    Holds(holds::HoldsCommand),
     /// Evaluate a design you hand it: times, frequency, duty, worst case, Monte Carlo, warnings.
     Check(Box<check::CheckArgs>),
     /// Find a design from the parts in stock, with the fewest pieces.
@@ -120,6 +123,7 @@ fn dispatch(cli: Cli, out: &mut dyn Write) -> anyhow::Result<Status> {
     match cli.command {
         Command::Demo(args) => demo::run(args, &ctx, out),
         Command::Stock(cmd) => stock::run(cmd, &ctx, out),
+        Command::Holds(cmd) => holds::run(cmd, &ctx, out),
         Command::Check(args) => check::run(*args, &ctx, out),
         Command::Find(args) => find::run(args, &ctx, out),
         Command::Series(args) => series::run(args, &ctx, out),

@@ -1,6 +1,7 @@
 //! Changing counts: add (create or top up a row), take, recount, each in one IMMEDIATE
 //! transaction together with its ledger entry; and reading the ledger back.
 
+use super::holds::holders;
 use super::part::Part;
 use super::query::{PART_COLUMNS, part_by_id, part_from_row};
 use super::spec::PartSpec;
@@ -43,6 +44,14 @@ pub struct LedgerEntry {
     pub delta: i64,
     /// Count after the change.
     pub quantity_after: i64,
+    /// Change to the held count (holds, releases and uses; 0 for other changes).
+    pub held_delta: i64,
+    /// Held count after the change.
+    pub held_after: i64,
+    /// The plan whose hold moved, for holds, releases and uses.
+    pub plan: Option<String>,
+    /// The hold row that moved.
+    pub hold_id: Option<i64>,
 }
 
 /// The row with exactly this identity, if any.
@@ -104,7 +113,9 @@ fn set_count(
     conn.prepare_cached("UPDATE part SET quantity = ?2 WHERE id = ?1")?
         .execute(params![id, after])?;
     conn.prepare_cached(
-        "INSERT INTO ledger (part_id, who, why, delta, quantity_after) VALUES (?1, ?2, ?3, ?4, ?5)",
+        "INSERT INTO ledger (part_id, who, why, delta, quantity_after, held_after) \
+         VALUES (?1, ?2, ?3, ?4, ?5, \
+                 (SELECT COALESCE(SUM(quantity), 0) FROM hold WHERE part_id = ?1))",
     )?
     .execute(params![id, who, why, delta, after])?;
     Ok(())
@@ -239,6 +250,17 @@ impl Store {
                 want: qty,
             });
         }
+        // Held pieces are not for taking: that is what `use_held` is for.
+        if qty > part.available() {
+            return Err(StoreError::HeldBack {
+                place: part.place(),
+                label: part.value.to_string(),
+                have: part.quantity,
+                held: part.held,
+                holders: holders(&tx, id)?,
+                want: qty,
+            });
+        }
         let after = part.quantity - qty;
         set_count(&tx, id, -qty, after, who, why)?;
         let now = part_by_id(&tx, id)?;
@@ -271,6 +293,16 @@ impl Store {
             .conn
             .transaction_with_behavior(TransactionBehavior::Immediate)?;
         let part = part_by_id(&tx, id)?;
+        // A count below the held pieces would break the plans' holds: refuse, and say which.
+        if counted < part.held {
+            return Err(StoreError::RecountBelowHeld {
+                place: part.place(),
+                label: part.value.to_string(),
+                counted,
+                held: part.held,
+                holders: holders(&tx, id)?,
+            });
+        }
         let delta = counted - part.quantity;
         set_count(&tx, id, delta, counted, who, why)?;
         let now = part_by_id(&tx, id)?;
@@ -288,8 +320,8 @@ impl Store {
     /// The ledger, oldest first: of one part, or of the whole store.
     pub fn ledger(&self, part: Option<i64>) -> Result<Vec<LedgerEntry>, StoreError> {
         let mut stmt = self.conn.prepare_cached(
-            "SELECT id, part_id, at, who, why, delta, quantity_after FROM ledger \
-             WHERE ?1 IS NULL OR part_id = ?1 ORDER BY id",
+            "SELECT id, part_id, at, who, why, delta, quantity_after, held_delta, held_after, \
+             plan, hold_id FROM ledger WHERE ?1 IS NULL OR part_id = ?1 ORDER BY id",
         )?;
         let rows = stmt.query_map([part], |r| {
             Ok(LedgerEntry {
@@ -300,6 +332,10 @@ impl Store {
                 why: r.get(4)?,
                 delta: r.get(5)?,
                 quantity_after: r.get(6)?,
+                held_delta: r.get(7)?,
+                held_after: r.get(8)?,
+                plan: r.get(9)?,
+                hold_id: r.get(10)?,
             })
         })?;
         Ok(rows.collect::<Result<_, _>>()?)

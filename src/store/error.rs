@@ -72,6 +72,69 @@ pub enum StoreError {
         /// Pieces asked for.
         want: i64,
     },
+    /// Taking pieces that are on the shelf but held for plans.
+    #[error(
+        "{place} holds {have} × {label}, but {held} of them are held ({}); only {} free, \
+         cannot take {want}. Release a hold (`onhand release --plan NAME`) or draw a plan's \
+         pieces with `onhand use --plan NAME`",
+        render_holders(.holders), .have - .held
+    )]
+    HeldBack {
+        /// "bin A3" or "part #12".
+        place: String,
+        /// The part in words.
+        label: String,
+        /// Pieces on the shelf.
+        have: i64,
+        /// Pieces held for plans.
+        held: i64,
+        /// (plan, pieces) for each plan holding some.
+        holders: Vec<(String, i64)>,
+        /// Pieces asked for.
+        want: i64,
+    },
+    /// A stock-take that would leave fewer pieces than are held.
+    #[error(
+        "cannot recount {place} ({label}) to {counted}: {held} are held ({}); release those \
+         holds first (`onhand release --plan NAME`), then recount",
+        render_holders(.holders)
+    )]
+    RecountBelowHeld {
+        /// "bin A3" or "part #12".
+        place: String,
+        /// The part in words.
+        label: String,
+        /// The count given.
+        counted: i64,
+        /// Pieces held for plans.
+        held: i64,
+        /// (plan, pieces) for each plan holding some.
+        holders: Vec<(String, i64)>,
+    },
+    /// A hold asking for more than is free; nothing was held.
+    #[error("cannot hold for plan {plan:?}, nothing was held:{}", render_free_shortfalls(.short))]
+    NotFree {
+        /// The plan.
+        plan: String,
+        /// Every item that did not fit.
+        short: Vec<Shortfall>,
+    },
+    /// Using more held pieces than the plan holds; nothing was used.
+    #[error("cannot use for plan {plan:?}, nothing was used:{}", render_held_shortfalls(.short))]
+    NotHeld {
+        /// The plan.
+        plan: String,
+        /// Every item that is not held in that number.
+        short: Vec<Shortfall>,
+    },
+    /// A release or use that matches no live hold.
+    #[error("plan {plan:?} holds nothing{scope}; see `onhand holds`")]
+    NothingHeld {
+        /// The plan.
+        plan: String,
+        /// What was asked about, e.g. ` for member "unit 2"` or ` of #3 4.7 kΩ …`.
+        scope: String,
+    },
     /// A count that is not a whole non-negative number of pieces.
     #[error("{what} must be a whole number of pieces, 0 or more (got {got})")]
     BadCount {
@@ -95,6 +158,65 @@ pub enum StoreError {
     /// Import input with problems; every one is listed with its row and column.
     #[error("{}", render_row_errors(.0))]
     Import(Vec<RowError>),
+}
+
+/// One item of a hold or use that cannot be met, with the counts that decide it.
+#[derive(Debug, Clone, PartialEq, Eq, serde::Serialize)]
+pub struct Shortfall {
+    /// The part row.
+    pub part_id: i64,
+    /// The part and its place in words: "#3 4.7 kΩ 1% metal film in bin A3".
+    pub part: String,
+    /// Pieces asked for.
+    pub want: i64,
+    /// Pieces on the shelf.
+    pub on_hand: i64,
+    /// Pieces held (for a hold: by every plan; for a use: by this plan).
+    pub held: i64,
+    /// Pieces that could be had: free ones for a hold, this plan's held ones for a use.
+    pub can: i64,
+    /// (plan, pieces) for each plan holding some.
+    pub holders: Vec<(String, i64)>,
+}
+
+fn render_holders(holders: &[(String, i64)]) -> String {
+    if holders.is_empty() {
+        return "by no plan".to_string();
+    }
+    holders
+        .iter()
+        .map(|(plan, n)| format!("{n} for plan {plan:?}"))
+        .collect::<Vec<_>>()
+        .join(", ")
+}
+
+fn render_free_shortfalls(short: &[Shortfall]) -> String {
+    short
+        .iter()
+        .map(|s| {
+            let held = if s.held == 0 {
+                "none held".to_string()
+            } else {
+                format!("{} held ({})", s.held, render_holders(&s.holders))
+            };
+            format!(
+                "\n  {}: asked for {}, {} on the shelf, {held}, {} free",
+                s.part, s.want, s.on_hand, s.can
+            )
+        })
+        .collect()
+}
+
+fn render_held_shortfalls(short: &[Shortfall]) -> String {
+    short
+        .iter()
+        .map(|s| {
+            format!(
+                "\n  {}: asked for {}, the plan holds {}",
+                s.part, s.want, s.can
+            )
+        })
+        .collect()
 }
 
 /// One problem in an import file, cited by row (1 = the first data row; the header is row 0 in

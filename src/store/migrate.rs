@@ -17,11 +17,18 @@ pub struct Migration {
 }
 
 /// Every migration, in order. A test checks this list against the folder.
-pub const MIGRATIONS: &[Migration] = &[Migration {
-    version: 1,
-    name: "0001_parts_and_ledger.sql",
-    sql: include_str!("../../migrations/0001_parts_and_ledger.sql"),
-}];
+pub const MIGRATIONS: &[Migration] = &[
+    Migration {
+        version: 1,
+        name: "0001_parts_and_ledger.sql",
+        sql: include_str!("../../migrations/0001_parts_and_ledger.sql"),
+    },
+    Migration {
+        version: 2,
+        name: "0002_holds.sql",
+        sql: include_str!("../../migrations/0002_holds.sql"),
+    },
+];
 
 /// The schema version this binary writes.
 pub fn latest() -> i64 {

@@ -4,11 +4,13 @@
 //!
 //! Every write runs in one `BEGIN IMMEDIATE` transaction that also appends the ledger entry, so
 //! two processes drawing from the same drawer never lose an update, and a count can always be
-//! re-derived from the ledger. Reservations ("holds") are not built yet: `Part::held` is 0.
+//! re-derived from the ledger. Holds (reservations for a plan) live in `holds.rs`: a part's
+//! `held` is the sum of its holds, and held pieces are left out of what new designs may use.
 
 mod change;
 mod error;
 mod exchange;
+pub mod holds;
 mod import;
 mod migrate;
 pub mod part;
@@ -17,8 +19,9 @@ pub mod spec;
 pub mod text;
 
 pub use change::{Change, LedgerEntry};
-pub use error::{RowError, StoreError};
+pub use error::{RowError, Shortfall, StoreError};
 pub use exchange::{COLUMNS, ExportFormat, Record, export, read_csv, read_json};
+pub use holds::{Hold, HoldAction, HoldChange, HoldFilter, HoldLine};
 pub use import::{ImportLine, ImportReport};
 pub use part::{Kind, Part, Technology, UnknownName, Value};
 pub use query::PartFilter;

@@ -31,9 +31,18 @@ pub struct PartFilter {
     pub available: bool,
 }
 
-/// The columns every part query selects, in the order [`part_from_row`] reads them.
+/// The columns every part query selects, in the order [`part_from_row`] reads them. The last one
+/// is the held count: the sum of the part's holds (never stored twice).
 pub(crate) const PART_COLUMNS: &str = "id, kind, value, tol_minus_ppb, tol_plus_ppb, technology, \
-     volts_uv, watts_uw, package, bin, quantity, low_stock, note";
+     volts_uv, watts_uw, package, bin, quantity, low_stock, note, \
+     (SELECT COALESCE(SUM(h.quantity), 0) FROM hold h WHERE h.part_id = part.id) AS held";
+
+/// [`PART_COLUMNS`] with the held count leaving out the holds of the plan in parameter `?1`, so
+/// that a plan sees its own held pieces as available to itself.
+const PART_COLUMNS_FOR_PLAN: &str = "id, kind, value, tol_minus_ppb, tol_plus_ppb, technology, \
+     volts_uv, watts_uw, package, bin, quantity, low_stock, note, \
+     (SELECT COALESCE(SUM(h.quantity), 0) FROM hold h WHERE h.part_id = part.id \
+      AND h.plan IS NOT ?1) AS held";
 
 /// Stable content order: by kind, then value, tolerance, technology, package, bin.
 pub(crate) const PART_ORDER: &str = "CASE kind WHEN 'resistor' THEN 0 WHEN 'trimmer' THEN 1 \
@@ -65,7 +74,7 @@ pub(crate) fn part_from_row(row: &Row<'_>) -> rusqlite::Result<Result<Part, Stor
         package: row.get(8)?,
         bin: row.get(9)?,
         quantity: row.get(10)?,
-        held: 0,
+        held: row.get(13)?,
         low_stock: row.get(11)?,
         note: row.get(12)?,
     }))
@@ -157,7 +166,12 @@ impl PartFilter {
             );
         }
         if self.available {
-            push("quantity > 0".into(), None);
+            push(
+                "quantity > (SELECT COALESCE(SUM(h.quantity), 0) FROM hold h \
+                 WHERE h.part_id = part.id)"
+                    .into(),
+                None,
+            );
         }
         let clause = if clauses.is_empty() {
             String::new()
@@ -176,12 +190,27 @@ impl Store {
         query_parts(&self.conn, &sql, &params)
     }
 
-    /// A snapshot of every part with pieces free for a new design: the solver's input.
+    /// A snapshot of every part with pieces free for a new design: the solver's input. Held
+    /// pieces are not free: each part's `held` counts every hold, and parts whose pieces are all
+    /// held are left out.
     pub fn available_parts(&self) -> Result<Vec<Part>, StoreError> {
-        self.parts(&PartFilter {
-            available: true,
-            ..PartFilter::default()
-        })
+        self.available_parts_including(None)
+    }
+
+    /// Like [`Store::available_parts`], but the pieces held for `plan` count as available to
+    /// it: each part's `held` counts only the holds of *other* plans, so `available()` is what
+    /// this plan may use. `None` is the same as [`Store::available_parts`].
+    pub fn available_parts_including(&self, plan: Option<&str>) -> Result<Vec<Part>, StoreError> {
+        let sql = format!(
+            "SELECT {PART_COLUMNS_FOR_PLAN} FROM part WHERE quantity > \
+             (SELECT COALESCE(SUM(h.quantity), 0) FROM hold h WHERE h.part_id = part.id \
+              AND h.plan IS NOT ?1) ORDER BY {PART_ORDER}"
+        );
+        query_parts(
+            &self.conn,
+            &sql,
+            &[plan.map_or(SqlValue::Null, |p| SqlValue::Text(p.to_string()))],
+        )
     }
 
     /// One part by row id.

@@ -90,7 +90,8 @@ pub fn table(parts: &[Part]) -> Table {
     let mut t = Table::new();
     t.load_style(presets::UTF8_FULL_CONDENSED);
     t.set_header(vec![
-        "#", "kind", "value", "tol", "tech", "rating", "package", "bin", "qty", "low", "note",
+        "#", "kind", "value", "tol", "tech", "rating", "package", "bin", "qty", "held", "free",
+        "low", "note",
     ]);
     for p in parts {
         let low = match p.low_stock {
@@ -112,11 +113,13 @@ pub fn table(parts: &[Part]) -> Table {
             p.package.clone(),
             p.bin.clone(),
             p.quantity.to_string(),
+            p.held.to_string(),
+            p.available().to_string(),
             low,
             p.note.clone(),
         ]);
     }
-    for col in [2, 8, 9] {
+    for col in [2, 8, 9, 10, 11] {
         if let Some(c) = t.column_mut(col) {
             c.set_cell_alignment(CellAlignment::Right);
         }
@@ -157,7 +160,17 @@ pub fn run_list(a: ListArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resu
     }
     writeln!(out, "{}", table(&parts))?;
     let pieces: i64 = parts.iter().map(|p| p.quantity).sum();
-    writeln!(out, "{} rows, {pieces} pieces", parts.len())?;
+    let held: i64 = parts.iter().map(|p| p.held).sum();
+    if held == 0 {
+        writeln!(out, "{} rows, {pieces} pieces", parts.len())?;
+    } else {
+        writeln!(
+            out,
+            "{} rows, {pieces} pieces ({held} held for plans, {} free)",
+            parts.len(),
+            pieces - held
+        )?;
+    }
     Ok(Status::Success)
 }
 
@@ -190,6 +203,26 @@ pub fn run_show(a: ShowArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resu
         writeln!(out, "  bin         {}", part.bin)?;
     }
     writeln!(out, "  on hand     {}", part.quantity)?;
+    if part.held > 0 {
+        let holds = store.holds(&crate::store::HoldFilter {
+            part: Some(part.id),
+            ..Default::default()
+        })?;
+        let by: Vec<String> = holds
+            .iter()
+            .map(|h| {
+                if h.member.is_empty() {
+                    format!("{} for plan {:?}", h.quantity, h.plan)
+                } else {
+                    format!("{} for plan {:?} [{}]", h.quantity, h.plan, h.member)
+                }
+            })
+            .collect();
+        writeln!(out, "  held        {} ({})", part.held, by.join(", "))?;
+    } else {
+        writeln!(out, "  held        0")?;
+    }
+    writeln!(out, "  free        {}", part.available())?;
     if let Some(l) = part.low_stock {
         writeln!(out, "  low level   {l}")?;
     }
@@ -201,13 +234,32 @@ pub fn run_show(a: ShowArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resu
     }
     let mut t = Table::new();
     t.load_style(presets::UTF8_FULL_CONDENSED);
-    t.set_header(vec!["when (UTC)", "who", "change", "after", "why"]);
+    t.set_header(vec![
+        "when (UTC)",
+        "who",
+        "change",
+        "after",
+        "held",
+        "held after",
+        "why",
+    ]);
     for e in &ledger {
+        let held = match (&e.plan, e.held_delta) {
+            (Some(plan), d) => format!("{d:+} {plan}"),
+            (None, 0) => String::new(),
+            (None, d) => format!("{d:+}"),
+        };
         t.add_row(vec![
             e.at.clone(),
             e.who.clone(),
-            format!("{:+}", e.delta),
+            if e.delta == 0 && e.plan.is_some() {
+                String::new()
+            } else {
+                format!("{:+}", e.delta)
+            },
             e.quantity_after.to_string(),
+            held,
+            e.held_after.to_string(),
             e.why.clone(),
         ]);
     }

@@ -23,7 +23,7 @@ pub enum StockCommand {
     /// Put parts into stock: tops up the matching row or creates it.
     #[command(after_help = add::EXAMPLES)]
     Add(Box<add::AddArgs>),
-    /// Take parts out of stock (refused if the shelf holds fewer).
+    /// Take parts out of stock (refused if fewer are free: on the shelf and not held).
     #[command(after_help = take::TAKE_EXAMPLES)]
     Take(take::TakeArgs),
     /// Stock-take: set a row to the count you have just made.

@@ -10,12 +10,16 @@ Examples:
   onhand take 4.7k --bin A3                  one piece of the 4.7 kΩ in bin A3
 
 PART is a row id (#12 or 12) or a value; if a value matches several rows, the error lists
-them and --bin, --tech or --kind narrow it down.";
+them and --bin, --tech or --kind narrow it down. Pieces held for a plan (see `onhand holds`)
+are not taken: release the hold, or draw them for the plan with `onhand use --plan NAME`.";
 
 pub const RECOUNT_EXAMPLES: &str = "\
 Examples:
   onhand recount '#12' 37                    I counted 37; the ledger records the difference
-  onhand recount 100n 18 --bin C2";
+  onhand recount 100n 18 --bin C2
+
+A count below the pieces held for plans is refused, naming the plans: release those holds
+first (`onhand release --plan NAME`), then recount.";
 
 /// Arguments of `take`.
 #[derive(Debug, clap::Args)]
