@@ -4,17 +4,17 @@ use crate::util::Bench;
 
 /// An invented bench drawer (demo data).
 const DRAWER: &str = "\
-kind,value,tolerance,technology,voltage,bin,quantity,held
-resistor,10k,1%,metal_film,,A1,4,0
-resistor,22k,1%,metal_film,,A2,2,1
-resistor,33k,5%,carbon_film,,A3,3,0
-resistor,4.7k,1%,metal_film,,A4,2,0
-resistor,1k,1%,metal_film,,A5,5,0
-resistor,100k,1%,metal_film,,A6,2,0
-capacitor,10n,5%,film,100,C1,3,0
-capacitor,2.2n,5%,c0g,50,C3,2,0
-capacitor,10u,20%,electrolytic,16,C4,2,0
-capacitor,1u,10%,film,63,C5,2,0
+kind,value,tolerance,technology,volts,bin,quantity
+resistor,10k,1%,metal_film,,A1,4
+resistor,22k,1%,metal_film,,A2,2
+resistor,33k,5%,carbon_film,,A3,3
+resistor,4.7k,1%,metal_film,,A4,2
+resistor,1k,1%,metal_film,,A5,5
+resistor,100k,1%,metal_film,,A6,2
+capacitor,10n,5%,film,100,C1,3
+capacitor,2.2n,5%,c0g,50,C3,2
+capacitor,10u,20%,electrolytic,16,C4,2
+capacitor,1u,10%,film,63,C5,2
 ";
 
 fn drawer() -> (Bench, String) {
@@ -42,8 +42,16 @@ fn value_substitute_in_series() {
 #[test]
 fn held_stock_is_left_alone_unless_asked() {
     let (b, s) = drawer();
-    // common practice: two equal resistors in parallel halve: 22 kΩ ∥ 22 kΩ = 11 kΩ exactly;
-    // but one of the two 22 kΩ is held by a reservation.
+    b.run(&["import", &s]).ok();
+    // One of the two 22 kΩ (bin A2) is held for another job.
+    let j = b.run(&["--json", "list", "--bin", "A2"]).ok().json();
+    let id = j[0]["id"]
+        .as_i64()
+        .expect("id of the 22 kΩ row")
+        .to_string();
+    b.run(&["hold", "--plan", "other job", &format!("#{id}=1")])
+        .ok();
+    // common practice: two equal resistors in parallel halve: 22 kΩ ∥ 22 kΩ = 11 kΩ exactly.
     let nets = |extra: &[&str]| -> Vec<String> {
         let mut args = vec![
             "--json",
@@ -56,7 +64,6 @@ fn held_stock_is_left_alone_unless_asked() {
             "9",
         ];
         args.extend_from_slice(extra);
-        args.extend_from_slice(&["--stock", &s]);
         let j = b.run(&args).ok().json();
         j["designs"]
             .as_array()
@@ -183,7 +190,7 @@ fn dual_binds_stock_across_stages() {
     let b = Bench::new();
     let p = b.write(
         "d.csv",
-        "value,tolerance,technology,voltage,bin,quantity\n100k,1%,metal_film,,R1,1\n1uF,5%,film,63,C1,1\n",
+        "value,tolerance,technology,volts,bin,quantity\n100k,1%,metal_film,,R1,1\n1uF,5%,film,63,C1,1\n",
     );
     let s = p.to_str().expect("path");
     b.run(&["find", "pulse", "109.86ms", "--stock", s]).ok();
@@ -203,6 +210,7 @@ fn missing_stock_is_an_error() {
     Bench::new()
         .run(&["find", "pulse", "1ms"])
         .code(2)
+        .stderr_has("holds no parts yet")
         .stderr_has("--stock");
 }
 

@@ -9,12 +9,12 @@ use super::{Context, Status};
 use crate::report::find as render;
 use crate::solve::suggest::advise;
 use crate::solve::{Duty, Goal, Rank, Settings, StageGoal, family_by_name, solve};
-use crate::store::{Kind, Part, Technology, Value};
+use crate::store::{Kind, Part, Technology};
 use crate::timing::Conditions;
 use crate::units::eseries::Series;
 use crate::units::{
-    Farads, Ohms, Tolerance, parse_capacitance, parse_frequency, parse_ratio, parse_resistance,
-    parse_time, parse_tolerance, parse_voltage,
+    parse_capacitance, parse_frequency, parse_ratio, parse_resistance, parse_time, parse_tolerance,
+    parse_voltage,
 };
 use anyhow::{Context as _, Result, anyhow, bail};
 use std::io::Write;
@@ -34,7 +34,7 @@ pub struct FindArgs {
 /// Options shared by every form of `find` (boxed: they are many).
 #[derive(Debug, clap::Args)]
 struct FindOptions {
-    /// Stock to search, as CSV (columns: kind,value,tolerance,technology,voltage,bin,quantity,held).
+    /// Search this CSV (the `onhand import` format) instead of the stock database.
     #[arg(long, global = true, value_name = "FILE")]
     stock: Option<PathBuf>,
     /// Allowed deviation of each targeted quantity from its target.
@@ -415,127 +415,38 @@ fn techs(list: &[String], timing: bool) -> Result<Option<Vec<Technology>>> {
         .map(Some)
 }
 
-/// The stock snapshot for the search. Until the store is wired in, it comes from the CSV file
-/// given by `--stock`.
-pub fn load_stock(_ctx: &Context, stock: Option<&Path>) -> Result<Vec<Part>> {
-    let Some(path) = stock else {
-        bail!("no stock to search: give --stock FILE (a CSV of parts)");
+/// The stock snapshot for the search: every part with its held count (the search uses only
+/// the free pieces unless `--include-held`). From the stock database, or — with `--stock FILE`
+/// — from a CSV in the import format, loaded into a throw-away in-memory store so it is read by
+/// exactly the same rules as `onhand import`.
+pub fn load_stock(ctx: &Context, stock: Option<&Path>) -> Result<Vec<Part>> {
+    let store = match stock {
+        Some(path) => scratch_store(ctx, path)?,
+        None => super::stock::open_store(ctx)?,
     };
-    let text = std::fs::read_to_string(path)
-        .with_context(|| format!("reading stock file {}", path.display()))?;
-    parse_stock_csv(&text).with_context(|| format!("stock file {}", path.display()))
-}
-
-/// Parse stock CSV: a header row naming the columns (any order, case ignored): `value`
-/// (required), `kind`, `tolerance`, `technology`, `voltage`, `bin`, `quantity`, `held`,
-/// `package`, `note`. Kind is guessed from the value when absent.
-pub fn parse_stock_csv(text: &str) -> Result<Vec<Part>> {
-    let mut rdr = csv::ReaderBuilder::new()
-        .trim(csv::Trim::All)
-        .comment(Some(b'#'))
-        .from_reader(text.as_bytes());
-    let headers: Vec<String> = rdr
-        .headers()
-        .context("reading the header row")?
-        .iter()
-        .map(|h| h.to_ascii_lowercase())
-        .collect();
-    let col = |names: &[&str]| headers.iter().position(|h| names.contains(&h.as_str()));
-    let c_value = col(&["value"]).ok_or_else(|| anyhow!("no 'value' column"))?;
-    let (c_kind, c_tol, c_tech) = (
-        col(&["kind"]),
-        col(&["tolerance", "tol"]),
-        col(&["technology", "tech"]),
-    );
-    let (c_volt, c_bin, c_qty, c_held) = (
-        col(&["voltage", "rating", "voltage_rating"]),
-        col(&["bin", "location"]),
-        col(&["quantity", "qty"]),
-        col(&["held"]),
-    );
-    let (c_pkg, c_note) = (col(&["package"]), col(&["note"]));
-    let mut parts = Vec::new();
-    for (i, rec) in rdr.records().enumerate() {
-        let line = i + 2;
-        let rec = rec.with_context(|| format!("row {line}"))?;
-        let get = |c: Option<usize>| c.and_then(|c| rec.get(c)).unwrap_or("").trim();
-        let value_text = get(Some(c_value));
-        let kind = match get(c_kind).to_ascii_lowercase().as_str() {
-            "" => guess_kind(value_text),
-            "resistor" | "r" => Kind::Resistor,
-            "capacitor" | "c" => Kind::Capacitor,
-            other => bail!("row {line}: kind {other:?} is not resistor or capacitor"),
-        };
-        let value = match kind {
-            Kind::Capacitor => Value::Capacitance(
-                parse_capacitance(value_text)
-                    .map_err(|e| anyhow!("row {line}: {e}"))
-                    .and_then(|v: Farads| {
-                        if v.is_positive() {
-                            Ok(v)
-                        } else {
-                            Err(anyhow!("row {line}: value must be above zero"))
-                        }
-                    })?,
-            ),
-            _ => Value::Resistance(
-                parse_resistance(value_text)
-                    .map_err(|e| anyhow!("row {line}: {e}"))
-                    .and_then(|v: Ohms| {
-                        if v.is_positive() {
-                            Ok(v)
-                        } else {
-                            Err(anyhow!("row {line}: value must be above zero"))
-                        }
-                    })?,
-            ),
-        };
-        let technology = match get(c_tech) {
-            "" if kind == Kind::Resistor => Technology::MetalFilm,
-            "" => Technology::Other,
-            t => tech_of(t).ok_or_else(|| anyhow!("row {line}: unknown technology {t:?}"))?,
-        };
-        let tolerance = match get(c_tol) {
-            // Without a marking, assume the common wide grades (common practice).
-            "" => Tolerance::symmetric_percent(match (kind, technology.is_electrolytic()) {
-                (Kind::Resistor, _) => 5.0,
-                (_, true) => 20.0,
-                _ => 10.0,
-            })
-            .ok_or_else(|| anyhow!("row {line}: tolerance"))?,
-            t => parse_tolerance(t).map_err(|e| anyhow!("row {line}: {e}"))?,
-        };
-        let voltage_rating = match get(c_volt) {
-            "" => None,
-            v => Some(parse_voltage(v).map_err(|e| anyhow!("row {line}: {e}"))?),
-        };
-        let int = |c: Option<usize>, default: i64, what: &str| -> Result<i64> {
-            match get(c) {
-                "" => Ok(default),
-                t => t
-                    .parse::<i64>()
-                    .ok()
-                    .filter(|n| *n >= 0)
-                    .ok_or_else(|| anyhow!("row {line}: {what} {t:?} is not a whole number")),
-            }
-        };
-        parts.push(Part {
-            id: line as i64,
-            kind,
-            value,
-            tolerance,
-            technology,
-            voltage_rating,
-            power_rating: None,
-            package: get(c_pkg).to_string(),
-            bin: get(c_bin).to_string(),
-            quantity: int(c_qty, 1, "quantity")?,
-            held: int(c_held, 0, "held")?,
-            low_stock: None,
-            note: get(c_note).to_string(),
-        });
+    let parts = store.parts(&crate::store::PartFilter::default())?;
+    if parts.is_empty() {
+        bail!(
+            "{} holds no parts yet: add some with `onhand add` or `onhand import FILE`, or search \
+             a CSV with --stock FILE",
+            store.path().display()
+        );
     }
     Ok(parts)
+}
+
+/// A throw-away in-memory store holding the parts of a CSV file.
+pub fn scratch_store(ctx: &Context, path: &Path) -> Result<crate::store::Store> {
+    let text = std::fs::read_to_string(path)
+        .with_context(|| format!("reading stock file {}", path.display()))?;
+    let records =
+        crate::store::read_csv(&text).with_context(|| format!("stock file {}", path.display()))?;
+    let mut store =
+        crate::store::Store::open(Path::new(":memory:")).context("opening an in-memory store")?;
+    store
+        .import(&records, &path.display().to_string(), &ctx.user, false)
+        .with_context(|| format!("stock file {}", path.display()))?;
+    Ok(store)
 }
 
 #[cfg(test)]
@@ -575,20 +486,5 @@ mod tests {
         }
         assert!(stage_of("steered:1ms").is_err());
         assert!(stage_of("wobble:1ms").is_err());
-    }
-
-    #[test]
-    fn stock_csv_rows_and_errors() {
-        let parts = parse_stock_csv(
-            "kind,value,tolerance,technology,voltage,bin,quantity,held\n\
-             resistor,10k,1%,metal_film,,A1,5,1\n\
-             ,100n,5%,film,50,C1,2,\n",
-        )
-        .expect("parse");
-        assert_eq!(parts.len(), 2);
-        assert_eq!(parts[0].available(), 4);
-        assert_eq!(parts[1].kind, Kind::Capacitor);
-        let err = parse_stock_csv("value,quantity\n10k,lots\n").expect_err("bad qty");
-        assert!(format!("{err:#}").contains("row 2"));
     }
 }

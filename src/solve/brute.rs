@@ -272,7 +272,8 @@ fn stage_error(parts: &[Part], g: &StageGoal, nets: &[&BNet], s: &Settings) -> O
     let tol = s.tol;
     let mut cond: Conditions = s.conditions;
     if let StageGoal::Square { .. } = g {
-        cond.output_high_drop = Volts::from_si(s.family.output_high_drop.value).unwrap_or(Volts::ZERO);
+        cond.output_high_drop =
+            Volts::from_si(s.family.output_high_drop.value).unwrap_or(Volts::ZERO);
     }
     let f = cond.factors().ok()?;
     let ie = match g {

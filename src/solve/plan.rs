@@ -87,7 +87,11 @@ pub struct Buildable {
 
 /// Pieces per row that one unit of `d` takes.
 fn uses_of(d: &Design) -> Vec<(usize, u32)> {
-    let mut rows: Vec<usize> = d.positions.iter().flat_map(|p| p.rows.iter().copied()).collect();
+    let mut rows: Vec<usize> = d
+        .positions
+        .iter()
+        .flat_map(|p| p.rows.iter().copied())
+        .collect();
     rows.sort_unstable();
     let mut out: Vec<(usize, u32)> = Vec::new();
     for r in rows {
@@ -114,8 +118,11 @@ fn stage_candidates(
     let mut out = Vec::new();
     for pool in pools {
         let subset: Vec<Part> = pool.iter().map(|&i| parts[i].clone()).collect();
-        let outcome = solve(&subset, &stage.goal, &settings)
-            .map_err(|source| PlanError::Search { stage: stage.name.clone(), source })?;
+        let outcome =
+            solve(&subset, &stage.goal, &settings).map_err(|source| PlanError::Search {
+                stage: stage.name.clone(),
+                source,
+            })?;
         for mut d in outcome.designs {
             for p in &mut d.positions {
                 for r in &mut p.rows {
@@ -132,7 +139,10 @@ fn stage_candidates(
 }
 
 fn resource_of(p: &Part) -> Resource {
-    Resource { available: u32::try_from(p.available().max(0)).unwrap_or(u32::MAX), pack: None }
+    Resource {
+        available: u32::try_from(p.available().max(0)).unwrap_or(u32::MAX),
+        pack: None,
+    }
 }
 
 fn ip_candidates(per_stage: &[Vec<Design>]) -> (Vec<Candidate>, Vec<(usize, usize)>) {
@@ -141,18 +151,32 @@ fn ip_candidates(per_stage: &[Vec<Design>]) -> (Vec<Candidate>, Vec<(usize, usiz
     for (s, designs) in per_stage.iter().enumerate() {
         for (i, d) in designs.iter().enumerate() {
             let uses = uses_of(d);
-            cands.push(Candidate { stage: s, pieces: uses.iter().map(|u| u.1).sum(), uses, error: d.error });
+            cands.push(Candidate {
+                stage: s,
+                pieces: uses.iter().map(|u| u.1).sum(),
+                uses,
+                error: d.error,
+            });
             origin.push((s, i));
         }
     }
     (cands, origin)
 }
 
-fn shares(stages: &[PlanStage], per_stage: &[Vec<Design>], origin: &[(usize, usize)], counts: &[u32]) -> Vec<StageShare> {
+fn shares(
+    stages: &[PlanStage],
+    per_stage: &[Vec<Design>],
+    origin: &[(usize, usize)],
+    counts: &[u32],
+) -> Vec<StageShare> {
     let mut out: Vec<StageShare> = stages
         .iter()
         .zip(per_stage)
-        .map(|(s, d)| StageShare { name: s.name.clone(), candidates: d.len(), uses: Vec::new() })
+        .map(|(s, d)| StageShare {
+            name: s.name.clone(),
+            candidates: d.len(),
+            uses: Vec::new(),
+        })
         .collect();
     for (&(s, i), &n) in origin.iter().zip(counts) {
         if n > 0 {
@@ -160,7 +184,7 @@ fn shares(stages: &[PlanStage], per_stage: &[Vec<Design>], origin: &[(usize, usi
         }
     }
     for s in &mut out {
-        s.uses.sort_by(|a, b| b.1.cmp(&a.1));
+        s.uses.sort_by_key(|u| std::cmp::Reverse(u.1));
     }
     out
 }
@@ -175,30 +199,58 @@ pub fn buildable(
     limits: Limits,
 ) -> Result<Buildable, PlanError> {
     let all: Vec<usize> = (0..parts.len()).collect();
-    let per_stage: Vec<Vec<Design>> =
-        stages.iter().map(|s| stage_candidates(parts, std::slice::from_ref(&all), s, count)).collect::<Result<_, _>>()?;
-    let impossible: Vec<String> =
-        stages.iter().zip(&per_stage).filter(|(_, d)| d.is_empty()).map(|(s, _)| s.name.clone()).collect();
+    let per_stage: Vec<Vec<Design>> = stages
+        .iter()
+        .map(|s| stage_candidates(parts, std::slice::from_ref(&all), s, count))
+        .collect::<Result<_, _>>()?;
+    let impossible: Vec<String> = stages
+        .iter()
+        .zip(&per_stage)
+        .filter(|(_, d)| d.is_empty())
+        .map(|(s, _)| s.name.clone())
+        .collect();
     let resources: Vec<Resource> = parts.iter().map(resource_of).collect();
     let (cands, origin) = ip_candidates(&per_stage);
     let alloc = if impossible.is_empty() {
         allocate::allocate(stages.len(), units, &cands, &resources, limits)?
     } else {
-        allocate::Allocation { units: 0, counts: vec![0; cands.len()], pieces: 0, proof: Proof::Optimal, size: ModelSize::default() }
+        allocate::Allocation {
+            units: 0,
+            counts: vec![0; cands.len()],
+            pieces: 0,
+            proof: Proof::Optimal,
+            size: ModelSize::default(),
+        }
     };
     let used = allocate::usage(&cands, &alloc.counts, parts.len());
-    let takes: Vec<(usize, u64)> = used.iter().enumerate().filter(|(_, n)| **n > 0).map(|(i, n)| (i, *n)).collect();
+    let takes: Vec<(usize, u64)> = used
+        .iter()
+        .enumerate()
+        .filter(|(_, n)| **n > 0)
+        .map(|(i, n)| (i, *n))
+        .collect();
     // What the missing units lack: each stage's best design, for the units not built.
     let missing = u64::from(units - alloc.units.min(units));
-    let mut left: Vec<u64> = resources.iter().zip(&used).map(|(r, u)| u64::from(r.available).saturating_sub(*u)).collect();
+    let mut left: Vec<u64> = resources
+        .iter()
+        .zip(&used)
+        .map(|(r, u)| u64::from(r.available).saturating_sub(*u))
+        .collect();
     let mut short = Vec::new();
     if missing > 0 {
         for (s, designs) in per_stage.iter().enumerate() {
-            let Some(best) = designs.first() else { continue };
+            let Some(best) = designs.first() else {
+                continue;
+            };
             for (row, per) in uses_of(best) {
                 let need = u64::from(per) * missing;
                 if need > left[row] {
-                    short.push(Short { stage: stages[s].name.clone(), row, need, left: left[row] });
+                    short.push(Short {
+                        stage: stages[s].name.clone(),
+                        row,
+                        need,
+                        left: left[row],
+                    });
                 }
                 left[row] = left[row].saturating_sub(need);
             }
@@ -256,7 +308,9 @@ pub fn reorder(
     limits: Limits,
 ) -> Result<Order, PlanError> {
     let offer_rows: BTreeSet<usize> = offers.iter().map(|o| o.row).collect();
-    let stock: Vec<usize> = (0..parts.len()).filter(|i| !offer_rows.contains(i)).collect();
+    let stock: Vec<usize> = (0..parts.len())
+        .filter(|i| !offer_rows.contains(i))
+        .collect();
     let all: Vec<usize> = (0..parts.len()).collect();
     let per_stage: Vec<Vec<Design>> = stages
         .iter()
@@ -270,7 +324,10 @@ pub fn reorder(
     }
     let mut resources: Vec<Resource> = parts.iter().map(resource_of).collect();
     for o in offers {
-        resources[o.row] = Resource { available: 0, pack: Some((o.pack, o.price_cents)) };
+        resources[o.row] = Resource {
+            available: 0,
+            pack: Some((o.pack, o.price_cents)),
+        };
     }
     let (cands, origin) = ip_candidates(&per_stage);
     let p = allocate::purchase(stages.len(), units, &cands, &resources, limits)?;

@@ -282,7 +282,8 @@ struct Ctx<'a> {
 pub fn stage_conditions(g: &StageGoal, s: &Settings) -> Conditions {
     let mut cond = s.conditions;
     if let StageGoal::Square { .. } = g {
-        cond.output_high_drop = Volts::from_si(s.family.output_high_drop.value).unwrap_or(Volts::ZERO);
+        cond.output_high_drop =
+            Volts::from_si(s.family.output_high_drop.value).unwrap_or(Volts::ZERO);
     }
     cond
 }
