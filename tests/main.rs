@@ -7,5 +7,6 @@ mod external_eseries;
 mod external_ngspice;
 mod external_ode;
 mod find;
+mod pictures;
 mod stock;
 mod store_safety;
