@@ -1,8 +1,10 @@
 //! `onhand check`: evaluate a design handed in as values — times, frequency, duty, the model
 //! used, exact worst case, Monte Carlo, whether a target is guaranteed, electrical findings, the
 //! trimmer that covers the spread, and (with `--measured`) the unknown part inferred from a
-//! measurement. Owns the argument types, their conversion into the pure `timing` types, and the
-//! text and JSON rendering of the result. Needs no store.
+//! measurement. Owns the argument types, their conversion into the pure `timing` types, the
+//! text and JSON rendering of the result (with the text schematic), and the files it is asked
+//! for: SVG pictures (`--svg DIR`) and the SPICE netlist (`--netlist FILE`), rendered by
+//! `report` and written here. Needs no store.
 
 use super::{Context, Status};
 use crate::network::{Combine, parse_net};

@@ -1,7 +1,10 @@
 //! SPICE netlists of a timer design, for transient simulation in ngspice or another SPICE.
 //!
-//! Owns the text of the netlist and nothing else: no I/O, no simulator runs, no store. Each
-//! form has a pure function that returns a complete, self-contained netlist as a `String`; the
+//! Owns the text of the netlist and nothing else: no I/O, no simulator runs, no store. Pure
+//! functions return a complete, self-contained netlist as a `String`: one stage ([`stage`], or
+//! [`render`] for a one-piece [`Design`]), a pace stage firing a width monostable ([`pair`]),
+//! or two independent halves of a dual package ([`dual`]). Every position is written as its
+//! real pieces in series and parallel (`R1a`, `R1b`, …), not as one equivalent value. The
 //! behavioural timer model (`spice/onhand_timer.lib`, our own) is embedded with `include_str!`,
 //! so the exported file needs nothing beside it.
 //!
