@@ -238,3 +238,163 @@ fn diode_drop_and_control_voltage_are_seen_by_ngspice() {
     assert!(p1 > p0 * 1.1, "diode drop: {p1} vs ideal {p0}");
     assert!(p2 < p0 * 0.97, "control voltage: {p2} vs ideal {p0}");
 }
+
+/// The CLI round trip: `onhand --json check … --netlist F`, then `ngspice -b F`; every `.meas`
+/// result the JSON lists must agree with the tool's own nominal prediction (from the same JSON)
+/// within 1 %. Source: Debian package ngspice (39.x), transient simulation.
+fn round_trip(args: &[&str]) {
+    let bench = util::Bench::new();
+    let file = bench.path("design.cir");
+    let file_text = file.to_str().expect("utf-8 path");
+    let mut all = vec!["--json", "check"];
+    all.extend_from_slice(args);
+    all.extend_from_slice(&["--netlist", file_text, "--samples", "0"]);
+    let run = bench.run(&all);
+    assert!(
+        run.status == 0 || run.status == 1,
+        "check failed ({}):\n{}",
+        run.status,
+        run.stderr
+    );
+    let json = run.json();
+    assert_eq!(json["netlist"]["path"], file_text, "{json}");
+    assert!(
+        json["files"]
+            .as_array()
+            .expect("files")
+            .iter()
+            .any(|f| f["kind"] == "netlist" && f["path"] == file_text),
+        "{json}"
+    );
+    let text = std::fs::read_to_string(&file).expect("netlist written where the JSON says");
+    let out = simulate(&text);
+    let measures = json["netlist"]["measures"].as_array().expect("measures");
+    assert!(!measures.is_empty(), "{json}");
+    for m in measures {
+        let name = m["name"].as_str().expect("name");
+        let analysis = m["analysis"].as_u64().expect("analysis index") as usize;
+        let quantity = m["quantity"].as_str().expect("quantity");
+        let predicted = json["analyses"][analysis]["nominal"]
+            .as_array()
+            .expect("nominal list")
+            .iter()
+            .find(|i| i["quantity"] == quantity)
+            .and_then(|i| i["nominal"].as_f64())
+            .unwrap_or_else(|| panic!("no {quantity} in analysis {analysis}: {json}"));
+        assert_close(
+            &format!("check {} — {name}", args.join(" ")),
+            measured(&out, name, &text),
+            predicted,
+        );
+    }
+}
+
+#[test]
+fn check_netlists_round_trip_through_ngspice() {
+    // Source: Debian package ngspice (39.x), transient simulation.
+    if !have_ngspice() {
+        return;
+    }
+    for args in [
+        &["monostable", "R=47k", "C=100n"][..],
+        &["astable", "R1=4.7k", "R2=68k", "C=10n"],
+        &["steered", "RA=10k", "RB=47k", "C=100n", "--diode", "0.7"],
+        &[
+            "steered",
+            "RA=10k",
+            "RB=4.7k",
+            "C=100n",
+            "--diode",
+            "0.6",
+            "--one-diode",
+        ],
+        &["square", "R=47k", "C=100n", "--family", "cmos"],
+        &[
+            "square",
+            "R=22k",
+            "C=220n",
+            "--family",
+            "cmos",
+            "--output-drop",
+            "0.5",
+        ],
+        // Networks in positions: series resistors, parallel capacitors, a mixed group.
+        &["astable", "R1=33k+2.2k", "R2=68k", "C=10n||2.2n"],
+        &["monostable", "R=(10k||10k)+1k", "C=100n+100n"],
+        // Driven control voltage.
+        &[
+            "monostable",
+            "R=100k",
+            "C=1u",
+            "--vcc",
+            "12",
+            "--control",
+            "6",
+        ],
+        &[
+            "astable",
+            "R1=1k",
+            "R2=10k",
+            "C=10n",
+            "--vcc",
+            "5",
+            "--control",
+            "4",
+        ],
+        // Two stages: a pace astable firing a width monostable, and an independent dual.
+        &[
+            "pair",
+            "R1=1k",
+            "R2=10k",
+            "C1=100n",
+            "R3=10k+2.2k",
+            "C2=10n",
+        ],
+        &[
+            "dual",
+            "--forms",
+            "steered,monostable",
+            "A.RA=10k",
+            "A.RB=22k",
+            "A.C=47n",
+            "B.R=10k",
+            "B.C=10n||2.2n",
+            "--diode",
+            "0.7",
+        ],
+    ] {
+        round_trip(args);
+    }
+}
+
+#[test]
+fn check_netlist_holds_the_real_pieces() {
+    // The exported file must carry every piece of a network, not only its equivalent value.
+    let bench = util::Bench::new();
+    let file = bench.path("pieces.cir");
+    let path = file.to_str().expect("utf-8 path");
+    bench
+        .run(&[
+            "check",
+            "astable",
+            "R1=33k+2.2k",
+            "R2=68k",
+            "C=10n||2.2n",
+            "--netlist",
+            path,
+            "--samples",
+            "0",
+        ])
+        .ok()
+        .stdout_has(path);
+    let text = std::fs::read_to_string(&file).expect("netlist");
+    for line in [
+        "R1a vcc r1_1 33k",
+        "R1b r1_1 dis 2.2k",
+        "R2 dis cap 68k",
+        "Ca cap 0 10n",
+        "Cb cap 0 2.2n",
+    ] {
+        assert!(text.lines().any(|l| l == line), "{line:?} missing:\n{text}");
+    }
+}

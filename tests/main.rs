@@ -8,5 +8,6 @@ mod external_ngspice;
 mod external_ode;
 mod find;
 mod holds;
+mod pictures;
 mod stock;
 mod store_safety;

@@ -1,12 +1,18 @@
 //! `onhand check`: evaluate a design handed in as values — times, frequency, duty, the model
 //! used, exact worst case, Monte Carlo, whether a target is guaranteed, electrical findings, the
 //! trimmer that covers the spread, and (with `--measured`) the unknown part inferred from a
-//! measurement. Owns the argument types, their conversion into the pure `timing` types, and the
-//! text and JSON rendering of the result. Needs no store.
+//! measurement. Owns the argument types, their conversion into the pure `timing` types, the
+//! text and JSON rendering of the result (with the text schematic), and the files it is asked
+//! for: SVG pictures (`--svg DIR`) and the SPICE netlist (`--netlist FILE`), rendered by
+//! `report` and written here. Needs no store.
 
 use super::{Context, Status};
 use crate::network::{Combine, parse_net};
+use crate::report::netlist;
+use crate::report::pictures::{Histogram, Waveform};
+use crate::report::schematic;
 use crate::store::Technology;
+use crate::timing::tolerance::Samples;
 use crate::timing::{
     Analysis, CapFacts, Circuit, Conditions, Family, Finding, Form, Inference, Interval, Limits,
     MonteCarlo, Piece, Position, Quantity, Severity, Spread, Stage, StageModel, Steering, Target,
@@ -21,6 +27,7 @@ use crate::units::{
 use anyhow::{Context as _, anyhow, bail};
 use serde::Serialize;
 use std::io::Write;
+use std::path::{Path, PathBuf};
 
 const EXAMPLES: &str = "\
 Positions (NAME=VALUE; a value may be a network: + series, || or // parallel, parentheses):
@@ -38,6 +45,7 @@ Examples:
   onhand check pair R1=1k R2=10k C1=100n R3=10k C2=10n
   onhand check dual --forms astable,monostable A.R1=1k A.R2=10k A.C=100n B.R=10k B.C=10n
   onhand check square R=10k C=10n --family cmos --set max_freq=2M
+  onhand check astable R1=33k+2.2k R2=68k C=10n --svg pictures --netlist board.cir
 
 Defaults: supply 9 V, bipolar timer, ideal model (thresholds 1/3 and 2/3 of the supply, no diode
 drop); resistors ±5 %, capacitors ±10 %, electrolytics ±20 % unless --tol says otherwise (common
@@ -170,6 +178,14 @@ pub struct CheckArgs {
     /// Forms of the two halves of a dual package, e.g. astable,monostable.
     #[arg(long, default_value = "astable,monostable", value_name = "A,B")]
     pub forms: String,
+    /// Write SVG pictures into this folder (created if missing): the waveform of every stage and
+    /// the Monte Carlo histogram of the period or pulse width.
+    #[arg(long, value_name = "DIR")]
+    pub svg: Option<PathBuf>,
+    /// Write the SPICE netlist of the design (every piece of every network) to this file; run
+    /// it with `ngspice -b FILE`.
+    #[arg(long, value_name = "FILE")]
+    pub netlist: Option<PathBuf>,
 }
 
 // ---------------------------------------------------------------------------------------------
@@ -657,7 +673,32 @@ struct Report {
     trim: Option<TrimPlan>,
     findings: Vec<Finding>,
     figures: Vec<FigureReport>,
+    schematic: String,
+    files: Vec<FileReport>,
+    netlist: Option<NetlistReport>,
+    notes: Vec<String>,
     ok: bool,
+}
+
+/// A file the command wrote.
+#[derive(Debug, Clone, Serialize)]
+struct FileReport {
+    kind: &'static str,
+    path: String,
+}
+
+/// The netlist written, and which of the tool's predictions each `.meas` result is.
+#[derive(Debug, Clone, Serialize)]
+struct NetlistReport {
+    path: String,
+    measures: Vec<MeasureReport>,
+}
+
+#[derive(Debug, Clone, Serialize)]
+struct MeasureReport {
+    name: String,
+    analysis: usize,
+    quantity: Quantity,
 }
 
 fn parse_quantity_value(
@@ -764,7 +805,7 @@ pub fn run(args: CheckArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resul
         }
     };
 
-    let circuits: Vec<(String, String, Circuit, Vec<&Built>)> = if is_dual {
+    let circuits: Vec<CircuitRow> = if is_dual {
         prep.stages
             .iter()
             .map(|s| {
@@ -794,6 +835,7 @@ pub fn run(args: CheckArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resul
     };
 
     let mut analyses = Vec::new();
+    let mut samples: Vec<Samples> = Vec::new();
     let mut verdict = None;
     let mut trim = None;
     for (label, form, circuit, built) in &circuits {
@@ -804,8 +846,12 @@ pub fn run(args: CheckArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resul
             findings.extend(check_pair_worst_case(d.max));
         }
         let mc = if args.samples > 0 {
-            Some(analysis.monte_carlo(args.samples, args.seed, spread, target)?)
+            let (mc, drawn) =
+                analysis.monte_carlo_samples(args.samples, args.seed, spread, target)?;
+            samples.push(drawn);
+            Some(mc)
         } else {
+            samples.push(Vec::new());
             None
         };
         if let (Some(t), Some(wc)) = (target, &worst) {
@@ -896,6 +942,31 @@ pub fn run(args: CheckArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resul
 
     let target_met = verdict.is_none_or(|v| v.guaranteed);
     let ok = !has_error(&findings) && target_met;
+    let schematic = schematic_of(&prep.stages, args.form, args.vcc);
+    let mut files = Vec::new();
+    let mut notes = Vec::new();
+    let netlist_report = match &args.netlist {
+        Some(path) => {
+            let report = write_netlist(&prep.stages, args.form, path)?;
+            files.push(FileReport {
+                kind: "netlist",
+                path: report.path.clone(),
+            });
+            Some(report)
+        }
+        None => None,
+    };
+    if let Some(dir) = &args.svg {
+        let pictures = Pictures {
+            dir,
+            form: args.form,
+            target,
+            circuits: &circuits,
+            analyses: &analyses,
+            samples: &samples,
+        };
+        pictures.write(&mut files, &mut notes)?;
+    }
     let report = Report {
         form: format!("{:?}", args.form).to_ascii_lowercase(),
         family: prep.family.name,
@@ -918,6 +989,10 @@ pub fn run(args: CheckArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resul
                 provenance: f.provenance.label(),
             })
             .collect(),
+        schematic,
+        files,
+        netlist: netlist_report,
+        notes,
         ok,
     };
     if ctx.json {
@@ -927,6 +1002,319 @@ pub fn run(args: CheckArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resul
         render(&report, &prep.family, &args, out)?;
     }
     Ok(if ok { Status::Success } else { Status::NotMet })
+}
+
+// ---------------------------------------------------------------------------------------------
+// Schematic, netlist and pictures.
+
+/// A position written plainly: `33 kΩ + 2.2 kΩ (35.2 kΩ)`, or `4.7 kΩ` for one piece.
+fn position_text(p: &Position) -> String {
+    let show = |v: f64| match p.combine {
+        Combine::Resistive => Ohms::from_si(v).map_or_else(|| format!("{v} Ω"), |o| o.to_string()),
+        Combine::Capacitive => {
+            Farads::from_si(v).map_or_else(|| format!("{v} F"), |f| f.to_string())
+        }
+    };
+    let pieces = p
+        .net
+        .describe(&|i| p.pieces.get(i).map_or_else(String::new, |x| show(x.value)));
+    if p.pieces.len() > 1 {
+        let total = match p.combine {
+            Combine::Resistive => Ohms::from_si(p.nominal()).map(|o| o.eng(4)),
+            Combine::Capacitive => Farads::from_si(p.nominal()).map(|f| f.eng(4)),
+        };
+        format!("{pieces} ({})", total.unwrap_or_default())
+    } else {
+        pieces
+    }
+}
+
+/// The position's name without the `A.`/`B.` prefix of a dual package.
+fn short_name(name: &str) -> &str {
+    name.rsplit('.').next().unwrap_or(name)
+}
+
+fn stage_parts(b: &Built) -> schematic::StageParts {
+    let m = &b.model;
+    let circuit = match (m.form, m.steering) {
+        (Form::Monostable, _) => schematic::Circuit::Monostable,
+        (Form::Astable, _) => schematic::Circuit::Astable,
+        (Form::Steered, Steering::TwoDiode) => schematic::Circuit::Steered,
+        (Form::Steered, Steering::OneDiode) => schematic::Circuit::SteeredBypass,
+        (Form::Square, _) => schematic::Circuit::Square,
+    };
+    let parts = std::iter::once(&m.r1)
+        .chain(m.r2.as_ref())
+        .chain(std::iter::once(&m.c))
+        .map(|p| (short_name(&p.name).to_string(), position_text(p)))
+        .collect();
+    schematic::StageParts {
+        circuit,
+        parts,
+        control: m.conditions.control.map(|v| v.to_string()),
+    }
+}
+
+fn schematic_of(stages: &[Built], form: FormArg, vcc: Volts) -> String {
+    let supply = format!("+{vcc}");
+    match stages {
+        [one] => schematic::single(&stage_parts(one), &supply),
+        [a, b] => schematic::dual(
+            &stage_parts(a),
+            &stage_parts(b),
+            &supply,
+            form == FormArg::Pair,
+        ),
+        _ => String::new(),
+    }
+}
+
+fn network_of(p: &Position) -> netlist::Network {
+    netlist::Network {
+        name: short_name(&p.name).to_string(),
+        net: p.net.clone(),
+        values: p.pieces.iter().map(|x| x.value).collect(),
+    }
+}
+
+fn stage_net(b: &Built) -> netlist::StageNet {
+    let m = &b.model;
+    netlist::StageNet {
+        form: m.form,
+        steering: m.steering,
+        r1: network_of(&m.r1),
+        r2: m.r2.as_ref().map(network_of),
+        c: network_of(&m.c),
+        conditions: m.conditions,
+    }
+}
+
+/// The `.meas` results of a single stage's netlist, as the analysis' quantities.
+fn single_measures(form: Form, tag: &str, analysis: usize) -> Vec<MeasureReport> {
+    let list: &[(&str, Quantity)] = if form == Form::Monostable {
+        &[(netlist::MEAS_WIDTH, Quantity::High)]
+    } else {
+        &[
+            (netlist::MEAS_HIGH, Quantity::High),
+            (netlist::MEAS_LOW, Quantity::Low),
+            (netlist::MEAS_PERIOD, Quantity::Period),
+        ]
+    };
+    list.iter()
+        .map(|&(name, quantity)| MeasureReport {
+            name: netlist::meas_name(tag, name),
+            analysis,
+            quantity,
+        })
+        .collect()
+}
+
+fn write_netlist(stages: &[Built], form: FormArg, path: &Path) -> anyhow::Result<NetlistReport> {
+    let (text, measures) = match (form, stages) {
+        (FormArg::Pair, [a, b]) => (
+            netlist::pair(&stage_net(a), &stage_net(b)),
+            [
+                (netlist::MEAS_WIDTH, Quantity::High),
+                (netlist::MEAS_LOW, Quantity::Low),
+                (netlist::MEAS_PERIOD, Quantity::Period),
+            ]
+            .iter()
+            .map(|&(name, quantity)| MeasureReport {
+                name: name.to_string(),
+                analysis: 0,
+                quantity,
+            })
+            .collect(),
+        ),
+        (FormArg::Dual, [a, b]) => (netlist::dual(&stage_net(a), &stage_net(b)), {
+            let mut m = single_measures(a.model.form, "a", 0);
+            m.extend(single_measures(b.model.form, "b", 1));
+            m
+        }),
+        (_, [one]) => (
+            netlist::stage(&stage_net(one)),
+            single_measures(one.model.form, "", 0),
+        ),
+        _ => bail!("unexpected number of stages"),
+    };
+    let text = text.context("writing the netlist")?;
+    if let Some(parent) = path.parent().filter(|p| !p.as_os_str().is_empty()) {
+        std::fs::create_dir_all(parent)
+            .with_context(|| format!("creating folder {}", parent.display()))?;
+    }
+    std::fs::write(path, text).with_context(|| format!("writing {}", path.display()))?;
+    Ok(NetlistReport {
+        path: path.display().to_string(),
+        measures,
+    })
+}
+
+/// The waveform of one stage at its nominal values and real conditions.
+fn waveform_of(b: &Built) -> anyhow::Result<Waveform> {
+    let st = &b.stage;
+    let cond = &st.conditions;
+    let need_r2 = || {
+        st.r2
+            .ok_or_else(|| anyhow!("this form needs a second resistor"))
+    };
+    Ok(match (st.form, st.steering) {
+        (Form::Monostable, _) => Waveform::monostable(st.r1, st.c, cond)?,
+        (Form::Astable, _) => Waveform::astable(st.r1, need_r2()?, st.c, cond)?,
+        (Form::Steered, Steering::TwoDiode) => Waveform::steered(st.r1, need_r2()?, st.c, cond)?,
+        (Form::Steered, Steering::OneDiode) => {
+            Waveform::steered_bypass(st.r1, need_r2()?, st.c, cond)?
+        }
+        (Form::Square, _) => Waveform::square(st.r1, st.c, cond)?,
+    })
+}
+
+type CircuitRow<'a> = (String, String, Circuit, Vec<&'a Built>);
+
+/// What the `--svg` pictures are drawn from.
+struct Pictures<'a> {
+    dir: &'a Path,
+    form: FormArg,
+    target: Option<Target>,
+    circuits: &'a [CircuitRow<'a>],
+    analyses: &'a [AnalysisReport],
+    samples: &'a [Samples],
+}
+
+/// A file-name piece from a label: `timer A` → `a`, `pace` → `pace`.
+fn slug(label: &str) -> String {
+    label
+        .trim_start_matches("timer ")
+        .to_ascii_lowercase()
+        .replace(' ', "-")
+}
+
+impl Pictures<'_> {
+    fn save(
+        &self,
+        name: &str,
+        svg: &str,
+        kind: &'static str,
+        files: &mut Vec<FileReport>,
+    ) -> anyhow::Result<()> {
+        let path = self.dir.join(name);
+        std::fs::write(&path, svg).with_context(|| format!("writing {}", path.display()))?;
+        files.push(FileReport {
+            kind,
+            path: path.display().to_string(),
+        });
+        Ok(())
+    }
+
+    fn write(&self, files: &mut Vec<FileReport>, notes: &mut Vec<String>) -> anyhow::Result<()> {
+        std::fs::create_dir_all(self.dir)
+            .with_context(|| format!("creating folder {}", self.dir.display()))?;
+        for (i, (label, _, _, built)) in self.circuits.iter().enumerate() {
+            let prefix = if label.is_empty() {
+                String::new()
+            } else {
+                format!("-{}", slug(label))
+            };
+            for b in built {
+                let name = if built.len() > 1 || !b.label.is_empty() {
+                    format!("waveform-{}.svg", slug(b.label))
+                } else {
+                    "waveform.svg".to_string()
+                };
+                let w = waveform_of(b).with_context(|| format!("drawing {name}"))?;
+                self.save(&name, &w.to_svg(), "waveform", files)?;
+            }
+            let Some(a) = self.analyses.get(i) else {
+                continue;
+            };
+            let drawn = self.samples.get(i).map_or(&[][..], Vec::as_slice);
+            if drawn.is_empty() {
+                notes.push("no Monte Carlo samples (--samples 0): no histogram drawn".into());
+                continue;
+            }
+            let Some(wc) = &a.worst_case else {
+                notes.push("no exact worst case (too many pieces): no histogram drawn".into());
+                continue;
+            };
+            let one_shot = built.len() == 1
+                && built
+                    .first()
+                    .is_some_and(|b| b.stage.form == Form::Monostable);
+            let mut wanted = if one_shot {
+                vec![Quantity::High]
+            } else if self.form == FormArg::Pair {
+                vec![Quantity::Period, Quantity::High]
+            } else {
+                vec![Quantity::Period]
+            };
+            if let Some(t) = self.target
+                && t.quantity != Quantity::Frequency
+                && !wanted.contains(&t.quantity)
+            {
+                wanted.push(t.quantity);
+            }
+            for q in wanted {
+                let (Some(col), Some(iv)) = (
+                    drawn.iter().find(|(x, _)| *x == q).map(|(_, c)| c),
+                    wc.get(q),
+                ) else {
+                    continue;
+                };
+                let what = match q {
+                    Quantity::High if one_shot || self.form == FormArg::Pair => "pulse width",
+                    other => other.label(),
+                };
+                let title = format!(
+                    "Monte Carlo: {what}{}, {} samples (seed {}, {})",
+                    if label.is_empty() {
+                        String::new()
+                    } else {
+                        format!(" of {label}")
+                    },
+                    col.len(),
+                    a.monte_carlo.as_ref().map_or(0, |m| m.seed),
+                    match a.monte_carlo.as_ref().map(|m| m.spread) {
+                        Some(Spread::Normal) => "normal",
+                        _ => "uniform",
+                    }
+                );
+                let window = self.target.and_then(|t| {
+                    let (lo, hi) = t.band();
+                    match (t.quantity, q) {
+                        (tq, hq) if tq == hq => Some((lo, hi)),
+                        (Quantity::Frequency, Quantity::Period) if lo > 0.0 => {
+                            Some((1.0 / hi, 1.0 / lo))
+                        }
+                        _ => None,
+                    }
+                });
+                let h = if q == Quantity::Duty {
+                    let mut h = Histogram::percent(&title, what, col, iv.nominal, (iv.min, iv.max));
+                    if let Some((lo, hi)) = window {
+                        h = h.with_target_percent(lo, hi);
+                    }
+                    h
+                } else {
+                    let secs = |v: f64| Seconds::from_si(v).unwrap_or_default();
+                    let pts: Vec<Seconds> =
+                        col.iter().filter_map(|&v| Seconds::from_si(v)).collect();
+                    let mut h = Histogram::new(
+                        &title,
+                        what,
+                        &pts,
+                        secs(iv.nominal),
+                        (secs(iv.min), secs(iv.max)),
+                    );
+                    if let Some((lo, hi)) = window {
+                        h = h.with_target(secs(lo), secs(hi));
+                    }
+                    h
+                };
+                let name = format!("histogram{prefix}-{}.svg", what.replace(' ', "-"));
+                self.save(&name, &h.to_svg(), "histogram", files)?;
+            }
+        }
+        Ok(())
+    }
 }
 
 fn substitute(prep: &mut Prepared, name: &str, value: f64) -> anyhow::Result<()> {
@@ -1043,6 +1431,8 @@ fn render(
             r.default_tolerances.join(", ")
         )?;
     }
+    writeln!(out, "\nschematic:")?;
+    write!(out, "{}", r.schematic)?;
     if let Some(inf) = &r.inference {
         let f = |v: f64| {
             if inf.series == crate::units::eseries::Series::E12 {
@@ -1277,6 +1667,18 @@ fn render(
             if n == 1 { "" } else { "s" }
         ),
     };
+    if !r.files.is_empty() || !r.notes.is_empty() {
+        writeln!(out, "\nfiles written:")?;
+        for f in &r.files {
+            writeln!(out, "  {:<10} {}", f.kind, f.path)?;
+        }
+        if let Some(n) = &r.netlist {
+            writeln!(out, "  (run the netlist with: ngspice -b {})", n.path)?;
+        }
+        for n in &r.notes {
+            writeln!(out, "  note: {n}")?;
+        }
+    }
     writeln!(out, "\n{verdict}")?;
     Ok(())
 }

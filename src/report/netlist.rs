@@ -1,7 +1,10 @@
 //! SPICE netlists of a timer design, for transient simulation in ngspice or another SPICE.
 //!
-//! Owns the text of the netlist and nothing else: no I/O, no simulator runs, no store. Each
-//! form has a pure function that returns a complete, self-contained netlist as a `String`; the
+//! Owns the text of the netlist and nothing else: no I/O, no simulator runs, no store. Pure
+//! functions return a complete, self-contained netlist as a `String`: one stage ([`stage`], or
+//! [`render`] for a one-piece [`Design`]), a pace stage firing a width monostable ([`pair`]),
+//! or two independent halves of a dual package ([`dual`]). Every position is written as its
+//! real pieces in series and parallel (`R1a`, `R1b`, …), not as one equivalent value. The
 //! behavioural timer model (`spice/onhand_timer.lib`, our own) is embedded with `include_str!`,
 //! so the exported file needs nothing beside it.
 //!
@@ -30,8 +33,11 @@
 //! the shortest phase: a threshold crossing is only seen at a time step, so that is the order of
 //! the timing error of the simulation (about 0.05 % at worst).
 
-use crate::timing::{self, Conditions, FormError};
+use crate::network::{Combine, Net};
+use crate::timing::{Conditions, FormError, cycle_si};
 use crate::units::{Farads, Ohms, Volts};
+
+pub use crate::timing::{Form, Steering};
 
 /// Text of the behavioural timer and diode subcircuits, embedded in every netlist.
 pub const TIMER_LIBRARY: &str = include_str!("../../spice/onhand_timer.lib");
@@ -48,21 +54,13 @@ pub const MEAS_PERIOD: &str = "period";
 /// How many time steps at least per shortest phase.
 const STEPS_PER_PHASE: f64 = 2000.0;
 
-/// Circuit form of a design.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, serde::Serialize)]
-#[serde(rename_all = "snake_case")]
-pub enum Form {
-    /// One-shot: R from the supply to the capacitor, triggered by a pulse source.
-    Monostable,
-    /// Classic astable: R1 from the supply to DIS, R2 from DIS to the capacitor.
-    Astable,
-    /// Diode-steered astable: charge through Ra and a diode, discharge through a diode and Rb.
-    Steered,
-    /// Output-driven square wave: one resistor from OUT to the capacitor.
-    Square,
-}
+/// Pull-up of the width stage's trigger in a pair (as in the text schematic).
+const PAIR_PULL_UP: f64 = 10e3;
+/// Largest coupling capacitor from the pace output to the width stage's trigger (as in the
+/// text schematic); smaller when the width is short, so the trigger dip stays under 1/50 of it.
+const PAIR_COUPLING_MAX: f64 = 1e-9;
 
-/// A design to simulate: its form, parts and operating conditions.
+/// A design to simulate: its form, parts and operating conditions (one piece per position).
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
 pub struct Design {
     /// Circuit form.
@@ -93,6 +91,106 @@ impl Design {
             output_high_drop: self.output_high_drop,
         }
     }
+
+    /// The same design as a [`StageNet`] with one piece per position, named as the `check`
+    /// command names them (R, C; R1, R2, C; RA, RB, C).
+    pub fn stage_net(&self) -> Result<StageNet, NetlistError> {
+        let (n1, n2) = match self.form {
+            Form::Monostable | Form::Square => ("R", None),
+            Form::Astable => ("R1", Some("R2")),
+            Form::Steered => ("RA", Some("RB")),
+        };
+        let r2 = match (n2, self.r2) {
+            (Some(n), Some(r)) => Some(Network::single(n, r.si())),
+            (None, None) => None,
+            (Some(_), None) => {
+                return Err(NetlistError::ResistorCount {
+                    form: self.form,
+                    wanted: 2,
+                });
+            }
+            (None, Some(_)) => {
+                return Err(NetlistError::ResistorCount {
+                    form: self.form,
+                    wanted: 1,
+                });
+            }
+        };
+        Ok(StageNet {
+            form: self.form,
+            steering: Steering::TwoDiode,
+            r1: Network::single(n1, self.r1.si()),
+            r2,
+            c: Network::single("C", self.c.si()),
+            conditions: self.conditions(),
+        })
+    }
+}
+
+/// A position filled by real pieces in series and parallel, written into the netlist piece by
+/// piece: one piece keeps the position's name (`R1`), several get a letter each (`R1a`, `R1b`).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Network {
+    /// Position name, e.g. `R1`, `RB`, `C`, `C2`.
+    pub name: String,
+    /// The tree; leaves index `values`.
+    pub net: Net,
+    /// Piece values in SI units (ohms or farads).
+    pub values: Vec<f64>,
+}
+
+impl Network {
+    /// A position holding one piece.
+    pub fn single(name: &str, value: f64) -> Self {
+        Self {
+            name: name.to_string(),
+            net: Net::Piece(0),
+            values: vec![value],
+        }
+    }
+
+    /// The equivalent value.
+    pub fn value(&self, combine: Combine) -> f64 {
+        self.net.value(&self.values, combine)
+    }
+
+    fn checked(&self, combine: Combine) -> Result<f64, NetlistError> {
+        let bad = || NetlistError::NotPositive {
+            what: self.name.clone(),
+        };
+        if self.values.iter().any(|v| !(v.is_finite() && *v > 0.0)) {
+            return Err(bad());
+        }
+        let leaves = self.net.leaves();
+        if leaves.len() != self.values.len() || leaves.iter().any(|&i| i >= self.values.len()) {
+            return Err(NetlistError::Pieces {
+                name: self.name.clone(),
+            });
+        }
+        let v = self.value(combine);
+        if v.is_finite() && v > 0.0 {
+            Ok(v)
+        } else {
+            Err(bad())
+        }
+    }
+}
+
+/// One timer stage with its positions as real pieces.
+#[derive(Debug, Clone, PartialEq)]
+pub struct StageNet {
+    /// Circuit form.
+    pub form: Form,
+    /// Diode wiring (steered form only).
+    pub steering: Steering,
+    /// Monostable and square R, astable R1, steered RA.
+    pub r1: Network,
+    /// Astable R2, steered RB; `None` for the one-resistor forms.
+    pub r2: Option<Network>,
+    /// Timing capacitor.
+    pub c: Network,
+    /// Operating conditions.
+    pub conditions: Conditions,
 }
 
 /// Why no netlist can be written for a design.
@@ -102,7 +200,7 @@ pub enum NetlistError {
     #[error("{what} must be above zero")]
     NotPositive {
         /// Which part or setting.
-        what: &'static str,
+        what: String,
     },
     /// The form needs a second resistor and none was given, or it takes one and got two.
     #[error("the {form:?} form takes {wanted} resistor(s)")]
@@ -112,177 +210,235 @@ pub enum NetlistError {
         /// How many resistors it takes.
         wanted: usize,
     },
+    /// A network's tree does not use each of its pieces exactly once.
+    #[error("the network of {name} does not use each of its pieces once")]
+    Pieces {
+        /// Position name.
+        name: String,
+    },
+    /// A pair is a free-running pace stage triggering a monostable.
+    #[error("a pair is a free-running pace stage and a monostable width stage")]
+    PairForms,
     /// The circuit cannot run under the given conditions.
     #[error(transparent)]
     Form(#[from] FormError),
 }
 
+/// The name under which the netlist of a two-stage design reports `base` of stage `tag`
+/// (`a_period`, `b_width`); a single stage (empty tag) uses `base` itself.
+pub fn meas_name(tag: &str, base: &str) -> String {
+    if tag.is_empty() {
+        base.to_string()
+    } else {
+        format!("{}_{base}", tag.to_ascii_lowercase())
+    }
+}
+
 /// Write the netlist of `design`, dispatching on its form.
 pub fn render(design: &Design) -> Result<String, NetlistError> {
-    let cond = design.conditions();
-    match (design.form, design.r2) {
-        (Form::Monostable, None) => monostable(design.r1, design.c, &cond),
-        (Form::Square, None) => square(design.r1, design.c, &cond),
-        (Form::Astable, Some(r2)) => astable(design.r1, r2, design.c, &cond),
-        (Form::Steered, Some(rb)) => steered(design.r1, rb, design.c, &cond),
-        (form @ (Form::Monostable | Form::Square), Some(_)) => {
-            Err(NetlistError::ResistorCount { form, wanted: 1 })
-        }
-        (form @ (Form::Astable | Form::Steered), None) => {
-            Err(NetlistError::ResistorCount { form, wanted: 2 })
-        }
-    }
+    stage(&design.stage_net()?)
 }
 
 /// Monostable: R from the supply to the capacitor (THR and DIS), TRIG driven by a pulse source
 /// that dips to 0 V three times, each dip a tenth of the expected width.
 pub fn monostable(r: Ohms, c: Farads, cond: &Conditions) -> Result<String, NetlistError> {
-    positive(r, "R")?;
-    positive_c(c)?;
-    let width = timing::monostable(r, c, cond)?.si();
-    let vcc = cond.vcc.si();
-    let step = width / STEPS_PER_PHASE;
-    let period = 2.0 * width;
-    let delay = 0.2 * width;
-    let edge = width / 1000.0;
-    let mut n = Netlist::new(
-        &format!("monostable, R {}, C {}", num(r.si()), num(c.si())),
-        cond,
-    );
-    n.line(&format!("Rt vcc cap {}", num(r.si())));
-    n.line(&format!("Ct cap 0 {}", num(c.si())));
-    n.comment("trigger: held at the supply, pulled to 0 V for a tenth of the width");
-    n.line(&format!(
-        "Vtrig trig 0 PULSE({} 0 {} {} {} {} {})",
-        num(vcc),
-        time(delay),
-        time(edge),
-        time(edge),
-        time(0.1 * width),
-        time(period)
-    ));
-    n.timer("trig", "cap", "cap", 0, step, cond);
-    n.tran(step, delay + 3.0 * period);
-    let half = num(half_output(cond));
-    n.comment("width of the second pulse (the first proves the start-up state)");
-    n.line(&format!(
-        ".meas tran {MEAS_WIDTH} TRIG v(out) val={half} rise=2 TARG v(out) val={half} fall=2"
-    ));
-    Ok(n.finish())
+    one_piece(Form::Monostable, r, None, c, cond)
 }
 
 /// Classic astable: R1 from the supply to DIS, R2 from DIS to the capacitor (THR and TRIG).
 pub fn astable(r1: Ohms, r2: Ohms, c: Farads, cond: &Conditions) -> Result<String, NetlistError> {
-    positive(r1, "R1")?;
-    positive(r2, "R2")?;
-    positive_c(c)?;
-    let cycle = timing::astable(r1, r2, c, cond)?;
-    let (vu, _) = cond.thresholds()?;
-    let vcc = cond.vcc.si();
-    let startup = (r1.si() + r2.si()) * c.si() * (vcc / (vcc - vu)).ln();
-    let mut n = Netlist::new(
-        &format!(
-            "classic astable, R1 {}, R2 {}, C {}",
-            num(r1.si()),
-            num(r2.si()),
-            num(c.si())
-        ),
-        cond,
-    );
-    n.line(&format!("R1 vcc dis {}", num(r1.si())));
-    n.line(&format!("R2 dis cap {}", num(r2.si())));
-    n.line(&format!("Ct cap 0 {}", num(c.si())));
-    let step = cycle.high.si().min(cycle.low.si()) / STEPS_PER_PHASE;
-    n.timer("cap", "cap", "dis", 1, step, cond);
-    n.tran(step, startup + 4.5 * cycle.period_s());
-    n.cycle_measures(cond);
-    Ok(n.finish())
+    one_piece(Form::Astable, r1, Some(r2), c, cond)
 }
 
 /// Diode-steered astable: Ra from the supply to DIS, a charge diode from DIS to the capacitor,
 /// and a discharge diode from the capacitor through Rb back to DIS.
 pub fn steered(ra: Ohms, rb: Ohms, c: Farads, cond: &Conditions) -> Result<String, NetlistError> {
-    positive(ra, "Ra")?;
-    positive(rb, "Rb")?;
-    positive_c(c)?;
-    let cycle = timing::steered(ra, rb, c, cond)?;
-    let (vu, _) = cond.thresholds()?;
-    let reach = cond.vcc.si() - cond.diode_drop.si();
-    let startup = ra.si() * c.si() * (reach / (reach - vu)).ln();
-    let vf = num(cond.diode_drop.si());
-    let mut n = Netlist::new(
-        &format!(
-            "diode-steered astable, Ra {}, Rb {}, C {}, diode drop {vf}",
-            num(ra.si()),
-            num(rb.si()),
-            num(c.si())
-        ),
-        cond,
-    );
-    n.line(&format!("Ra vcc dis {}", num(ra.si())));
-    n.line(&format!("Xdcharge dis cap onhand_diode vf={vf}"));
-    n.line(&format!("Xddischarge cap db onhand_diode vf={vf}"));
-    n.line(&format!("Rb db dis {}", num(rb.si())));
-    n.line(&format!("Ct cap 0 {}", num(c.si())));
-    let step = cycle.high.si().min(cycle.low.si()) / STEPS_PER_PHASE;
-    n.timer("cap", "cap", "dis", 1, step, cond);
-    n.tran(step, startup + 4.5 * cycle.period_s());
-    n.cycle_measures(cond);
-    Ok(n.finish())
+    one_piece(Form::Steered, ra, Some(rb), c, cond)
 }
 
 /// Output-driven square wave: R from OUT to the capacitor (THR and TRIG); DIS is left open.
 pub fn square(r: Ohms, c: Farads, cond: &Conditions) -> Result<String, NetlistError> {
-    positive(r, "R")?;
-    positive_c(c)?;
-    let cycle = timing::square(r, c, cond)?;
-    let (vu, _) = cond.thresholds()?;
-    let voh = cond.vcc.si() - cond.output_high_drop.si();
-    let startup = r.si() * c.si() * (voh / (voh - vu)).ln();
-    let mut n = Netlist::new(
-        &format!(
-            "output-driven square wave, R {}, C {}",
-            num(r.si()),
-            num(c.si())
-        ),
-        cond,
-    );
-    n.line(&format!("Rt out cap {}", num(r.si())));
-    n.line(&format!("Ct cap 0 {}", num(c.si())));
-    let step = cycle.high.si().min(cycle.low.si()) / STEPS_PER_PHASE;
-    n.timer("cap", "cap", "dis", 1, step, cond);
-    n.tran(step, startup + 4.5 * cycle.period_s());
-    n.cycle_measures(cond);
-    Ok(n.finish())
+    one_piece(Form::Square, r, None, c, cond)
 }
 
-/// The value of the `.meas` result `name` in ngspice's output (`name = value ...`), if present.
-/// ngspice prints measurement names in lower case; `name` is matched without regard to case.
-pub fn measurement(output: &str, name: &str) -> Option<f64> {
-    output.lines().find_map(|line| {
-        let mut words = line.split_whitespace();
-        let first = words.next()?;
-        if !first.eq_ignore_ascii_case(name) || words.next()? != "=" {
-            return None;
-        }
-        words.next()?.parse::<f64>().ok().filter(|v| v.is_finite())
+fn one_piece(
+    form: Form,
+    r1: Ohms,
+    r2: Option<Ohms>,
+    c: Farads,
+    cond: &Conditions,
+) -> Result<String, NetlistError> {
+    render(&Design {
+        form,
+        r1,
+        r2,
+        c,
+        vcc: cond.vcc,
+        control: cond.control,
+        diode_drop: cond.diode_drop,
+        output_high_drop: cond.output_high_drop,
     })
 }
 
-fn positive(r: Ohms, what: &'static str) -> Result<(), NetlistError> {
-    if r.is_positive() {
-        Ok(())
-    } else {
-        Err(NetlistError::NotPositive { what })
+/// One stage on its own. A monostable is fired by a pulse source; the free-running forms start
+/// with the output high and an empty capacitor. Results: [`MEAS_WIDTH`] for a monostable,
+/// [`MEAS_HIGH`], [`MEAS_LOW`], [`MEAS_PERIOD`] otherwise.
+pub fn stage(s: &StageNet) -> Result<String, NetlistError> {
+    let t = Timed::of(s)?;
+    let mut n = Netlist::new(
+        &format!("{}, {}", describe(s.form), t.parts),
+        s.conditions.vcc,
+    );
+    let step = t.shortest() / STEPS_PER_PHASE;
+    let stop = n.stage(s, &t, "", Trigger::Own, step)?;
+    n.tran(step, stop);
+    Ok(n.finish())
+}
+
+/// A pace stage (free-running) whose output, falling, fires a width monostable through a
+/// coupling capacitor and a 10 kΩ pull-up — the two halves of a dual package. Results:
+/// [`MEAS_PERIOD`] (of the pace output), [`MEAS_WIDTH`] and [`MEAS_LOW`] of the width stage's
+/// output, which is the pair's output.
+pub fn pair(pace: &StageNet, width: &StageNet) -> Result<String, NetlistError> {
+    if !pace.form.is_periodic() || width.form != Form::Monostable {
+        return Err(NetlistError::PairForms);
+    }
+    let (tp, tw) = (Timed::of(pace)?, Timed::of(width)?);
+    let mut n = Netlist::new(
+        &format!(
+            "pair: pace {} ({}) firing a monostable ({})",
+            describe(pace.form),
+            tp.parts,
+            tw.parts
+        ),
+        pace.conditions.vcc,
+    );
+    let step = tp.shortest().min(tw.shortest()) / STEPS_PER_PHASE;
+    let stop = n.stage(pace, &tp, "a", Trigger::None, step)?;
+    n.stage(width, &tw, "b", Trigger::From("out_a".into()), step)?;
+    let h = num(half_output(&width.conditions));
+    // Pulses of out_b start at each fall of out_a (start-up + k·period); count edges only from
+    // the middle of the low stretch after the second pulse, so that start-up edges (and any
+    // glitch while the nodes settle) are never counted.
+    let td = time(tp.startup + tp.period() + tw.high + 0.5 * (tp.period() - tw.high).max(0.0));
+    n.comment("the pair's output is out_b: edges counted from td, in a low stretch after start-up");
+    n.line(&format!(
+        ".meas tran {MEAS_WIDTH} TRIG v(out_b) val={h} td={td} rise=1 TARG v(out_b) val={h} td={td} fall=1"
+    ));
+    n.line(&format!(
+        ".meas tran {MEAS_LOW} TRIG v(out_b) val={h} td={td} fall=1 TARG v(out_b) val={h} td={td} rise=2"
+    ));
+    let hp = num(half_output(&pace.conditions));
+    n.line(&format!(
+        ".meas tran {MEAS_PERIOD} TRIG v(out_a) val={hp} rise=2 TARG v(out_a) val={hp} rise=3"
+    ));
+    n.tran(step, stop + tp.period());
+    Ok(n.finish())
+}
+
+/// Two independent stages of a dual package sharing the supply. Results are named with
+/// [`meas_name`]: `a_period`, `b_width`, …
+pub fn dual(a: &StageNet, b: &StageNet) -> Result<String, NetlistError> {
+    let (ta, tb) = (Timed::of(a)?, Timed::of(b)?);
+    let mut n = Netlist::new(
+        &format!(
+            "dual: A {} ({}), B {} ({})",
+            describe(a.form),
+            ta.parts,
+            describe(b.form),
+            tb.parts
+        ),
+        a.conditions.vcc,
+    );
+    let step = ta.shortest().min(tb.shortest()) / STEPS_PER_PHASE;
+    let sa = n.stage(a, &ta, "a", Trigger::Own, step)?;
+    let sb = n.stage(b, &tb, "b", Trigger::Own, step)?;
+    n.tran(step, sa.max(sb));
+    Ok(n.finish())
+}
+
+fn describe(form: Form) -> &'static str {
+    match form {
+        Form::Monostable => "monostable",
+        Form::Astable => "classic astable",
+        Form::Steered => "diode-steered astable",
+        Form::Square => "output-driven square wave",
     }
 }
 
-fn positive_c(c: Farads) -> Result<(), NetlistError> {
-    if c.is_positive() {
-        Ok(())
-    } else {
-        Err(NetlistError::NotPositive { what: "C" })
+/// The closed-form times of a stage, checked values, and a one-line description of its parts.
+struct Timed {
+    high: f64,
+    low: Option<f64>,
+    /// From an empty capacitor to the upper threshold (free-running forms; 0 for a one-shot).
+    startup: f64,
+    parts: String,
+}
+
+impl Timed {
+    fn of(s: &StageNet) -> Result<Self, NetlistError> {
+        let r1 = s.r1.checked(Combine::Resistive)?;
+        let r2 = match (&s.r2, s.form.has_r2()) {
+            (Some(n), true) => Some(n.checked(Combine::Resistive)?),
+            (None, false) => None,
+            (_, has) => {
+                return Err(NetlistError::ResistorCount {
+                    form: s.form,
+                    wanted: if has { 2 } else { 1 },
+                });
+            }
+        };
+        let c = s.c.checked(Combine::Capacitive)?;
+        let cond = &s.conditions;
+        let k = cond.factors()?;
+        let (high, low) = cycle_si(s.form, s.steering, r1, r2.unwrap_or(0.0), c, &k);
+        let (vu, _) = cond.thresholds()?;
+        let vcc = cond.vcc.si();
+        let startup = match s.form {
+            Form::Monostable => 0.0,
+            Form::Astable => (r1 + r2.unwrap_or(0.0)) * c * (vcc / (vcc - vu)).ln(),
+            Form::Steered => {
+                let reach = vcc - cond.diode_drop.si();
+                r1 * c * (reach / (reach - vu)).ln()
+            }
+            Form::Square => {
+                let voh = vcc - cond.output_high_drop.si();
+                r1 * c * (voh / (voh - vu)).ln()
+            }
+        };
+        let mut parts = vec![format!("{} {}", s.r1.name, num(r1))];
+        if let (Some(n), Some(v)) = (&s.r2, r2) {
+            parts.push(format!("{} {}", n.name, num(v)));
+        }
+        parts.push(format!("{} {}", s.c.name, num(c)));
+        if s.form == Form::Steered {
+            parts.push(format!("diode drop {}", num(cond.diode_drop.si())));
+        }
+        Ok(Self {
+            high,
+            low,
+            startup,
+            parts: parts.join(", "),
+        })
     }
+
+    fn shortest(&self) -> f64 {
+        self.low.map_or(self.high, |l| l.min(self.high))
+    }
+
+    fn period(&self) -> f64 {
+        self.high + self.low.unwrap_or(self.high)
+    }
+}
+
+/// How a stage's trigger is driven.
+enum Trigger {
+    /// A monostable gets its own pulse source; free-running forms trigger themselves.
+    Own,
+    /// Free-running only (a pace stage).
+    None,
+    /// Fired by the falling edge of this output node through a coupling capacitor.
+    From(String),
 }
 
 /// Half of the output swing: the level at which edges are measured.
@@ -332,29 +488,50 @@ fn time(v: f64) -> String {
     num(format!("{v:.5e}").parse().unwrap_or(v))
 }
 
+/// Letter name of the `i`-th piece of a network: a … z, then aa, ab, …
+fn piece_letter(i: usize) -> String {
+    let letters = b"abcdefghijklmnopqrstuvwxyz";
+    let mut s = String::new();
+    let mut i = i;
+    loop {
+        s.insert(0, char::from(letters[i % 26]));
+        if i < 26 {
+            break;
+        }
+        i = i / 26 - 1;
+    }
+    s
+}
+
+/// A node name of stage `tag`: `cap` alone, `cap_a` in a two-stage netlist.
+fn node(base: &str, tag: &str) -> String {
+    if tag.is_empty() {
+        base.to_string()
+    } else {
+        format!("{base}_{}", tag.to_ascii_lowercase())
+    }
+}
+
 /// A netlist being written, line by line.
 struct Netlist {
     text: String,
 }
 
 impl Netlist {
-    fn new(what: &str, cond: &Conditions) -> Self {
+    fn new(what: &str, vcc: Volts) -> Self {
         // SPICE takes the first line as the title.
         let mut n = Self {
             text: format!("onhand timer design: {what}\n"),
         };
         n.comment("Written by onhand. Nodes: vcc supply, cap timing capacitor, out output,");
-        n.comment("trig trigger, dis discharge, ctrl control. Behavioural timer model below.");
+        n.comment("trig trigger, dis discharge, ctrl control (with _a/_b per stage of a pair).");
+        n.comment("Behavioural timer model below; run with: ngspice -b THIS_FILE");
         n.text.push_str(TIMER_LIBRARY);
         if !TIMER_LIBRARY.ends_with('\n') {
             n.text.push('\n');
         }
         n.line("");
-        n.line(&format!("Vsupply vcc 0 DC {}", num(cond.vcc.si())));
-        match cond.control {
-            Some(v) => n.line(&format!("Vctrl ctrl 0 DC {}", num(v.si()))),
-            None => n.comment("ctrl left to the internal divider (2/3 of the supply), no bypass"),
-        }
+        n.line(&format!("Vsupply vcc 0 DC {}", num(vcc.si())));
         n
     }
 
@@ -367,17 +544,204 @@ impl Netlist {
         self.line(&format!("* {s}"));
     }
 
-    /// The timer instance; `q0` is the latch state at t = 0 (1: output high).
-    fn timer(&mut self, trig: &str, thr: &str, dis: &str, q0: u8, step: f64, cond: &Conditions) {
+    /// Write a position's pieces between nodes `a` and `b`.
+    fn network(&mut self, net: &Network, combine: Combine, tag: &str, a: &str, b: &str) {
+        let letter = match combine {
+            Combine::Resistive => 'R',
+            Combine::Capacitive => 'C',
+        };
+        let mut base = net.name.replace('.', "");
+        if !base.starts_with([letter, letter.to_ascii_lowercase()]) {
+            base.insert(0, letter);
+        }
+        let suffix = if tag.is_empty() {
+            String::new()
+        } else {
+            format!("_{}", tag.to_ascii_uppercase())
+        };
+        let many = net.values.len() > 1;
+        let name = |i: usize| {
+            if many {
+                format!("{base}{}{suffix}", piece_letter(i))
+            } else {
+                format!("{base}{suffix}")
+            }
+        };
+        if many {
+            let shown = net.net.describe(&|i| name(i));
+            self.comment(&format!(
+                "{} = {shown}: {} pieces, equivalent {}",
+                net.name,
+                net.values.len(),
+                num(net.value(combine))
+            ));
+        }
+        let mut counter = 0;
+        let inner = node(&base.to_ascii_lowercase(), tag);
+        self.emit(&net.net, net, &name, &inner, &mut counter, (a, b));
+    }
+
+    fn emit(
+        &mut self,
+        tree: &Net,
+        net: &Network,
+        name: &dyn Fn(usize) -> String,
+        inner: &str,
+        counter: &mut usize,
+        (a, b): (&str, &str),
+    ) {
+        match tree {
+            Net::Piece(i) => {
+                let v = net.values.get(*i).copied().unwrap_or(0.0);
+                self.line(&format!("{} {a} {b} {}", name(*i), num(v)));
+            }
+            Net::Series(ch) => {
+                let mut from = a.to_string();
+                for (k, c) in ch.iter().enumerate() {
+                    let to = if k + 1 == ch.len() {
+                        b.to_string()
+                    } else {
+                        *counter += 1;
+                        format!("{inner}_{counter}")
+                    };
+                    self.emit(c, net, name, inner, counter, (&from, &to));
+                    from = to;
+                }
+            }
+            Net::Parallel(ch) => {
+                for c in ch {
+                    self.emit(c, net, name, inner, counter, (a, b));
+                }
+            }
+        }
+    }
+
+    /// Write one stage (parts, trigger, timer, measures when alone); return how long the
+    /// transient run must last for its measures.
+    fn stage(
+        &mut self,
+        s: &StageNet,
+        t: &Timed,
+        tag: &str,
+        trigger: Trigger,
+        step: f64,
+    ) -> Result<f64, NetlistError> {
+        let cond = &s.conditions;
+        let (cap, dis, out, trig, ctrl) = (
+            node("cap", tag),
+            node("dis", tag),
+            node("out", tag),
+            node("trig", tag),
+            node("ctrl", tag),
+        );
+        self.line("");
+        if !tag.is_empty() {
+            self.comment(&format!(
+                "stage {}: {}",
+                tag.to_ascii_uppercase(),
+                describe(s.form)
+            ));
+        }
+        match cond.control {
+            Some(v) => self.line(&format!("V{ctrl} {ctrl} 0 DC {}", num(v.si()))),
+            None => self.comment(&format!(
+                "{ctrl} left to the internal divider (2/3 of the supply), no bypass"
+            )),
+        }
+        let vf = num(cond.diode_drop.si());
+        let sfx = if tag.is_empty() {
+            String::new()
+        } else {
+            format!("_{}", tag.to_ascii_uppercase())
+        };
+        let r2 = s.r2.as_ref();
+        match (s.form, r2) {
+            (Form::Monostable, _) => {
+                self.network(&s.r1, Combine::Resistive, tag, "vcc", &cap);
+            }
+            (Form::Astable, Some(r2)) => {
+                self.network(&s.r1, Combine::Resistive, tag, "vcc", &dis);
+                self.network(r2, Combine::Resistive, tag, &dis, &cap);
+            }
+            (Form::Steered, Some(rb)) => {
+                self.network(&s.r1, Combine::Resistive, tag, "vcc", &dis);
+                match s.steering {
+                    Steering::TwoDiode => {
+                        let db = node("db", tag);
+                        self.line(&format!("Xdcharge{sfx} {dis} {cap} onhand_diode vf={vf}"));
+                        self.line(&format!("Xddischarge{sfx} {cap} {db} onhand_diode vf={vf}"));
+                        self.network(rb, Combine::Resistive, tag, &db, &dis);
+                    }
+                    Steering::OneDiode => {
+                        self.comment("one diode bypassing RB while charging");
+                        self.network(rb, Combine::Resistive, tag, &dis, &cap);
+                        self.line(&format!("Xdbypass{sfx} {dis} {cap} onhand_diode vf={vf}"));
+                    }
+                }
+            }
+            (Form::Square, _) => {
+                self.network(&s.r1, Combine::Resistive, tag, &out, &cap);
+            }
+            (form, None) => return Err(NetlistError::ResistorCount { form, wanted: 2 }),
+        }
+        self.network(&s.c, Combine::Capacitive, tag, &cap, "0");
+        let one_shot = s.form == Form::Monostable;
+        let mut stop = t.startup + 4.5 * t.period();
+        let thr_trig = if one_shot { trig.clone() } else { cap.clone() };
+        let dis_pin = if one_shot { cap.clone() } else { dis.clone() };
+        if one_shot {
+            let width = t.high;
+            match &trigger {
+                Trigger::From(src) => {
+                    // Coupling small enough that the trigger dip (R·C·ln 3 below a third of
+                    // the supply) stays under 1/50 of the width.
+                    let cc = PAIR_COUPLING_MAX.min(width / (50.0 * PAIR_PULL_UP * 3f64.ln()));
+                    self.comment(&format!(
+                        "trigger: falling edge of {src} through a coupling capacitor, pull-up to the supply"
+                    ));
+                    self.line(&format!("Rpull{sfx} {trig} vcc {}", num(PAIR_PULL_UP)));
+                    self.line(&format!("Ccouple{sfx} {src} {trig} {}", time(cc)));
+                }
+                Trigger::Own | Trigger::None => {
+                    let vcc = cond.vcc.si();
+                    let (delay, period, edge) = (0.2 * width, 2.0 * width, width / 1000.0);
+                    self.comment(
+                        "trigger: held at the supply, pulled to 0 V for a tenth of the width",
+                    );
+                    self.line(&format!(
+                        "Vtrig{sfx} {trig} 0 PULSE({} 0 {} {} {} {} {})",
+                        num(vcc),
+                        time(delay),
+                        time(edge),
+                        time(edge),
+                        time(0.1 * width),
+                        time(period)
+                    ));
+                    stop = delay + 3.0 * period;
+                    let h = num(half_output(cond));
+                    self.comment("width of the second pulse (the first proves the start-up state)");
+                    self.line(&format!(
+                        ".meas tran {} TRIG v({out}) val={h} rise=2 TARG v({out}) val={h} fall=2",
+                        meas_name(tag, MEAS_WIDTH)
+                    ));
+                }
+            }
+        }
         self.line(&format!(
-            "Xtimer 0 {trig} out vcc ctrl {thr} {dis} vcc onhand_timer hdrop={} tl={} q0={q0}",
+            "Xtimer{sfx} 0 {thr_trig} {out} vcc {ctrl} {cap} {dis_pin} vcc onhand_timer hdrop={} tl={} q0={}",
             num(cond.output_high_drop.si()),
-            time(step / 100.0)
+            time(step / 100.0),
+            u8::from(!one_shot)
         ));
-        self.line(".ic v(cap)=0");
+        self.line(&format!(".ic v({cap})=0"));
+        if !one_shot && !matches!(trigger, Trigger::None) {
+            self.cycle_measures(cond, tag, &out);
+        }
+        Ok(stop)
     }
 
     fn tran(&mut self, step: f64, stop: f64) {
+        self.line("");
         self.line(".options reltol=1e-4 method=gear");
         self.line(&format!(
             ".tran {} {} 0 {} uic",
@@ -389,17 +753,20 @@ impl Netlist {
 
     /// High, low and period of the third cycle; the output starts high, so the first fall ends
     /// the start-up charge from 0 V.
-    fn cycle_measures(&mut self, cond: &Conditions) {
+    fn cycle_measures(&mut self, cond: &Conditions, tag: &str, out: &str) {
         let h = num(half_output(cond));
         self.comment("third cycle: the first starts from an empty capacitor and runs long");
         self.line(&format!(
-            ".meas tran {MEAS_HIGH} TRIG v(out) val={h} rise=2 TARG v(out) val={h} fall=3"
+            ".meas tran {} TRIG v({out}) val={h} rise=2 TARG v({out}) val={h} fall=3",
+            meas_name(tag, MEAS_HIGH)
         ));
         self.line(&format!(
-            ".meas tran {MEAS_LOW} TRIG v(out) val={h} fall=3 TARG v(out) val={h} rise=3"
+            ".meas tran {} TRIG v({out}) val={h} fall=3 TARG v({out}) val={h} rise=3",
+            meas_name(tag, MEAS_LOW)
         ));
         self.line(&format!(
-            ".meas tran {MEAS_PERIOD} TRIG v(out) val={h} rise=2 TARG v(out) val={h} rise=3"
+            ".meas tran {} TRIG v({out}) val={h} rise=2 TARG v({out}) val={h} rise=3",
+            meas_name(tag, MEAS_PERIOD)
         ));
     }
 
@@ -407,6 +774,19 @@ impl Netlist {
         self.line(".end");
         self.text
     }
+}
+
+/// The value of the `.meas` result `name` in ngspice's output (`name = value ...`), if present.
+/// ngspice prints measurement names in lower case; `name` is matched without regard to case.
+pub fn measurement(output: &str, name: &str) -> Option<f64> {
+    output.lines().find_map(|line| {
+        let mut words = line.split_whitespace();
+        let first = words.next()?;
+        if !first.eq_ignore_ascii_case(name) || words.next()? != "=" {
+            return None;
+        }
+        words.next()?.parse::<f64>().ok().filter(|v| v.is_finite())
+    })
 }
 
 #[cfg(test)]
@@ -461,7 +841,7 @@ mod tests {
         let text = render(&design(Form::Astable, Some(47e3))).expect("netlist");
         assert!(text.contains("R1 vcc dis 10k\n"), "{text}");
         assert!(text.contains("R2 dis cap 47k\n"), "{text}");
-        assert!(text.contains("Ct cap 0 100n\n"), "{text}");
+        assert!(text.contains("C cap 0 100n\n"), "{text}");
         // Period ln 2·(R1+2R2)·C = 7.21 ms; start-up ln 3·(R1+R2)·C = 6.26 ms; shortest phase
         // ln 2·R2·C = 3.26 ms, so the largest step is 3.26 ms / 2000 = 1.63 µs.
         let tran = text
@@ -547,13 +927,135 @@ mod tests {
         ));
         let mut d = design(Form::Astable, Some(47e3));
         d.r1 = Ohms::ZERO;
-        assert_eq!(render(&d), Err(NetlistError::NotPositive { what: "R1" }));
+        assert_eq!(
+            render(&d),
+            Err(NetlistError::NotPositive { what: "R1".into() })
+        );
         let mut d = design(Form::Steered, Some(47e3));
         d.diode_drop = v(3.5);
         assert!(matches!(render(&d), Err(NetlistError::Form(_))));
         let mut d = design(Form::Monostable, None);
         d.control = Some(v(12.0));
         assert!(matches!(render(&d), Err(NetlistError::Form(_))));
+    }
+
+    fn net(name: &str, text: &str) -> Network {
+        let (net, values) =
+            crate::network::parse_net(text, &mut |s: &str| s.parse::<f64>()).expect("network");
+        Network {
+            name: name.into(),
+            net,
+            values,
+        }
+    }
+
+    fn stage_of(form: Form, r1: Network, r2: Option<Network>, c: Network) -> StageNet {
+        StageNet {
+            form,
+            steering: Steering::TwoDiode,
+            r1,
+            r2,
+            c,
+            conditions: Conditions::ideal(v(9.0)),
+        }
+    }
+
+    #[test]
+    fn networks_are_written_piece_by_piece() {
+        let s = stage_of(
+            Form::Astable,
+            net("R1", "(10000||10000)+1000"),
+            Some(net("R2", "47000")),
+            net("C", "1e-8||2.2e-9"),
+        );
+        let text = stage(&s).expect("netlist");
+        for line in [
+            "R1a vcc r1_1 10k",
+            "R1b vcc r1_1 10k",
+            "R1c r1_1 dis 1k",
+            "R2 dis cap 47k",
+            "Ca cap 0 10n",
+            "Cb cap 0 2.2n",
+        ] {
+            assert!(text.lines().any(|l| l == line), "{line:?}:\n{text}");
+        }
+        // The title and the comment carry the equivalent values (R1 = 6 kΩ, C = 12.2 nF).
+        assert!(text.starts_with("onhand timer design: classic astable, R1 6k, R2 47k, C 12.2n"));
+        assert!(
+            text.contains("* R1 = (R1a ∥ R1b) + R1c: 3 pieces, equivalent 6k"),
+            "{text}"
+        );
+    }
+
+    #[test]
+    fn one_diode_steering_bypasses_rb() {
+        let mut s = stage_of(
+            Form::Steered,
+            net("RA", "10000"),
+            Some(net("RB", "4700")),
+            net("C", "1e-7"),
+        );
+        s.steering = Steering::OneDiode;
+        s.conditions.diode_drop = v(0.6);
+        let text = stage(&s).expect("netlist");
+        assert!(text.contains("RB dis cap 4.7k\n"), "{text}");
+        assert!(
+            text.contains("Xdbypass dis cap onhand_diode vf=600m\n"),
+            "{text}"
+        );
+        assert!(!text.contains("Xddischarge"), "{text}");
+    }
+
+    #[test]
+    fn pair_chains_the_pace_output_into_the_width_trigger() {
+        let pace = stage_of(
+            Form::Astable,
+            net("R1", "1000"),
+            Some(net("R2", "10000")),
+            net("C1", "1e-7"),
+        );
+        let width = stage_of(
+            Form::Monostable,
+            net("R3", "10000"),
+            None,
+            net("C2", "1e-8"),
+        );
+        let text = pair(&pace, &width).expect("netlist");
+        assert!(text.contains("Rpull_B trig_b vcc 10k\n"), "{text}");
+        // Width ln 3·10 kΩ·10 nF = 110 µs: coupling 110 µs / (50·10 kΩ·ln 3) = 200 pF.
+        assert!(text.contains("Ccouple_B out_a trig_b 200p\n"), "{text}");
+        assert!(
+            text.contains("Xtimer_A 0 cap_a out_a vcc ctrl_a cap_a dis_a vcc"),
+            "{text}"
+        );
+        assert!(
+            text.contains("Xtimer_B 0 trig_b out_b vcc ctrl_b cap_b cap_b vcc"),
+            "{text}"
+        );
+        let meas: Vec<&str> = text.lines().filter(|l| l.starts_with(".meas")).collect();
+        assert_eq!(meas.len(), 3, "{text}");
+        assert!(matches!(pair(&width, &pace), Err(NetlistError::PairForms)));
+    }
+
+    #[test]
+    fn dual_names_each_stage_apart() {
+        let a = stage_of(Form::Square, net("R", "10000"), None, net("C", "1e-8"));
+        let b = stage_of(
+            Form::Monostable,
+            net("R", "22000"),
+            None,
+            net("C", "1e-8+1e-8"),
+        );
+        let text = dual(&a, &b).expect("netlist");
+        assert!(text.contains("R_A out_a cap_a 10k\n"), "{text}");
+        assert!(text.contains("R_B vcc cap_b 22k\n"), "{text}");
+        assert!(text.contains("Ca_B cap_b c_b_1 10n\n"), "{text}");
+        for name in ["a_high", "a_low", "a_period", "b_width"] {
+            assert!(
+                text.contains(&format!(".meas tran {name} ")),
+                "{name}:\n{text}"
+            );
+        }
     }
 
     #[test]

@@ -17,6 +17,9 @@ pub enum Circuit {
     Astable,
     /// Diode-steered astable: Ra supply→DIS, D1 DIS→cap (charge), Rb and D2 cap→DIS (discharge).
     Steered,
+    /// Diode-steered astable with one diode: R1 supply→DIS, R2 DIS→THR/TRIG with a diode across
+    /// it (anode at DIS) that carries the charge; discharge through R2 alone.
+    SteeredBypass,
     /// Square wave: R from OUT to THR/TRIG, C to ground, DIS unused.
     Square,
 }
@@ -28,15 +31,21 @@ pub struct StageParts {
     pub circuit: Circuit,
     /// Networks in order R1/R, R2/Rb, C (names like "R1", values like "33 kΩ + 2.2 kΩ").
     pub parts: Vec<(String, String)>,
+    /// The voltage the control pin is driven at (e.g. "5 V"); `None` leaves it to the internal
+    /// divider, decoupled to ground.
+    pub control: Option<String>,
 }
 
 /// Role of each pin of one timer: (pin name, what it connects to).
-fn pin_roles(circuit: Circuit, tag: &str, trig_from: &str) -> Vec<(&'static str, String)> {
+fn pin_roles(stage: &StageParts, tag: &str, trig_from: &str) -> Vec<(&'static str, String)> {
+    let circuit = stage.circuit;
     let node_a = format!("cap {tag}").trim_end().to_string();
     let node_b = format!("dis {tag}").trim_end().to_string();
     let (trig, dis) = match circuit {
         Circuit::Monostable => (trig_from.to_string(), node_a.clone()),
-        Circuit::Astable | Circuit::Steered => (node_a.clone(), node_b.clone()),
+        Circuit::Astable | Circuit::Steered | Circuit::SteeredBypass => {
+            (node_a.clone(), node_b.clone())
+        }
         Circuit::Square => (node_a.clone(), "not connected".to_string()),
     };
     vec![
@@ -44,7 +53,13 @@ fn pin_roles(circuit: Circuit, tag: &str, trig_from: &str) -> Vec<(&'static str,
         ("TRIG", trig),
         ("OUT", format!("output {tag}").trim_end().to_string()),
         ("RESET", "supply".to_string()),
-        ("CTRL", "10 nF to ground (decoupling)".to_string()),
+        (
+            "CTRL",
+            stage.control.as_ref().map_or_else(
+                || "10 nF to ground (decoupling)".to_string(),
+                |v| format!("driven at {v}"),
+            ),
+        ),
         ("THR", node_a),
         ("DIS", dis),
         ("VCC", "supply".to_string()),
@@ -70,6 +85,11 @@ fn placements(stage: &StageParts, tag: &str) -> Vec<String> {
         Circuit::Steered => vec![
             format!("supply and {b} (DIS); charge diode from {b} (anode) to {a}"),
             format!("{a} and the discharge diode, whose cathode goes to {b} (DIS)"),
+            format!("{a} and ground"),
+        ],
+        Circuit::SteeredBypass => vec![
+            format!("supply and {b} (DIS)"),
+            format!("{b} (DIS) and {a} (THR, TRIG); a diode across it, anode at {b}"),
             format!("{a} and ground"),
         ],
         Circuit::Square => vec![
@@ -106,7 +126,7 @@ fn package(left: &[(u8, &str, String)], right: &[(u8, &str, String)], title: &st
 
 /// The schematic of one stage in the 8-pin package.
 pub fn single(stage: &StageParts, supply: &str) -> String {
-    let roles = pin_roles(stage.circuit, "", "trigger input (pull low to fire)");
+    let roles = pin_roles(stage, "", "trigger input (pull low to fire)");
     let conn = |i: usize| roles[i].1.replace("supply", supply);
     let left: Vec<(u8, &str, String)> =
         (0..4).map(|i| (i as u8 + 1, roles[i].0, conn(i))).collect();
@@ -133,8 +153,8 @@ pub fn dual(a: &StageParts, b: &StageParts, supply: &str, chained: bool) -> Stri
     } else {
         "trigger input B"
     };
-    let ra = pin_roles(a.circuit, "A", "trigger input A");
-    let rb = pin_roles(b.circuit, "B", trig_b);
+    let ra = pin_roles(a, "A", "trigger input A");
+    let rb = pin_roles(b, "B", trig_b);
     let f = |roles: &[(&'static str, String)], name: &str| -> String {
         roles
             .iter()
@@ -185,6 +205,7 @@ mod tests {
                 ("R2".into(), "68 kΩ".into()),
                 ("C".into(), "10 nF".into()),
             ],
+            control: None,
         }
     }
 
@@ -216,12 +237,24 @@ mod tests {
         let mono = StageParts {
             circuit: Circuit::Monostable,
             parts: vec![("R3".into(), "10 kΩ".into()), ("C2".into(), "1 nF".into())],
+            control: Some("5 V".into()),
         };
         let s = dual(&astable(), &mono, "+9 V", true);
         assert!(s.contains("14"));
         assert!(
             s.lines()
                 .any(|l| l.contains("TRIG") && l.contains("output A through")),
+            "{s}"
+        );
+        // Pin 11 is stage B's control pin, driven here; stage A's (pin 3) is decoupled.
+        assert!(
+            s.lines()
+                .any(|l| l.contains("11") && l.contains("driven at 5 V")),
+            "{s}"
+        );
+        assert!(
+            s.lines()
+                .any(|l| l.contains(" 3 ┤") && l.contains("10 nF to ground")),
             "{s}"
         );
     }

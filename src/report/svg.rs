@@ -358,6 +358,49 @@ pub fn legend(svg: &mut Svg, frame: &Frame, entries: &[(&str, String, bool)]) {
     }
 }
 
+/// How a legend entry's sample is drawn.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Swatch {
+    /// A solid line.
+    Line,
+    /// A dashed line.
+    Dashed,
+    /// A filled box.
+    Fill,
+}
+
+/// A legend laid out in rows outside the plot, from (`left`, `top`) across `width` pixels,
+/// wrapping when an entry would not fit; returns the height used. Outside the plot it can
+/// never hide a curve or a marker.
+pub fn legend_rows(
+    svg: &mut Svg,
+    (left, top, width): (f64, f64, f64),
+    entries: &[(&str, String, Swatch)],
+) -> f64 {
+    let row_h = 18.0;
+    let (mut x, mut y) = (left, top);
+    for (colour, label, swatch) in entries {
+        let w = 28.0 + text_width(label, 11.0) + 22.0;
+        if x > left && x + w > left + width {
+            x = left;
+            y += row_h;
+        }
+        match swatch {
+            Swatch::Fill => svg.rect(x, y + 3.0, 20.0, 10.0, colour, Some("#666")),
+            Swatch::Line | Swatch::Dashed => svg.line(
+                (x, y + 8.0),
+                (x + 20.0, y + 8.0),
+                colour,
+                2.0,
+                (*swatch == Swatch::Dashed).then_some("5 3"),
+            ),
+        }
+        svg.text(x + 26.0, y + 12.0, label, 11.0, Anchor::Start, "#222");
+        x += w;
+    }
+    y - top + row_h
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -266,6 +266,9 @@ pub struct Stats {
     pub p99: f64,
 }
 
+/// Every Monte Carlo sample of every quantity a design has: one sorted list per quantity.
+pub type Samples = Vec<(Quantity, Vec<f64>)>;
+
 /// Monte Carlo result.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct MonteCarlo {
@@ -644,6 +647,19 @@ impl Analysis {
         spread: Spread,
         target: Option<Target>,
     ) -> Result<MonteCarlo, ToleranceError> {
+        self.monte_carlo_samples(samples, seed, spread, target)
+            .map(|(mc, _)| mc)
+    }
+
+    /// [`Analysis::monte_carlo`], also handing back every sample of every quantity the design
+    /// has (sorted ascending, one list per quantity), for a histogram. Same draws, same summary.
+    pub fn monte_carlo_samples(
+        &self,
+        samples: usize,
+        seed: u64,
+        spread: Spread,
+        target: Option<Target>,
+    ) -> Result<(MonteCarlo, Samples), ToleranceError> {
         if samples == 0 {
             return Err(ToleranceError::NoSolution(
                 "Monte Carlo needs at least one sample".into(),
@@ -678,13 +694,16 @@ impl Analysis {
             .zip(cols.iter_mut())
             .map(|(&q, col)| summarise(q, col))
             .collect();
-        Ok(MonteCarlo {
-            samples,
-            seed,
-            spread,
-            stats,
-            within_target: target.map(|_| inside as f64 / samples as f64),
-        })
+        Ok((
+            MonteCarlo {
+                samples,
+                seed,
+                spread,
+                stats,
+                within_target: target.map(|_| inside as f64 / samples as f64),
+            },
+            qs.into_iter().zip(cols).collect(),
+        ))
     }
 
     /// Positions whose equal pieces average their random errors: (name, pieces).
@@ -1051,6 +1070,30 @@ mod tests {
         );
         // Uniform over ±t has σ = t/√3; normal with t = 3σ has σ = t/3: ratio ≈ 0.58.
         assert!(g < u && g / u > 0.45 && g / u < 0.7, "{g} vs {u}");
+    }
+
+    #[test]
+    fn samples_handed_back_are_the_summarised_draws() {
+        let a = astable("4700", "68000", "1e-8", 1.0, 2.25);
+        let plain = a.monte_carlo(3000, 5, Spread::Uniform, None).expect("mc");
+        let (mc, drawn) = a
+            .monte_carlo_samples(3000, 5, Spread::Uniform, None)
+            .expect("mc");
+        assert_eq!(mc, plain);
+        assert_eq!(
+            drawn.iter().map(|(q, _)| *q).collect::<Vec<_>>(),
+            a.quantities()
+        );
+        let wc = a.worst_case().expect("wc");
+        for (q, col) in &drawn {
+            assert_eq!(col.len(), 3000);
+            let s = mc.get(*q).expect("stats");
+            let mean = col.iter().sum::<f64>() / col.len() as f64;
+            assert!((mean - s.mean).abs() <= 1e-12 * s.mean.abs().max(1.0));
+            assert_eq!(col[col.len() / 2], s.p50);
+            let i = wc.get(*q).expect("interval");
+            assert!(col.iter().all(|v| *v >= i.min && *v <= i.max));
+        }
     }
 
     #[test]

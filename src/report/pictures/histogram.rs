@@ -1,7 +1,7 @@
 //! Picture (b): the Monte Carlo histogram of a period or pulse width, with the nominal value,
 //! the target window and the worst-case interval marked.
 
-use crate::report::svg::{Anchor, Frame, Svg, legend};
+use crate::report::svg::{Anchor, Frame, Svg, Swatch, legend_rows, nice_ticks};
 use crate::units::{Engineering, format_sig};
 
 /// The data of a histogram picture.
@@ -41,10 +41,56 @@ impl Histogram {
         }
     }
 
+    /// A histogram of a fraction (a duty cycle) drawn in percent: `samples`, `nominal` and
+    /// `worst` are fractions (0.5 is 50 %).
+    pub fn percent(
+        title: &str,
+        what: &str,
+        samples: &[f64],
+        nominal: f64,
+        worst: (f64, f64),
+    ) -> Self {
+        Self {
+            title: title.to_string(),
+            what: what.to_string(),
+            unit: "%",
+            samples: samples
+                .iter()
+                .map(|v| v * 100.0)
+                .filter(|v| v.is_finite())
+                .collect(),
+            nominal: nominal * 100.0,
+            worst: (worst.0 * 100.0, worst.1 * 100.0),
+            target: None,
+        }
+    }
+
+    /// Mark the target window of a [`Histogram::percent`], given as fractions.
+    pub fn with_target_percent(mut self, lo: f64, hi: f64) -> Self {
+        self.target = Some((lo * 100.0, hi * 100.0));
+        self
+    }
+
     /// Mark the target window.
     pub fn with_target<Q: Engineering>(mut self, lo: Q, hi: Q) -> Self {
         self.target = Some((lo.si_value(), hi.si_value()));
         self
+    }
+
+    /// A value in the histogram's unit: SI prefixes for times, plain decimals for percent.
+    fn show(&self, v: f64, sig: usize) -> String {
+        if self.unit == "%" {
+            let decimals = (sig as i32 - 1 - v.abs().log10().floor() as i32).max(0) as usize;
+            let text = format!("{v:.decimals$}");
+            let text = if text.contains('.') {
+                text.trim_end_matches('0').trim_end_matches('.')
+            } else {
+                &text
+            };
+            format!("{text} %")
+        } else {
+            format_sig(v, sig, self.unit)
+        }
     }
 
     /// Counts per bin over `[lo, hi]`.
@@ -63,7 +109,7 @@ impl Histogram {
 
     /// The picture as an SVG document.
     pub fn to_svg(&self) -> String {
-        let (w, h) = (860.0, 440.0);
+        let (w, h) = (860.0, 470.0);
         let mut svg = Svg::new(w, h);
         svg.text(w / 2.0, 24.0, &self.title, 14.0, Anchor::Middle, "#111");
         let mut lo = self.worst.0.min(self.nominal);
@@ -72,6 +118,10 @@ impl Histogram {
             lo = lo.min(v);
             hi = hi.max(v);
         }
+        // Bins span the samples and the worst case only, so that a far target window widens
+        // the axis without making the bars coarse.
+        let bin_pad = (hi - lo).max(self.nominal.abs() * 1e-6) * 0.02;
+        let (blo, bhi) = (lo - bin_pad, hi + bin_pad);
         if let Some((a, b)) = self.target {
             lo = lo.min(a);
             hi = hi.max(b);
@@ -79,7 +129,7 @@ impl Histogram {
         let pad = (hi - lo).max(self.nominal.abs() * 1e-6) * 0.06;
         let (lo, hi) = (lo - pad, hi + pad);
         let n = 40;
-        let counts = self.bins(lo, hi, n);
+        let counts = self.bins(blo, bhi, n);
         let peak = counts.iter().copied().max().unwrap_or(1).max(1) as f64;
         let frame = Frame {
             left: 80.0,
@@ -87,7 +137,7 @@ impl Histogram {
             width: 740.0,
             height: 300.0,
             x: (lo, hi),
-            y: (0.0, peak * 1.25),
+            y: (0.0, peak * 1.12),
             log_x: false,
         };
         if let Some((a, b)) = self.target {
@@ -101,11 +151,39 @@ impl Histogram {
             );
         }
         frame.draw_x_axis(&mut svg, self.unit, &self.what);
-        frame.draw_y_axis(&mut svg, "", "samples per bin");
-        let bw = (hi - lo) / n as f64;
+        // Counts are plain whole numbers (no SI prefix: "4000", not "4 k").
+        for t in nice_ticks(0.0, peak * 1.12, 5) {
+            let y = frame.py(t);
+            svg.line(
+                (frame.left, y),
+                (frame.left + frame.width, y),
+                "#eeeeee",
+                1.0,
+                None,
+            );
+            svg.line((frame.left - 5.0, y), (frame.left, y), "#444", 1.0, None);
+            svg.text(
+                frame.left - 8.0,
+                y + 4.0,
+                &format!("{}", t.round()),
+                11.0,
+                Anchor::End,
+                "#222",
+            );
+        }
+        svg.vertical_text(
+            frame.left - 52.0,
+            frame.top + frame.height / 2.0,
+            &format!(
+                "samples per bin (bin {})",
+                self.show((bhi - blo) / n as f64, 3)
+            ),
+            12.0,
+        );
+        let bw = (bhi - blo) / n as f64;
         for (i, &c) in counts.iter().enumerate() {
-            let x0 = frame.px(lo + i as f64 * bw);
-            let x1 = frame.px(lo + (i + 1) as f64 * bw);
+            let x0 = frame.px(blo + i as f64 * bw);
+            let x1 = frame.px(blo + (i + 1) as f64 * bw);
             let y = frame.py(c as f64);
             svg.rect(
                 x0 + 0.5,
@@ -133,34 +211,38 @@ impl Histogram {
             None,
         );
         let mut entries = vec![
-            ("#2874a6", format!("{} samples", self.samples.len()), false),
+            (
+                "#5dade2",
+                format!("{} Monte Carlo samples", self.samples.len()),
+                Swatch::Fill,
+            ),
             (
                 "#111",
-                format!("nominal {}", format_sig(self.nominal, 4, self.unit)),
-                false,
+                format!("nominal {}", self.show(self.nominal, 4)),
+                Swatch::Line,
             ),
             (
                 "#c0392b",
                 format!(
                     "worst case {} … {}",
-                    format_sig(self.worst.0, 4, self.unit),
-                    format_sig(self.worst.1, 4, self.unit)
+                    self.show(self.worst.0, 4),
+                    self.show(self.worst.1, 4)
                 ),
-                true,
+                Swatch::Dashed,
             ),
         ];
         if let Some((a, b)) = self.target {
             entries.push((
-                "#82e0aa",
-                format!(
-                    "target {} … {}",
-                    format_sig(a, 4, self.unit),
-                    format_sig(b, 4, self.unit)
-                ),
-                false,
+                "#d5f5e3",
+                format!("target window {} … {}", self.show(a, 4), self.show(b, 4)),
+                Swatch::Fill,
             ));
         }
-        legend(&mut svg, &frame, &entries);
+        legend_rows(
+            &mut svg,
+            (frame.left, frame.top + frame.height + 52.0, frame.width),
+            &entries,
+        );
         svg.finish()
     }
 }

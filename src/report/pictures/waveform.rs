@@ -1,7 +1,7 @@
 //! Picture (a): the timing capacitor's voltage and the output over a few cycles, with both
 //! thresholds drawn and the high and low times labelled.
 
-use crate::report::svg::{Anchor, Frame, Svg, legend, text_width};
+use crate::report::svg::{Anchor, Frame, Svg, Swatch, legend_rows, text_width};
 use crate::timing::{Conditions, FormError};
 use crate::units::{Farads, Ohms, format_sig};
 
@@ -113,6 +113,33 @@ impl Waveform {
         )
     }
 
+    /// A diode-steered astable wired with one diode across Rb: charge through Ra and the diode
+    /// toward Vcc − Vf, discharge through Rb alone toward 0 V.
+    pub fn steered_bypass(
+        ra: Ohms,
+        rb: Ohms,
+        c: Farads,
+        cond: &Conditions,
+    ) -> Result<Self, FormError> {
+        let (vu, vl) = cond.thresholds()?;
+        let k = cond.factors()?;
+        let vf = cond.diode_drop.si();
+        Self::two_phase(
+            format!(
+                "Diode-steered astable (one diode): Ra = {ra}, Rb = {rb}, C = {c}, Vcc = {}",
+                cond.vcc
+            ),
+            cond.vcc.si(),
+            (vu, vl),
+            (
+                tau(ra, c) * k.steered_charge,
+                cond.vcc.si() - vf,
+                tau(ra, c),
+            ),
+            (tau(rb, c) * k.discharge, 0.0, tau(rb, c)),
+        )
+    }
+
     /// An output-driven square wave: one resistor from the output to the capacitor.
     pub fn square(r: Ohms, c: Farads, cond: &Conditions) -> Result<Self, FormError> {
         let (vu, vl) = cond.thresholds()?;
@@ -169,23 +196,55 @@ impl Waveform {
 
     /// The picture as an SVG document.
     pub fn to_svg(&self) -> String {
-        let (w, h) = (860.0, 460.0);
+        let (w, h) = (860.0, 470.0);
         let mut svg = Svg::new(w, h);
-        svg.text(w / 2.0, 24.0, &self.title, 14.0, Anchor::Middle, "#111");
+        svg.text(w / 2.0, 22.0, &self.title, 14.0, Anchor::Middle, "#111");
         let period: f64 = self.cycle.iter().map(|s| s.duration).sum();
+        let subtitle = match self.cycle.as_slice() {
+            [on, _] if self.triggered => format!(
+                "pulse width {}, shown fired twice by the trigger",
+                format_sig(on.duration, 4, "s")
+            ),
+            [on, _] => format!(
+                "period {} ({}), duty {:.1} %",
+                format_sig(period, 4, "s"),
+                format_sig(1.0 / period, 4, "Hz"),
+                on.duration / period * 100.0
+            ),
+            _ => String::new(),
+        };
+        svg.text(w / 2.0, 40.0, &subtitle, 11.0, Anchor::Middle, "#333");
+        let legend_h = legend_rows(
+            &mut svg,
+            (80.0, 50.0, 740.0),
+            &[
+                ("#1e8449", "capacitor voltage".to_string(), Swatch::Line),
+                (
+                    "#c0392b",
+                    format!("upper threshold {}", format_sig(self.upper, 3, "V")),
+                    Swatch::Dashed,
+                ),
+                (
+                    "#2e86c1",
+                    format!("lower threshold {}", format_sig(self.lower, 3, "V")),
+                    Swatch::Dashed,
+                ),
+                ("#6c3483", "output".to_string(), Swatch::Line),
+            ],
+        );
         let lead = if self.triggered { period * 0.15 } else { 0.0 };
         let total = lead + period * self.cycles as f64;
         let cap = Frame {
             left: 80.0,
-            top: 50.0,
+            top: 56.0 + legend_h,
             width: 740.0,
-            height: 220.0,
+            height: 206.0 - legend_h,
             x: (0.0, total),
             y: (0.0, self.vcc * 1.05),
             log_x: false,
         };
         let out = Frame {
-            top: 300.0,
+            top: 310.0,
             height: 80.0,
             y: (0.0, 1.0),
             ..cap
@@ -256,39 +315,34 @@ impl Waveform {
         svg.vertical_text(out.left - 52.0, out.top + out.height / 2.0, "output", 12.0);
         svg.polyline(&out_pts, "#6c3483", 2.0);
 
-        // Time spans of the first cycle, as brackets between the two panels.
-        for (i, (label, xa, xb)) in spans_x.iter().enumerate() {
-            let y = out.top - 8.0;
+        // Time spans of the first cycle, as brackets between the two panels. Each label goes on
+        // the lowest row where it clears the labels already placed (text widths are estimates,
+        // so with a margin), kept inside the plot's width.
+        let mut rows: Vec<f64> = Vec::new();
+        for (label, xa, xb) in &spans_x {
+            let y = out.top - 10.0;
             svg.line((*xa, y), (*xb, y), "#333", 1.0, None);
             svg.line((*xa, y - 4.0), (*xa, y + 4.0), "#333", 1.0, None);
             svg.line((*xb, y - 4.0), (*xb, y + 4.0), "#333", 1.0, None);
-            let mid = (xa + xb) / 2.0;
-            let fits = text_width(label, 11.0) < (xb - xa) + 20.0;
-            let ly = if fits {
-                y - 5.0
-            } else {
-                y - 5.0 - 12.0 * i as f64
+            let half = text_width(label, 11.0) / 2.0;
+            let mid = ((xa + xb) / 2.0).clamp(cap.left + half, cap.left + cap.width - half);
+            let row = match rows.iter().position(|right| mid - half > right + 8.0) {
+                Some(r) => r,
+                None => {
+                    rows.push(f64::NEG_INFINITY);
+                    rows.len() - 1
+                }
             };
-            svg.text(mid, ly, label, 11.0, Anchor::Middle, "#111");
+            rows[row] = mid + half;
+            svg.text(
+                mid,
+                y - 5.0 - 13.0 * row as f64,
+                label,
+                11.0,
+                Anchor::Middle,
+                "#111",
+            );
         }
-        legend(
-            &mut svg,
-            &cap,
-            &[
-                ("#1e8449", "capacitor".to_string(), false),
-                (
-                    "#c0392b",
-                    format!("upper threshold {}", format_sig(self.upper, 3, "V")),
-                    true,
-                ),
-                (
-                    "#2e86c1",
-                    format!("lower threshold {}", format_sig(self.lower, 3, "V")),
-                    true,
-                ),
-                ("#6c3483", "output".to_string(), false),
-            ],
-        );
         svg.finish()
     }
 }
@@ -315,6 +369,25 @@ mod tests {
         // The closed-form times must carry the capacitor exactly from one threshold to the other.
         assert!((charge.at(charge.duration) - w.upper).abs() < 1e-9);
         assert!((discharge.at(discharge.duration) - w.lower).abs() < 1e-9);
+    }
+
+    #[test]
+    fn one_diode_steering_discharges_toward_ground() {
+        let mut c = cond();
+        c.diode_drop = Volts::from_si(0.7).unwrap_or_default();
+        let (ra, rb, cap) = (
+            Ohms::from_base(10_000_000),
+            Ohms::from_base(4_700_000),
+            Farads::from_base(100_000_000),
+        );
+        let one = Waveform::steered_bypass(ra, rb, cap, &c).expect("one diode");
+        let two = Waveform::steered(ra, rb, cap, &c).expect("two diodes");
+        // Same charge phase; the discharge has no diode, so it heads to 0 V and is shorter.
+        assert_eq!(one.cycle[0], two.cycle[0]);
+        assert_eq!(one.cycle[1].vt, 0.0);
+        assert!(one.cycle[1].duration < two.cycle[1].duration);
+        let d = one.cycle[1];
+        assert!((d.at(d.duration) - one.lower).abs() < 1e-9);
     }
 
     #[test]
