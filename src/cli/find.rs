@@ -288,7 +288,7 @@ fn goal_of(t: &Target, tol: f64) -> Result<Goal> {
 
 /// One stage written as `pulse:250ms`, `astable:1kHz[:60..70%]`, `square:1kHz` or
 /// `steered:1ms:200us`.
-fn stage_of(text: &str) -> Result<StageGoal> {
+pub(crate) fn stage_of(text: &str) -> Result<StageGoal> {
     let mut it = text.split(':');
     let form = it.next().unwrap_or_default().trim().to_ascii_lowercase();
     let rest: Vec<&str> = it.collect();
@@ -394,7 +394,7 @@ fn tech_of(name: &str) -> Option<Technology> {
     )
 }
 
-fn techs(list: &[String], timing: bool) -> Result<Option<Vec<Technology>>> {
+pub(crate) fn techs(list: &[String], timing: bool) -> Result<Option<Vec<Technology>>> {
     if list.iter().any(|t| t.eq_ignore_ascii_case("all")) {
         return Ok(None);
     }

@@ -10,6 +10,7 @@ mod context;
 mod demo;
 mod find;
 mod holds;
+mod plan;
 mod series;
 mod stock;
 
@@ -68,6 +69,8 @@ pub enum Command {
     Holds(holds::HoldsCommand),
     /// Evaluate a design you hand it: times, frequency, duty, worst case, Monte Carlo, warnings.
     Check(Box<check::CheckArgs>),
+    #[command(flatten)]
+    Plan(plan::PlanCommand),
     /// Find a design from the parts in stock, with the fewest pieces.
     Find(find::FindArgs),
     /// Preferred values (IEC 60063 E-series): nearest, next above and below, membership.
@@ -126,6 +129,7 @@ fn dispatch(cli: Cli, out: &mut dyn Write) -> anyhow::Result<Status> {
         Command::Holds(cmd) => holds::run(cmd, &ctx, out),
         Command::Check(args) => check::run(*args, &ctx, out),
         Command::Find(args) => find::run(args, &ctx, out),
+        Command::Plan(cmd) => plan::run(cmd, &ctx, out),
         Command::Series(args) => series::run(args, &ctx, out),
         Command::Completions { shell } => {
             let mut cmd = <Cli as clap::CommandFactory>::command();

@@ -57,7 +57,7 @@ fn bin_label(p: &Part) -> String {
     }
 }
 
-fn describe_goal(goal: &Goal, s: &Settings) -> String {
+pub(crate) fn describe_goal(goal: &Goal, s: &Settings) -> String {
     let t = |x: f64| format_sig(x, 4, "s");
     let f = |x: f64| format_sig(1.0 / x, 4, "Hz");
     let stage = |g: &StageGoal| match *g {
@@ -113,7 +113,12 @@ fn quantity_line(q: &Quantity) -> String {
     s
 }
 
-fn write_design(out: &mut dyn Write, parts: &[Part], d: &Design, stages: usize) -> io::Result<()> {
+pub(crate) fn write_design(
+    out: &mut dyn Write,
+    parts: &[Part],
+    d: &Design,
+    stages: usize,
+) -> io::Result<()> {
     for (si, st) in d.stages.iter().enumerate() {
         if stages > 1 {
             let form = st
@@ -330,7 +335,7 @@ struct JPosition<'a> {
 }
 
 #[derive(Serialize)]
-struct JDesign<'a> {
+pub(crate) struct JDesign<'a> {
     rank: usize,
     pieces: usize,
     error: f64,
@@ -341,7 +346,7 @@ struct JDesign<'a> {
     stages: &'a [crate::solve::StageReport],
 }
 
-fn jdesign<'a>(parts: &'a [Part], rank: usize, d: &'a Design) -> JDesign<'a> {
+pub(crate) fn jdesign<'a>(parts: &'a [Part], rank: usize, d: &'a Design) -> JDesign<'a> {
     JDesign {
         rank,
         pieces: d.pieces,

@@ -54,6 +54,8 @@ pub struct StageShare {
 pub struct Short {
     /// Stage name.
     pub stage: String,
+    /// Units of this stage the leftover stock cannot build even on its own.
+    pub units: u32,
     /// Index into the parts slice.
     pub row: usize,
     /// Pieces needed for the missing units.
@@ -75,7 +77,8 @@ pub struct Buildable {
     pub takes: Vec<(usize, u64)>,
     /// Stages that cannot be built at all from this stock (no candidate design).
     pub impossible: Vec<String>,
-    /// What is missing for the rest, using each stage's best design.
+    /// What is missing for the rest: for each stage that the leftover stock cannot serve on
+    /// its own, the rows its best design lacks.
     pub short: Vec<Short>,
     /// Total pieces of the built units.
     pub pieces: u64,
@@ -229,12 +232,17 @@ pub fn buildable(
         .filter(|(_, n)| **n > 0)
         .map(|(i, n)| (i, *n))
         .collect();
-    // What the missing units lack: each stage's best design, for the units not built.
-    let missing = u64::from(units - alloc.units.min(units));
-    let mut left: Vec<u64> = resources
+    // What the missing units lack. Each stage in turn is given the stock left after the built
+    // units; a stage that could build every missing unit from it alone is not the bottleneck.
+    // For the others, the rows its best design lacks for the units it cannot build are listed.
+    let missing = units - alloc.units.min(units);
+    let left: Vec<Resource> = resources
         .iter()
         .zip(&used)
-        .map(|(r, u)| u64::from(r.available).saturating_sub(*u))
+        .map(|(r, u)| Resource {
+            available: u32::try_from(u64::from(r.available).saturating_sub(*u)).unwrap_or(0),
+            pack: None,
+        })
         .collect();
     let mut short = Vec::new();
     if missing > 0 {
@@ -242,17 +250,31 @@ pub fn buildable(
             let Some(best) = designs.first() else {
                 continue;
             };
+            let own: Vec<Candidate> = cands
+                .iter()
+                .filter(|c| c.stage == s)
+                .map(|c| Candidate {
+                    stage: 0,
+                    ..c.clone()
+                })
+                .collect();
+            let extra = allocate::allocate(1, missing, &own, &left, limits).map_or(0, |a| a.units);
+            let lacking = u64::from(missing - extra.min(missing));
+            if lacking == 0 {
+                continue;
+            }
             for (row, per) in uses_of(best) {
-                let need = u64::from(per) * missing;
-                if need > left[row] {
+                let need = u64::from(per) * lacking;
+                let have = u64::from(left[row].available);
+                if need > have {
                     short.push(Short {
                         stage: stages[s].name.clone(),
+                        units: lacking as u32,
                         row,
                         need,
-                        left: left[row],
+                        left: have,
                     });
                 }
-                left[row] = left[row].saturating_sub(need);
             }
         }
     }

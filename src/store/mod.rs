@@ -20,7 +20,7 @@ pub mod text;
 
 pub use change::{Change, LedgerEntry};
 pub use error::{RowError, Shortfall, StoreError};
-pub use exchange::{COLUMNS, ExportFormat, Record, export, read_csv, read_json};
+pub use exchange::{COLUMNS, ExportFormat, Record, export, neutralise_cell, read_csv, read_json};
 pub use holds::{Hold, HoldAction, HoldChange, HoldFilter, HoldLine};
 pub use import::{ImportLine, ImportReport};
 pub use part::{Kind, Part, Technology, UnknownName, Value};

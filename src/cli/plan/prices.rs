@@ -11,7 +11,7 @@
 //! both ends. A value offered by several rows keeps the cheapest per piece.
 
 use crate::store::{Kind, Technology, Value};
-use crate::units::{self, eseries, eseries::Series, Farads, Ohms, Tolerance};
+use crate::units::{self, Farads, Ohms, Tolerance, eseries, eseries::Series};
 use std::collections::BTreeMap;
 
 /// One value that can be bought.
@@ -41,27 +41,48 @@ pub struct PriceError(pub String);
 fn cents(text: &str) -> Option<u64> {
     let t = text.trim();
     let (int, frac) = t.split_once('.').unwrap_or((t, ""));
-    if int.is_empty() && frac.is_empty() || frac.len() > 2 || !int.chars().chain(frac.chars()).all(|c| c.is_ascii_digit()) {
+    if int.is_empty() && frac.is_empty()
+        || frac.len() > 2
+        || !int.chars().chain(frac.chars()).all(|c| c.is_ascii_digit())
+    {
         return None;
     }
     let int: u64 = if int.is_empty() { 0 } else { int.parse().ok()? };
-    let frac: u64 = if frac.is_empty() { 0 } else { format!("{frac:0<2}").parse().ok()? };
+    let frac: u64 = if frac.is_empty() {
+        0
+    } else {
+        format!("{frac:0<2}").parse().ok()?
+    };
     int.checked_mul(100)?.checked_add(frac)
 }
 
 /// Parse a price list and expand it into offers, keeping only the series in `only` when given.
 pub fn parse_prices(text: &str, only: Option<&[Series]>) -> Result<Vec<Offer>, PriceError> {
-    let mut rdr = csv::ReaderBuilder::new().trim(csv::Trim::All).from_reader(text.as_bytes());
+    let mut rdr = csv::ReaderBuilder::new()
+        .trim(csv::Trim::All)
+        .from_reader(text.as_bytes());
     let headers: Vec<String> = rdr
         .headers()
         .map_err(|e| PriceError(format!("price list header: {e}")))?
         .iter()
         .map(|h| h.to_ascii_lowercase())
         .collect();
-    const COLUMNS: [&str; 8] = ["kind", "series", "technology", "tolerance", "from", "to", "pack", "price"];
+    const COLUMNS: [&str; 8] = [
+        "kind",
+        "series",
+        "technology",
+        "tolerance",
+        "from",
+        "to",
+        "pack",
+        "price",
+    ];
     for h in &headers {
         if !COLUMNS.contains(&h.as_str()) {
-            return Err(PriceError(format!("price list: unknown column {h:?} (expected {})", COLUMNS.join(","))));
+            return Err(PriceError(format!(
+                "price list: unknown column {h:?} (expected {})",
+                COLUMNS.join(",")
+            )));
         }
     }
     let col = |name: &str| headers.iter().position(|h| h == name);
@@ -74,36 +95,76 @@ pub fn parse_prices(text: &str, only: Option<&[Series]>) -> Result<Vec<Offer>, P
         let row = i + 1;
         let rec = rec.map_err(|e| PriceError(format!("price list row {row}: {e}")))?;
         let cell = |c: usize| rec.get(idx[c]).unwrap_or("");
-        let bad = |c: usize, why: String| PriceError(format!("price list row {row}, column {}: {why}", COLUMNS[c]));
-        let kind: Kind = cell(0).parse().map_err(|e: crate::store::part::UnknownName| bad(0, e.to_string()))?;
+        let bad = |c: usize, why: String| {
+            PriceError(format!(
+                "price list row {row}, column {}: {why}",
+                COLUMNS[c]
+            ))
+        };
+        let kind: Kind = cell(0)
+            .parse()
+            .map_err(|e: crate::store::part::UnknownName| bad(0, e.to_string()))?;
         let series: Series = cell(1).parse().map_err(|e| bad(1, format!("{e}")))?;
         if only.is_some_and(|o| !o.contains(&series)) {
             continue;
         }
-        let technology: Technology = cell(2).parse().map_err(|e: crate::store::part::UnknownName| bad(2, e.to_string()))?;
+        let technology: Technology = cell(2)
+            .parse()
+            .map_err(|e: crate::store::part::UnknownName| bad(2, e.to_string()))?;
         let tolerance = units::parse_tolerance(cell(3)).map_err(|e| bad(3, e.to_string()))?;
-        let pack: u32 = cell(6).parse().ok().filter(|p| *p > 0).ok_or_else(|| bad(6, format!("{:?} is not a whole number of pieces above zero", cell(6))))?;
-        let price = cents(cell(7)).ok_or_else(|| bad(7, format!("{:?} is not a price such as 1.80", cell(7))))?;
+        let pack: u32 = cell(6).parse().ok().filter(|p| *p > 0).ok_or_else(|| {
+            bad(
+                6,
+                format!("{:?} is not a whole number of pieces above zero", cell(6)),
+            )
+        })?;
+        let price = cents(cell(7))
+            .ok_or_else(|| bad(7, format!("{:?} is not a price such as 1.80", cell(7))))?;
         let values: Vec<Value> = match kind {
             Kind::Resistor => {
-                let lo: Ohms = units::parse_resistance(cell(4)).map_err(|e| bad(4, e.to_string()))?;
-                let hi: Ohms = units::parse_resistance(cell(5)).map_err(|e| bad(5, e.to_string()))?;
-                eseries::values_between(series, lo, hi).into_iter().map(Value::Resistance).collect()
+                let lo: Ohms =
+                    units::parse_resistance(cell(4)).map_err(|e| bad(4, e.to_string()))?;
+                let hi: Ohms =
+                    units::parse_resistance(cell(5)).map_err(|e| bad(5, e.to_string()))?;
+                eseries::values_between(series, lo, hi)
+                    .into_iter()
+                    .map(Value::Resistance)
+                    .collect()
             }
             Kind::Capacitor => {
-                let lo: Farads = units::parse_capacitance(cell(4)).map_err(|e| bad(4, e.to_string()))?;
-                let hi: Farads = units::parse_capacitance(cell(5)).map_err(|e| bad(5, e.to_string()))?;
-                eseries::values_between(series, lo, hi).into_iter().map(Value::Capacitance).collect()
+                let lo: Farads =
+                    units::parse_capacitance(cell(4)).map_err(|e| bad(4, e.to_string()))?;
+                let hi: Farads =
+                    units::parse_capacitance(cell(5)).map_err(|e| bad(5, e.to_string()))?;
+                eseries::values_between(series, lo, hi)
+                    .into_iter()
+                    .map(Value::Capacitance)
+                    .collect()
             }
             other => return Err(bad(0, format!("{other} cannot be ordered by series value"))),
         };
         if values.is_empty() {
-            return Err(PriceError(format!("price list row {row}: no {series:?} value between {} and {}", cell(4), cell(5))));
+            return Err(PriceError(format!(
+                "price list row {row}: no {series:?} value between {} and {}",
+                cell(4),
+                cell(5)
+            )));
         }
         for value in values {
             let key = (kind, value_base(value), technology, tolerance);
-            let offer = Offer { kind, value, tolerance, technology, series, pack, price_cents: price };
-            let cheaper = |o: &Offer| u128::from(price) * u128::from(o.pack) < u128::from(o.price_cents) * u128::from(pack);
+            let offer = Offer {
+                kind,
+                value,
+                tolerance,
+                technology,
+                series,
+                pack,
+                price_cents: price,
+            };
+            let cheaper = |o: &Offer| {
+                u128::from(price) * u128::from(o.pack)
+                    < u128::from(o.price_cents) * u128::from(pack)
+            };
             match best.get(&key) {
                 Some(o) if !cheaper(o) => {}
                 _ => {
@@ -136,10 +197,18 @@ mod tests {
         // E12 1k..10k: 1, 1.2, 1.5, 1.8, 2.2, 2.7, 3.3, 3.9, 4.7, 5.6, 6.8, 8.2, 10 → 13 values
         // (IEC 60063); E24 1k..2k adds 1.1, 1.3, 1.6, 2.0 → 17 distinct.
         assert_eq!(offers.len(), 17);
-        let one_k = offers.iter().find(|o| o.value == Value::Resistance(Ohms::from_base(1_000_000))).expect("1k");
+        let one_k = offers
+            .iter()
+            .find(|o| o.value == Value::Resistance(Ohms::from_base(1_000_000)))
+            .expect("1k");
         // 1.50 per 100 is cheaper per piece than 0.90 per 10.
         assert_eq!((one_k.pack, one_k.price_cents), (100, 150));
-        assert!(parse_prices(text, Some(&[Series::E24])).expect("E24 only").len() == 5);
+        assert!(
+            parse_prices(text, Some(&[Series::E24]))
+                .expect("E24 only")
+                .len()
+                == 5
+        );
     }
 
     #[test]
