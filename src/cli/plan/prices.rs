@@ -203,12 +203,9 @@ mod tests {
             .expect("1k");
         // 1.50 per 100 is cheaper per piece than 0.90 per 10.
         assert_eq!((one_k.pack, one_k.price_cents), (100, 150));
-        assert!(
-            parse_prices(text, Some(&[Series::E24]))
-                .expect("E24 only")
-                .len()
-                == 5
-        );
+        // E24 alone, 1k..2k: 1.0 1.1 1.2 1.3 1.5 1.6 1.8 2.0 (IEC 60063) → 8 values.
+        let e24 = parse_prices(text, Some(&[Series::E24])).expect("E24 only");
+        assert_eq!(e24.len(), 8);
     }
 
     #[test]
