@@ -121,7 +121,7 @@ fn is_broken_pipe(e: &anyhow::Error) -> bool {
     })
 }
 
-fn dispatch(cli: Cli, out: &mut dyn Write) -> anyhow::Result<Status> {
+pub(crate) fn dispatch(cli: Cli, out: &mut dyn Write) -> anyhow::Result<Status> {
     let ctx = Context::new(cli.db, cli.user, cli.json);
     match cli.command {
         Command::Demo(args) => demo::run(args, &ctx, out),

@@ -3,6 +3,7 @@
 
 use crate::report::svg::{Anchor, Frame, Svg, Swatch, legend_rows, text_width};
 use crate::timing::{Conditions, FormError};
+use crate::units::Engineering as _;
 use crate::units::{Farads, Ohms, format_sig};
 
 /// One exponential stretch of the capacitor voltage: from `v0` toward `vt` with time constant
@@ -51,7 +52,12 @@ impl Waveform {
         let width = tau(r, c) * cond.factors()?.one_shot;
         let rest = width * 0.6;
         Ok(Self {
-            title: format!("Monostable: R = {r}, C = {c}, Vcc = {}", cond.vcc),
+            title: format!(
+                "Monostable: R = {}, C = {}, Vcc = {}",
+                r.eng(4),
+                c.eng(4),
+                cond.vcc
+            ),
             vcc,
             upper: vu,
             lower: vl,
@@ -84,7 +90,13 @@ impl Waveform {
         let tc = tau(Ohms::from_base(r1.base() + r2.base()), c);
         let td = tau(r2, c);
         Self::two_phase(
-            format!("Astable: R1 = {r1}, R2 = {r2}, C = {c}, Vcc = {}", cond.vcc),
+            format!(
+                "Astable: R1 = {}, R2 = {}, C = {}, Vcc = {}",
+                r1.eng(4),
+                r2.eng(4),
+                c.eng(4),
+                cond.vcc
+            ),
             cond.vcc.si(),
             (vu, vl),
             (tc * k.charge, cond.vcc.si(), tc),
@@ -99,7 +111,10 @@ impl Waveform {
         let vf = cond.diode_drop.si();
         Self::two_phase(
             format!(
-                "Diode-steered astable: Ra = {ra}, Rb = {rb}, C = {c}, Vcc = {}",
+                "Diode-steered astable: Ra = {}, Rb = {}, C = {}, Vcc = {}",
+                ra.eng(4),
+                rb.eng(4),
+                c.eng(4),
                 cond.vcc
             ),
             cond.vcc.si(),
@@ -126,7 +141,10 @@ impl Waveform {
         let vf = cond.diode_drop.si();
         Self::two_phase(
             format!(
-                "Diode-steered astable (one diode): Ra = {ra}, Rb = {rb}, C = {c}, Vcc = {}",
+                "Diode-steered astable (one diode): Ra = {}, Rb = {}, C = {}, Vcc = {}",
+                ra.eng(4),
+                rb.eng(4),
+                c.eng(4),
                 cond.vcc
             ),
             cond.vcc.si(),
@@ -147,7 +165,9 @@ impl Waveform {
         let voh = cond.vcc.si() - cond.output_high_drop.si();
         Self::two_phase(
             format!(
-                "Square wave from the output: R = {r}, C = {c}, Vcc = {}",
+                "Square wave from the output: R = {}, C = {}, Vcc = {}",
+                r.eng(4),
+                c.eng(4),
                 cond.vcc
             ),
             cond.vcc.si(),
