@@ -55,6 +55,7 @@ Examples:
   onhand list --kind resistor --low         what is running out
   onhand check astable R1=4k7 R2=68k C=10n  what does this board do?
   onhand find pulse 250ms                   a one-shot from the drawer
+  onhand plan kit.toml --hold               how many kits the stock builds; hold the parts
 
 Exit status: 0 done/found, 1 nothing in stock meets the target or a check failed, 2 error.";
 
@@ -69,10 +70,10 @@ pub enum Command {
     Holds(holds::HoldsCommand),
     /// Evaluate a design you hand it: times, frequency, duty, worst case, Monte Carlo, warnings.
     Check(Box<check::CheckArgs>),
-    #[command(flatten)]
-    Plan(plan::PlanCommand),
     /// Find a design from the parts in stock, with the fewest pieces.
     Find(find::FindArgs),
+    #[command(flatten)]
+    Plan(plan::PlanCommand),
     /// Preferred values (IEC 60063 E-series): nearest, next above and below, membership.
     Series(series::SeriesArgs),
     /// Print shell completions.
