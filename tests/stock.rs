@@ -463,3 +463,20 @@ fn sample_stock_is_the_promised_size() {
     assert!(r.iter().filter(|p| !p["low_stock"].is_null()).count() >= 10);
     assert!(repo_path("sample-stock/README.md").exists());
 }
+
+#[test]
+fn a_marking_read_off_the_part_carries_its_tolerance() {
+    let b = Bench::new();
+    // IEC 60062 colour code: yellow 4, violet 7, red ×100, gold ±5 % → 4.7 kΩ ±5 %.
+    b.run(&["add", "yellow-violet-red-gold", "--qty", "3"])
+        .ok()
+        .stdout_has("4.7 kΩ 5%");
+    // IEC 60062 capacitor code with letter: 104 = 10·10^4 pF = 100 nF, K = ±10 %.
+    b.run(&["add", "104K", "--qty", "3", "--kind", "capacitor"])
+        .ok()
+        .stdout_has("100 nF 10%");
+    // An explicit --tol wins over the marking.
+    b.run(&["add", "yellow-violet-red-gold", "--qty", "1", "--tol", "1%"])
+        .ok()
+        .stdout_has("4.7 kΩ 1%");
+}

@@ -155,6 +155,29 @@ pub fn default_capacitor_technology(c: Farads) -> Technology {
     }
 }
 
+/// The tolerance written into a value's own marking, if any.
+fn marked_tolerance(kind: Kind, value_text: &str) -> Option<Tolerance> {
+    match kind {
+        Kind::Resistor | Kind::Trimmer => {
+            // Only a colour code (several colour words) carries a tolerance in a resistor value.
+            let letters = value_text
+                .chars()
+                .filter(|c| c.is_ascii_alphabetic())
+                .count();
+            if letters <= 6 {
+                return None;
+            }
+            units::parse_colour_bands(value_text)
+                .ok()
+                .and_then(|(_, t)| t)
+        }
+        Kind::Capacitor => units::parse_capacitor_marking(value_text)
+            .ok()
+            .and_then(|(_, t)| t),
+        Kind::Diode => None,
+    }
+}
+
 /// The usual tolerance of a part of this kind and technology (`common practice`).
 pub fn default_tolerance(kind: Kind, tech: Technology) -> Tolerance {
     match (kind, tech) {
@@ -284,7 +307,10 @@ impl PartText {
                     default_tolerance(kind, technology)
                 }
             },
-            None => default_tolerance(kind, technology),
+            // A value read off the part may carry its own tolerance: the tolerance band of a
+            // colour code (IEC 60062), or the letter after a capacitor code (`104K`).
+            None => marked_tolerance(kind, value_text)
+                .unwrap_or_else(|| default_tolerance(kind, technology)),
         };
 
         let volts = match given(&self.volts) {
