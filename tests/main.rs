@@ -9,5 +9,6 @@ mod external_ode;
 mod find;
 mod holds;
 mod pictures;
+mod reach;
 mod stock;
 mod store_safety;

@@ -10,6 +10,8 @@ mod context;
 mod demo;
 mod find;
 mod holds;
+mod output;
+mod reach;
 mod series;
 mod stock;
 
@@ -70,6 +72,9 @@ pub enum Command {
     Check(Box<check::CheckArgs>),
     /// Find a design from the parts in stock, with the fewest pieces.
     Find(find::FindArgs),
+    /// What the stock can reach: the pulse widths or frequencies its parts give, the holes in a
+    /// range, and the one purchase that closes most of each hole.
+    Reach(reach::ReachArgs),
     /// Preferred values (IEC 60063 E-series): nearest, next above and below, membership.
     Series(series::SeriesArgs),
     /// Print shell completions.
@@ -126,6 +131,7 @@ fn dispatch(cli: Cli, out: &mut dyn Write) -> anyhow::Result<Status> {
         Command::Holds(cmd) => holds::run(cmd, &ctx, out),
         Command::Check(args) => check::run(*args, &ctx, out),
         Command::Find(args) => find::run(args, &ctx, out),
+        Command::Reach(args) => reach::run(args, &ctx, out),
         Command::Series(args) => series::run(args, &ctx, out),
         Command::Completions { shell } => {
             let mut cmd = <Cli as clap::CommandFactory>::command();
