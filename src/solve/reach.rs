@@ -470,6 +470,7 @@ impl<'a> Prep<'a> {
 
     /// The discharge-pin rules on R1 (one-shot R, astable R1), with the capacitor's current.
     fn r1_ok(&self, r1: f64, from_cap: f64) -> bool {
+        let r1 = exact(r1);
         r1 > 0.0
             && self.vcc / r1 + from_cap <= self.fam().discharge_max.value
             && self.vcc * self.vcc / r1 <= self.power
@@ -477,6 +478,8 @@ impl<'a> Prep<'a> {
 
     /// Whether the electrical checks admit these resistances (capacitor-independent rules).
     fn admits(&self, r1: f64, r2: f64) -> bool {
+        // The checks see the values as stored (whole milliohms); so does this.
+        let (r1, r2) = (exact(r1), exact(r2));
         let fam = self.fam();
         let (ith, itr) = (fam.threshold_current.value, fam.trigger_current.value);
         match self.req.form {
@@ -631,10 +634,11 @@ impl<'a> Prep<'a> {
                     let mut used = pool.fresh_usage();
                     pool.walk(n, 0.0, f64::INFINITY, &mut used, None, &mut |c, _| {
                         total += 1;
-                        if self.admits(c.value, 0.0) {
+                        let r = exact(c.value);
+                        if self.admits(r, 0.0) {
                             entries.push(Entry {
-                                a: self.k.0 * c.value,
-                                r1: c.value,
+                                a: self.k.0 * r,
+                                r1: r,
                                 r2: 0.0,
                             });
                         }
@@ -659,7 +663,7 @@ impl<'a> Prep<'a> {
                     let mut used = pool.fresh_usage();
                     pool.walk(n, 0.0, f64::INFINITY, &mut used, None, &mut |r2c, _| {
                         total += 1;
-                        let r2 = r2c.value;
+                        let r2 = exact(r2c.value);
                         let room = imax - self.vu / r2;
                         if room <= 0.0 {
                             return Step::Go(0.0, f64::INFINITY);
@@ -680,9 +684,10 @@ impl<'a> Prep<'a> {
                             both[..p1.len()].copy_from_slice(p1);
                             both[p1.len()..p1.len() + p2.len()].copy_from_slice(p2);
                             if pool.fits(&both[..p1.len() + p2.len()], &fresh) {
+                                let r1 = exact(r1c.value);
                                 entries.push(Entry {
-                                    a: self.k.0 * r1c.value + self.k.1 * r2,
-                                    r1: r1c.value,
+                                    a: self.k.0 * r1 + self.k.1 * r2,
+                                    r1,
                                     r2,
                                 });
                                 break;
@@ -761,9 +766,11 @@ impl<'a> Prep<'a> {
         if self.req.form != ReachForm::Pulse {
             // Frequency at most the family maximum (f falls as `a` grows).
             let fmax = self.fam().max_freq.value;
-            i = i.max(e.partition_point(|x| 1.0 / (x.a * c) > fmax));
+            // Times are kept in whole picoseconds, so the checks' frequency can differ from this
+            // one in the seventh digit: keep a hair's margin below the maximum.
+            i = i.max(e.partition_point(|x| 1.0 / (x.a * c) > fmax * (1.0 - 1e-6)));
         }
-        let limit = self.leak_limit(c, cap.tech);
+        let limit = self.leak_limit(c, cap.tech) * (1.0 - 1e-7);
         let charge = |x: &Entry| x.r1 + x.r2;
         let mut spans = Vec::new();
         if limit.is_infinite() {
@@ -805,6 +812,11 @@ impl<'a> Prep<'a> {
         }
         Ok(())
     }
+}
+
+/// A resistance as the store and the checks hold it: rounded to whole milliohms.
+fn exact(r: f64) -> f64 {
+    Ohms::from_si(r).map_or(r, Ohms::si)
 }
 
 fn item(row: usize, p: &Part, value: f64) -> Item {
@@ -863,7 +875,8 @@ fn cap_nets(parts: &[Part], pool: &Pool, k: usize) -> Vec<CapNet> {
             }
             out.push(CapNet {
                 cand: *c,
-                value: c.value,
+                // As the store and the checks hold it: whole femtofarads.
+                value: Farads::from_si(c.value).map_or(c.value, Farads::si),
                 tech,
                 facts: CapFacts {
                     technology: tech,
