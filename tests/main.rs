@@ -11,5 +11,6 @@ mod find;
 mod holds;
 mod pictures;
 mod plan;
+mod reach;
 mod stock;
 mod store_safety;

@@ -4,12 +4,14 @@
 //! measurement. Owns the argument types, their conversion into the pure `timing` types, the
 //! text and JSON rendering of the result (with the text schematic), and the files it is asked
 //! for: SVG pictures (`--svg DIR`) and the SPICE netlist (`--netlist FILE`), rendered by
-//! `report` and written here. Needs no store.
+//! `report` and written through `cli::output`, which `find` shares. Needs no store.
 
+use super::output::{
+    Analysed, Built, CircuitRow, FileReport, Layout, NetlistReport, Pictures, short_name, stage_of,
+    write_netlist,
+};
 use super::{Context, Status};
 use crate::network::{Combine, parse_net};
-use crate::report::netlist;
-use crate::report::pictures::{Histogram, Waveform};
 use crate::report::schematic;
 use crate::store::Technology;
 use crate::timing::tolerance::Samples;
@@ -27,7 +29,7 @@ use crate::units::{
 use anyhow::{Context as _, anyhow, bail};
 use serde::Serialize;
 use std::io::Write;
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 
 const EXAMPLES: &str = "\
 Positions (NAME=VALUE; a value may be a network: + series, || or // parallel, parentheses):
@@ -304,12 +306,6 @@ fn parse_figure(text: &str, unit: &str) -> anyhow::Result<f64> {
         }
     };
     Ok(v)
-}
-
-struct Built {
-    label: &'static str,
-    stage: Stage,
-    model: StageModel,
 }
 
 struct Prepared {
@@ -609,19 +605,6 @@ fn prepare(args: &CheckArgs) -> anyhow::Result<Prepared> {
     })
 }
 
-fn stage_of(m: &StageModel, cap: Option<CapFacts>) -> anyhow::Result<Stage> {
-    let ohms = |v: f64| Ohms::from_si(v).ok_or_else(|| anyhow!("resistance {v} out of range"));
-    Ok(Stage {
-        form: m.form,
-        r1: ohms(m.r1.nominal())?,
-        r2: m.r2.as_ref().map(|p| ohms(p.nominal())).transpose()?,
-        c: Farads::from_si(m.c.nominal()).ok_or_else(|| anyhow!("capacitance out of range"))?,
-        cap,
-        conditions: m.conditions,
-        steering: m.steering,
-    })
-}
-
 fn tolerance_text(t: Tolerance) -> String {
     if t.is_symmetric() {
         format!("±{}", t.plus)
@@ -678,27 +661,6 @@ struct Report {
     netlist: Option<NetlistReport>,
     notes: Vec<String>,
     ok: bool,
-}
-
-/// A file the command wrote.
-#[derive(Debug, Clone, Serialize)]
-struct FileReport {
-    kind: &'static str,
-    path: String,
-}
-
-/// The netlist written, and which of the tool's predictions each `.meas` result is.
-#[derive(Debug, Clone, Serialize)]
-struct NetlistReport {
-    path: String,
-    measures: Vec<MeasureReport>,
-}
-
-#[derive(Debug, Clone, Serialize)]
-struct MeasureReport {
-    name: String,
-    analysis: usize,
-    quantity: Quantity,
 }
 
 fn parse_quantity_value(
@@ -947,7 +909,7 @@ pub fn run(args: CheckArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resul
     let mut notes = Vec::new();
     let netlist_report = match &args.netlist {
         Some(path) => {
-            let report = write_netlist(&prep.stages, args.form, path)?;
+            let report = write_netlist(&prep.stages, layout_of(args.form), path)?;
             files.push(FileReport {
                 kind: "netlist",
                 path: report.path.clone(),
@@ -959,10 +921,16 @@ pub fn run(args: CheckArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resul
     if let Some(dir) = &args.svg {
         let pictures = Pictures {
             dir,
-            form: args.form,
+            layout: layout_of(args.form),
             target,
             circuits: &circuits,
-            analyses: &analyses,
+            analysed: analyses
+                .iter()
+                .map(|a| Analysed {
+                    worst_case: a.worst_case.as_ref(),
+                    monte_carlo: a.monte_carlo.as_ref(),
+                })
+                .collect(),
             samples: &samples,
         };
         pictures.write(&mut files, &mut notes)?;
@@ -1029,11 +997,6 @@ fn position_text(p: &Position) -> String {
     }
 }
 
-/// The position's name without the `A.`/`B.` prefix of a dual package.
-fn short_name(name: &str) -> &str {
-    name.rsplit('.').next().unwrap_or(name)
-}
-
 fn stage_parts(b: &Built) -> schematic::StageParts {
     let m = &b.model;
     let circuit = match (m.form, m.steering) {
@@ -1069,254 +1032,6 @@ fn schematic_of(stages: &[Built], form: FormArg, vcc: Volts) -> String {
     }
 }
 
-fn network_of(p: &Position) -> netlist::Network {
-    netlist::Network {
-        name: short_name(&p.name).to_string(),
-        net: p.net.clone(),
-        values: p.pieces.iter().map(|x| x.value).collect(),
-    }
-}
-
-fn stage_net(b: &Built) -> netlist::StageNet {
-    let m = &b.model;
-    netlist::StageNet {
-        form: m.form,
-        steering: m.steering,
-        r1: network_of(&m.r1),
-        r2: m.r2.as_ref().map(network_of),
-        c: network_of(&m.c),
-        conditions: m.conditions,
-    }
-}
-
-/// The `.meas` results of a single stage's netlist, as the analysis' quantities.
-fn single_measures(form: Form, tag: &str, analysis: usize) -> Vec<MeasureReport> {
-    let list: &[(&str, Quantity)] = if form == Form::Monostable {
-        &[(netlist::MEAS_WIDTH, Quantity::High)]
-    } else {
-        &[
-            (netlist::MEAS_HIGH, Quantity::High),
-            (netlist::MEAS_LOW, Quantity::Low),
-            (netlist::MEAS_PERIOD, Quantity::Period),
-        ]
-    };
-    list.iter()
-        .map(|&(name, quantity)| MeasureReport {
-            name: netlist::meas_name(tag, name),
-            analysis,
-            quantity,
-        })
-        .collect()
-}
-
-fn write_netlist(stages: &[Built], form: FormArg, path: &Path) -> anyhow::Result<NetlistReport> {
-    let (text, measures) = match (form, stages) {
-        (FormArg::Pair, [a, b]) => (
-            netlist::pair(&stage_net(a), &stage_net(b)),
-            [
-                (netlist::MEAS_WIDTH, Quantity::High),
-                (netlist::MEAS_LOW, Quantity::Low),
-                (netlist::MEAS_PERIOD, Quantity::Period),
-            ]
-            .iter()
-            .map(|&(name, quantity)| MeasureReport {
-                name: name.to_string(),
-                analysis: 0,
-                quantity,
-            })
-            .collect(),
-        ),
-        (FormArg::Dual, [a, b]) => (netlist::dual(&stage_net(a), &stage_net(b)), {
-            let mut m = single_measures(a.model.form, "a", 0);
-            m.extend(single_measures(b.model.form, "b", 1));
-            m
-        }),
-        (_, [one]) => (
-            netlist::stage(&stage_net(one)),
-            single_measures(one.model.form, "", 0),
-        ),
-        _ => bail!("unexpected number of stages"),
-    };
-    let text = text.context("writing the netlist")?;
-    if let Some(parent) = path.parent().filter(|p| !p.as_os_str().is_empty()) {
-        std::fs::create_dir_all(parent)
-            .with_context(|| format!("creating folder {}", parent.display()))?;
-    }
-    std::fs::write(path, text).with_context(|| format!("writing {}", path.display()))?;
-    Ok(NetlistReport {
-        path: path.display().to_string(),
-        measures,
-    })
-}
-
-/// The waveform of one stage at its nominal values and real conditions.
-fn waveform_of(b: &Built) -> anyhow::Result<Waveform> {
-    let st = &b.stage;
-    let cond = &st.conditions;
-    let need_r2 = || {
-        st.r2
-            .ok_or_else(|| anyhow!("this form needs a second resistor"))
-    };
-    Ok(match (st.form, st.steering) {
-        (Form::Monostable, _) => Waveform::monostable(st.r1, st.c, cond)?,
-        (Form::Astable, _) => Waveform::astable(st.r1, need_r2()?, st.c, cond)?,
-        (Form::Steered, Steering::TwoDiode) => Waveform::steered(st.r1, need_r2()?, st.c, cond)?,
-        (Form::Steered, Steering::OneDiode) => {
-            Waveform::steered_bypass(st.r1, need_r2()?, st.c, cond)?
-        }
-        (Form::Square, _) => Waveform::square(st.r1, st.c, cond)?,
-    })
-}
-
-type CircuitRow<'a> = (String, String, Circuit, Vec<&'a Built>);
-
-/// What the `--svg` pictures are drawn from.
-struct Pictures<'a> {
-    dir: &'a Path,
-    form: FormArg,
-    target: Option<Target>,
-    circuits: &'a [CircuitRow<'a>],
-    analyses: &'a [AnalysisReport],
-    samples: &'a [Samples],
-}
-
-/// A file-name piece from a label: `timer A` → `a`, `pace` → `pace`.
-fn slug(label: &str) -> String {
-    label
-        .trim_start_matches("timer ")
-        .to_ascii_lowercase()
-        .replace(' ', "-")
-}
-
-impl Pictures<'_> {
-    fn save(
-        &self,
-        name: &str,
-        svg: &str,
-        kind: &'static str,
-        files: &mut Vec<FileReport>,
-    ) -> anyhow::Result<()> {
-        let path = self.dir.join(name);
-        std::fs::write(&path, svg).with_context(|| format!("writing {}", path.display()))?;
-        files.push(FileReport {
-            kind,
-            path: path.display().to_string(),
-        });
-        Ok(())
-    }
-
-    fn write(&self, files: &mut Vec<FileReport>, notes: &mut Vec<String>) -> anyhow::Result<()> {
-        std::fs::create_dir_all(self.dir)
-            .with_context(|| format!("creating folder {}", self.dir.display()))?;
-        for (i, (label, _, _, built)) in self.circuits.iter().enumerate() {
-            let prefix = if label.is_empty() {
-                String::new()
-            } else {
-                format!("-{}", slug(label))
-            };
-            for b in built {
-                let name = if built.len() > 1 || !b.label.is_empty() {
-                    format!("waveform-{}.svg", slug(b.label))
-                } else {
-                    "waveform.svg".to_string()
-                };
-                let w = waveform_of(b).with_context(|| format!("drawing {name}"))?;
-                self.save(&name, &w.to_svg(), "waveform", files)?;
-            }
-            let Some(a) = self.analyses.get(i) else {
-                continue;
-            };
-            let drawn = self.samples.get(i).map_or(&[][..], Vec::as_slice);
-            if drawn.is_empty() {
-                notes.push("no Monte Carlo samples (--samples 0): no histogram drawn".into());
-                continue;
-            }
-            let Some(wc) = &a.worst_case else {
-                notes.push("no exact worst case (too many pieces): no histogram drawn".into());
-                continue;
-            };
-            let one_shot = built.len() == 1
-                && built
-                    .first()
-                    .is_some_and(|b| b.stage.form == Form::Monostable);
-            let mut wanted = if one_shot {
-                vec![Quantity::High]
-            } else if self.form == FormArg::Pair {
-                vec![Quantity::Period, Quantity::High]
-            } else {
-                vec![Quantity::Period]
-            };
-            if let Some(t) = self.target
-                && t.quantity != Quantity::Frequency
-                && !wanted.contains(&t.quantity)
-            {
-                wanted.push(t.quantity);
-            }
-            for q in wanted {
-                let (Some(col), Some(iv)) = (
-                    drawn.iter().find(|(x, _)| *x == q).map(|(_, c)| c),
-                    wc.get(q),
-                ) else {
-                    continue;
-                };
-                let what = match q {
-                    Quantity::High if one_shot || self.form == FormArg::Pair => "pulse width",
-                    other => other.label(),
-                };
-                let title = format!(
-                    "Monte Carlo: {what}{}, {} samples (seed {}, {})",
-                    if label.is_empty() {
-                        String::new()
-                    } else {
-                        format!(" of {label}")
-                    },
-                    col.len(),
-                    a.monte_carlo.as_ref().map_or(0, |m| m.seed),
-                    match a.monte_carlo.as_ref().map(|m| m.spread) {
-                        Some(Spread::Normal) => "normal",
-                        _ => "uniform",
-                    }
-                );
-                let window = self.target.and_then(|t| {
-                    let (lo, hi) = t.band();
-                    match (t.quantity, q) {
-                        (tq, hq) if tq == hq => Some((lo, hi)),
-                        (Quantity::Frequency, Quantity::Period) if lo > 0.0 => {
-                            Some((1.0 / hi, 1.0 / lo))
-                        }
-                        _ => None,
-                    }
-                });
-                let h = if q == Quantity::Duty {
-                    let mut h = Histogram::percent(&title, what, col, iv.nominal, (iv.min, iv.max));
-                    if let Some((lo, hi)) = window {
-                        h = h.with_target_percent(lo, hi);
-                    }
-                    h
-                } else {
-                    let secs = |v: f64| Seconds::from_si(v).unwrap_or_default();
-                    let pts: Vec<Seconds> =
-                        col.iter().filter_map(|&v| Seconds::from_si(v)).collect();
-                    let mut h = Histogram::new(
-                        &title,
-                        what,
-                        &pts,
-                        secs(iv.nominal),
-                        (secs(iv.min), secs(iv.max)),
-                    );
-                    if let Some((lo, hi)) = window {
-                        h = h.with_target(secs(lo), secs(hi));
-                    }
-                    h
-                };
-                let name = format!("histogram{prefix}-{}.svg", what.replace(' ', "-"));
-                self.save(&name, &h.to_svg(), "histogram", files)?;
-            }
-        }
-        Ok(())
-    }
-}
-
 fn substitute(prep: &mut Prepared, name: &str, value: f64) -> anyhow::Result<()> {
     for b in &mut prep.stages {
         let m = &mut b.model;
@@ -1344,6 +1059,15 @@ fn substitute(prep: &mut Prepared, name: &str, value: f64) -> anyhow::Result<()>
         }
     }
     Ok(())
+}
+
+/// How the files lay the stages of a form out.
+fn layout_of(form: FormArg) -> Layout {
+    match form {
+        FormArg::Pair => Layout::Pair,
+        FormArg::Dual => Layout::Dual,
+        _ => Layout::Single,
+    }
 }
 
 /// The main timing resistor of each form: the one a trimmer usually goes in.

@@ -76,6 +76,15 @@ struct FindOptions {
     /// Preferred-value series for the purchase suggestion (E12 or E24).
     #[arg(long, global = true, default_value = "E24", value_name = "SERIES")]
     buy_series: String,
+    /// Write SVG pictures of the best design into this folder (created if missing): the
+    /// waveform of every stage and the Monte Carlo histogram; when nothing fits, the reach of
+    /// the stock around the target, so the hole shows.
+    #[arg(long, global = true, value_name = "DIR")]
+    svg: Option<PathBuf>,
+    /// Write the SPICE netlist of the best design (its real pieces) to this file; run it with
+    /// `ngspice -b FILE`.
+    #[arg(long, global = true, value_name = "FILE")]
+    netlist: Option<PathBuf>,
 }
 
 const FIND_EXAMPLES: &str = "\
@@ -87,6 +96,7 @@ Examples:
   onhand find square 1kHz --family cmos          one resistor from the output
   onhand find pair --freq 1kHz --width 200us     an astable triggering a one-shot
   onhand find dual pulse:250ms astable:2Hz       two stages in one 556 package
+  onhand find pulse 250ms --svg pictures --netlist oneshot.cir
 
 Each targeted quantity must lie within --tol of its target (for a frequency, the period does).";
 
@@ -210,16 +220,360 @@ pub fn run(args: FindArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status>
         outcome: &outcome,
         advice: advice.as_ref(),
     };
+    let written = if args.svg.is_some() || args.netlist.is_some() {
+        let wanted = Wanted {
+            svg: args.svg.as_deref(),
+            netlist: args.netlist.as_deref(),
+            pair: matches!(target, Target::Pair { .. }),
+            series,
+        };
+        files::write(&wanted, &goal, &settings, &parts, &outcome)?
+    } else {
+        files::Written::default()
+    };
     if ctx.json {
-        render::json(out, &view)?;
+        let mut buf = Vec::new();
+        render::json(&mut buf, &view)?;
+        let mut j: serde_json::Value =
+            serde_json::from_slice(&buf).context("reading back the JSON report")?;
+        if let Some(obj) = j.as_object_mut() {
+            obj.insert("files".into(), serde_json::to_value(&written.files)?);
+            obj.insert("netlist".into(), serde_json::to_value(&written.netlist)?);
+            obj.insert("notes".into(), serde_json::to_value(&written.notes)?);
+        }
+        writeln!(out, "{}", serde_json::to_string_pretty(&j)?)?;
     } else {
         render::text(out, &view)?;
+        written.text(out)?;
     }
     Ok(if outcome.designs.is_empty() {
         Status::NotMet
     } else {
         Status::Success
     })
+}
+
+/// Which files `find` was asked for.
+struct Wanted<'a> {
+    svg: Option<&'a Path>,
+    netlist: Option<&'a Path>,
+    /// The two stages are a pace astable triggering a width one-shot (else independent).
+    pair: bool,
+    series: Series,
+}
+
+/// The files of `find --svg` and `--netlist`, through the helpers `check` uses.
+mod files {
+    use super::super::output::{
+        Analysed, Built, CircuitRow, FileReport, Layout, NetlistReport, Pictures, stage_of,
+        write_netlist,
+    };
+    use super::Wanted;
+    use crate::network::Combine;
+    use crate::solve::reach::{ReachForm, Request, fixes, reach};
+    use crate::solve::search::stage_conditions;
+    use crate::solve::{Design, Goal, Outcome, Settings, StageGoal};
+    use crate::store::{Kind, Part, Value};
+    use crate::timing::tolerance::Samples;
+    use crate::timing::{
+        Analysis, Circuit, Piece, Position, Quantity, Spread, StageModel, Steering, Target,
+    };
+    use crate::units::{Ratio, Volts};
+    use anyhow::{Context as _, Result, anyhow};
+    use std::io::Write;
+    use std::time::Duration;
+
+    /// Monte Carlo draws for the histogram (seeded, so the picture is reproducible).
+    const SAMPLES: usize = 10_000;
+    const SEED: u64 = 1;
+
+    /// What was written.
+    #[derive(Debug, Default)]
+    pub(super) struct Written {
+        pub(super) files: Vec<FileReport>,
+        pub(super) netlist: Option<NetlistReport>,
+        pub(super) notes: Vec<String>,
+    }
+
+    impl Written {
+        /// The plain-text list of files, as `check` prints it.
+        pub(super) fn text(&self, out: &mut dyn Write) -> std::io::Result<()> {
+            if self.files.is_empty() && self.notes.is_empty() {
+                return Ok(());
+            }
+            writeln!(out, "\nfiles written:")?;
+            for f in &self.files {
+                writeln!(out, "  {:<10} {}", f.kind, f.path)?;
+            }
+            if let Some(n) = &self.netlist {
+                writeln!(out, "  (run the netlist with: ngspice -b {})", n.path)?;
+            }
+            for n in &self.notes {
+                writeln!(out, "  note: {n}")?;
+            }
+            Ok(())
+        }
+    }
+
+    fn si(p: &Part) -> f64 {
+        match p.value {
+            Value::Resistance(v) => v.si(),
+            Value::Capacitance(v) => v.si(),
+            Value::None => f64::NAN,
+        }
+    }
+
+    /// The stages of a design as `check` builds them: every piece with its stocked tolerance.
+    fn built(
+        d: &Design,
+        stages: &[StageGoal],
+        s: &Settings,
+        parts: &[Part],
+        pair: bool,
+    ) -> Result<Vec<Built>> {
+        let labels: [&'static str; 2] = if stages.len() < 2 {
+            ["", ""]
+        } else if pair {
+            ["pace", "width"]
+        } else {
+            ["timer A", "timer B"]
+        };
+        let mut out = Vec::new();
+        for (si_, g) in stages.iter().enumerate() {
+            let mut ps: Vec<Position> = d
+                .positions
+                .iter()
+                .filter(|p| p.stage == si_)
+                .map(|p| {
+                    let pieces = p
+                        .rows
+                        .iter()
+                        .map(|&r| {
+                            let part = parts
+                                .get(r)
+                                .ok_or_else(|| anyhow!("design refers to a missing stock row"))?;
+                            Ok(Piece {
+                                value: si(part),
+                                tolerance: part.tolerance,
+                            })
+                        })
+                        .collect::<Result<Vec<_>>>()?;
+                    Ok(Position {
+                        name: p.name.to_string(),
+                        combine: if p.kind == Kind::Capacitor {
+                            Combine::Capacitive
+                        } else {
+                            Combine::Resistive
+                        },
+                        net: p.net.clone(),
+                        pieces,
+                    })
+                })
+                .collect::<Result<Vec<_>>>()?;
+            let c = ps.pop().ok_or_else(|| anyhow!("design has no capacitor"))?;
+            let mut it = ps.into_iter();
+            let r1 = it.next().ok_or_else(|| anyhow!("design has no resistor"))?;
+            let r2 = it.next();
+            let form = g.form();
+            let model = StageModel {
+                form,
+                steering: Steering::default(),
+                r1,
+                r2,
+                c,
+                conditions: stage_conditions(g, s),
+                // The search's worst case counts the timer's initial error only; so does this.
+                timer_error: s.family.timer_error(
+                    matches!(g, StageGoal::Pulse { .. }),
+                    0.0,
+                    Volts::ZERO,
+                ),
+            };
+            let stage = stage_of(&model, None)?;
+            out.push(Built {
+                label: labels[si_.min(1)],
+                stage,
+                model,
+            });
+        }
+        Ok(out)
+    }
+
+    /// The quantity a stage's goal targets, for the histogram's window.
+    fn target_of(g: &StageGoal, tol: f64) -> Option<Target> {
+        let within = Ratio::from_si(tol)?;
+        let (quantity, value) = match *g {
+            StageGoal::Pulse { width } => (Quantity::High, width),
+            StageGoal::Astable { period, .. } | StageGoal::Square { period } => {
+                (Quantity::Period, period)
+            }
+            StageGoal::Steered { high, .. } => (Quantity::High, high),
+        };
+        Some(Target {
+            quantity,
+            value,
+            within,
+        })
+    }
+
+    /// Write the files asked for.
+    pub(super) fn write(
+        w: &Wanted<'_>,
+        goal: &Goal,
+        s: &Settings,
+        parts: &[Part],
+        outcome: &Outcome,
+    ) -> Result<Written> {
+        let mut written = Written::default();
+        let Goal::Stages(stages) = goal else {
+            written
+                .notes
+                .push("a value search has no circuit: no pictures or netlist written".into());
+            return Ok(written);
+        };
+        let Some(best) = outcome.designs.first() else {
+            if w.netlist.is_some() {
+                written
+                    .notes
+                    .push("nothing fits the target: no netlist written".into());
+            }
+            if let Some(dir) = w.svg {
+                reach_picture(w, dir, stages, s, parts, &mut written)?;
+            }
+            return Ok(written);
+        };
+        let builts = built(best, stages, s, parts, w.pair)?;
+        let layout = match builts.len() {
+            1 => Layout::Single,
+            _ if w.pair => Layout::Pair,
+            _ => Layout::Dual,
+        };
+        if let Some(path) = w.netlist {
+            let report = write_netlist(&builts, layout, path)?;
+            written.files.push(FileReport {
+                kind: "netlist",
+                path: report.path.clone(),
+            });
+            written.netlist = Some(report);
+        }
+        let Some(dir) = w.svg else {
+            return Ok(written);
+        };
+        let describe = |b: &Built| b.model.form.name().to_string();
+        let circuits: Vec<CircuitRow<'_>> = match layout {
+            Layout::Single | Layout::Pair => {
+                let circuit = match builts.as_slice() {
+                    [a, b] => Circuit::Pair {
+                        pace: Box::new(a.model.clone()),
+                        width: Box::new(b.model.clone()),
+                    },
+                    [a, ..] => Circuit::Single(Box::new(a.model.clone())),
+                    [] => return Ok(written),
+                };
+                let form = builts.first().map(describe).unwrap_or_default();
+                vec![(String::new(), form, circuit, builts.iter().collect())]
+            }
+            Layout::Dual => builts
+                .iter()
+                .map(|b| {
+                    (
+                        b.label.to_string(),
+                        describe(b),
+                        Circuit::Single(Box::new(b.model.clone())),
+                        vec![b],
+                    )
+                })
+                .collect(),
+        };
+        let target = match (layout, stages.first()) {
+            (Layout::Single, Some(g)) => target_of(g, s.tol),
+            (Layout::Pair, Some(g)) => target_of(g, s.tol),
+            _ => None,
+        };
+        let mut worst = Vec::new();
+        let mut mcs = Vec::new();
+        let mut samples: Vec<Samples> = Vec::new();
+        for (_, _, circuit, _) in &circuits {
+            let analysis = Analysis::new(circuit).context("tolerance analysis")?;
+            worst.push(analysis.worst_case().ok());
+            let (mc, drawn) = analysis
+                .monte_carlo_samples(SAMPLES, SEED, Spread::Uniform, target)
+                .or_else(|_| analysis.monte_carlo_samples(SAMPLES, SEED, Spread::Uniform, None))
+                .context("Monte Carlo")?;
+            mcs.push(mc);
+            samples.push(drawn);
+        }
+        let pictures = Pictures {
+            dir,
+            layout,
+            target,
+            circuits: &circuits,
+            analysed: worst
+                .iter()
+                .zip(&mcs)
+                .map(|(wc, mc)| Analysed {
+                    worst_case: wc.as_ref(),
+                    monte_carlo: Some(mc),
+                })
+                .collect(),
+            samples: &samples,
+        };
+        pictures.write(&mut written.files, &mut written.notes)?;
+        Ok(written)
+    }
+
+    /// When nothing fits: the reach of the stock around the target, as `onhand reach` draws it.
+    fn reach_picture(
+        w: &Wanted<'_>,
+        dir: &std::path::Path,
+        stages: &[StageGoal],
+        s: &Settings,
+        parts: &[Part],
+        written: &mut Written,
+    ) -> Result<()> {
+        let (form, centre) = match stages {
+            [StageGoal::Pulse { width }] => (ReachForm::Pulse, *width),
+            [StageGoal::Astable { period, .. }] => (ReachForm::Astable, 1.0 / period),
+            [StageGoal::Square { period }] => (ReachForm::Square, 1.0 / period),
+            _ => {
+                written.notes.push(
+                    "nothing fits; the reach picture covers one-shot, astable and square-wave                      targets only"
+                        .into(),
+                );
+                return Ok(());
+            }
+        };
+        if matches!(stages, [StageGoal::Astable { duty, .. }] if *duty != crate::solve::Duty::Any) {
+            written
+                .notes
+                .push("the reach picture leaves the duty requirement aside".into());
+        }
+        let req = Request {
+            form,
+            range: (centre / 4.0, centre * 4.0),
+            tol: s.tol,
+            max_pieces: s.max_pieces.min(3),
+            family: s.family.clone(),
+            conditions: s.conditions,
+            cap_techs: s.cap_techs.clone(),
+            min_cap_rating: s.min_cap_rating,
+            max_rows: 25,
+        };
+        let map = reach(parts, &req).context("reach around the target")?;
+        let holes = fixes(parts, &req, &map, w.series, Duration::from_secs(3))
+            .context("purchases for the reach picture")?;
+        let title = super::super::reach::title_of(&map, &req);
+        std::fs::create_dir_all(dir)
+            .with_context(|| format!("creating folder {}", dir.display()))?;
+        let path = dir.join("reach.svg");
+        std::fs::write(&path, super::super::reach::picture(&map, &holes, &title))
+            .with_context(|| format!("writing {}", path.display()))?;
+        written.files.push(FileReport {
+            kind: "reach",
+            path: path.display().to_string(),
+        });
+        Ok(())
+    }
 }
 
 fn goal_of(t: &Target, tol: f64) -> Result<Goal> {
@@ -394,6 +748,8 @@ fn tech_of(name: &str) -> Option<Technology> {
     )
 }
 
+/// The capacitor technologies a search may use: the named ones, all, or (no list) everything but
+/// electrolytics and tantalum for timing.
 pub(crate) fn techs(list: &[String], timing: bool) -> Result<Option<Vec<Technology>>> {
     if list.iter().any(|t| t.eq_ignore_ascii_case("all")) {
         return Ok(None);

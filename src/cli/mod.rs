@@ -11,6 +11,8 @@ mod demo;
 mod find;
 mod holds;
 mod plan;
+mod output;
+mod reach;
 mod series;
 mod stock;
 
@@ -74,6 +76,9 @@ pub enum Command {
     Find(find::FindArgs),
     #[command(flatten)]
     Plan(plan::PlanCommand),
+    /// What the stock can reach: the pulse widths or frequencies its parts give, the holes in a
+    /// range, and the one purchase that closes most of each hole.
+    Reach(reach::ReachArgs),
     /// Preferred values (IEC 60063 E-series): nearest, next above and below, membership.
     Series(series::SeriesArgs),
     /// Print shell completions.
@@ -131,6 +136,7 @@ pub(crate) fn dispatch(cli: Cli, out: &mut dyn Write) -> anyhow::Result<Status> 
         Command::Check(args) => check::run(*args, &ctx, out),
         Command::Find(args) => find::run(args, &ctx, out),
         Command::Plan(cmd) => plan::run(cmd, &ctx, out),
+        Command::Reach(args) => reach::run(args, &ctx, out),
         Command::Series(args) => series::run(args, &ctx, out),
         Command::Completions { shell } => {
             let mut cmd = <Cli as clap::CommandFactory>::command();

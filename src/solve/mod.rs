@@ -2,13 +2,15 @@
 //! (`admit`), the request and answer types (`goal`), a plain brute-force reference (`brute`)
 //! that the property tests and the benchmark compare against, the advice given when nothing
 //! fits (`suggest`), and the integer programs that allocate many units and choose purchases
-//! (`allocate`). Pure: no I/O, no store; the caller hands in a snapshot of parts.
+//! (`allocate`), and what a drawer can reach at all (`reach`). Pure: no I/O, no store; the
+//! caller hands in a snapshot of parts.
 
 pub mod admit;
 pub mod allocate;
 pub mod brute;
 pub mod goal;
 pub mod plan;
+pub mod reach;
 pub mod search;
 pub mod suggest;
 
