@@ -45,6 +45,8 @@ fn the_tour_runs_and_writes_valid_pictures() {
     }
     assert!(svgs >= 6, "only {svgs} pictures");
     assert!(dir.join("order.csv").exists());
+    let reach = std::fs::read_to_string(dir.join("reach.svg")).expect("reach picture");
+    roxmltree::Document::parse(&reach).expect("reach picture is valid SVG");
     // The demo never touches the bench's own database.
     assert!(!b.db().exists());
 }

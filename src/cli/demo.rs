@@ -181,6 +181,11 @@ pub fn run(args: DemoArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status>
         ],
     )?;
     bench.step(
+        "What can this drawer reach?",
+        "Every one-shot width the drawer's parts give (two pieces per position), the holes, and the purchase that closes each:",
+        &["reach", "pulse", "--from", "10us", "--to", "10s", "--svg", &file("reach.svg")],
+    )?;
+    bench.step(
         "What does this board do? Check a design and draw it",
         "A repair tech's question, with worst case, Monte Carlo, checks, pictures and a SPICE netlist:",
         &[
