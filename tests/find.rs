@@ -290,3 +290,25 @@ fn time_limit_is_reported_never_silent() {
     .code(1)
     .stdout_has("Search stopped at the time limit");
 }
+
+#[test]
+fn find_report_snapshot() {
+    // The text report of a ranked search, as a reviewed snapshot: a change of layout is a diff.
+    let (b, s) = drawer();
+    let r = b
+        .run(&[
+            "find",
+            "astable",
+            "1kHz",
+            "--duty",
+            "55..75%",
+            "--tol",
+            "5%",
+            "--alternatives",
+            "2",
+            "--stock",
+            &s,
+        ])
+        .ok();
+    insta::assert_snapshot!("find_astable_text", r.stdout);
+}

@@ -66,7 +66,7 @@ fn plan_counts_units_and_names_what_is_short() {
     b.run(&["plan", &plan])
         .code(1)
         .stdout_has("The stock can build 4 of 5 units")
-        .stdout_has("Short for the other 1 units");
+        .stdout_has("Short for the other 1 unit:");
 }
 
 #[test]
@@ -218,4 +218,12 @@ fn bad_plan_files_are_clear_errors() {
         .code(2)
         .stderr_has("unknown field");
     b.run(&["plan"]).code(2).stderr_has("give a plan file");
+}
+
+#[test]
+fn plan_report_snapshot() {
+    // The text report of a plan (allocation, takes, shortfall), as a reviewed snapshot.
+    let (b, plan) = bench();
+    let r = b.run(&["plan", &plan]).code(1);
+    insta::assert_snapshot!("plan_text", r.stdout);
 }

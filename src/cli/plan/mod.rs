@@ -468,7 +468,12 @@ fn write_plan(
     }
     if !a.short.is_empty() {
         writeln!(out)?;
-        writeln!(out, "Short for the other {} units:", a.wanted - a.built)?;
+        let rest = a.wanted - a.built;
+        writeln!(
+            out,
+            "Short for the other {rest} unit{}:",
+            if rest == 1 { "" } else { "s" }
+        )?;
         let mut last = "";
         for s in &a.short {
             if s.stage != last {
