@@ -477,10 +477,15 @@ fn write_plan(
         let mut last = "";
         for s in &a.short {
             if s.stage != last {
+                let what = if s.units == 1 {
+                    "1 unit".to_string()
+                } else {
+                    format!("{} units", s.units)
+                };
                 writeln!(
                     out,
-                    "  stage {:?}: {} units cannot be built from what is left; its best design lacks",
-                    s.stage, s.units
+                    "  stage {:?}: {what} cannot be built from what is left; its best design lacks",
+                    s.stage
                 )?;
                 last = &s.stage;
             }
