@@ -417,13 +417,15 @@ fn main() {
             .collect();
         if solved.len() < backends().len() {
             println!(
-                "  {} units, {} candidates: reorder answered only by {}",
+                "  {} units, {} candidates: reorder answered by {} of {} backends{}",
                 case.units,
                 case.count,
+                solved.len(),
+                backends().len(),
                 if solved.is_empty() {
-                    "no backend".to_string()
+                    String::new()
                 } else {
-                    solved.join(", ")
+                    format!(" ({})", solved.join(", "))
                 }
             );
         }
