@@ -11,10 +11,15 @@
 //!
 //! Every solve has a time limit, its status is checked, and the answer is re-checked against
 //! every constraint in our own code before it is returned. Pure: no I/O, no store.
+//!
+//! The solver is good_lp's pure-Rust microlp unless the optional cargo feature `highs` is
+//! enabled; then HiGHS (a C++ library built from source, see DEPENDENCIES.md) is the default
+//! [`Backend`] and microlp stays available. The model is the same for both.
 
 use good_lp::{
     Expression, ProblemVariables, ResolutionError, Solution, SolutionStatus, SolverModel, Variable,
-    WithTimeLimit, constraint, microlp, variable,
+    WithTimeLimit, constraint, microlp,
+    variable::{UnsolvedProblem, variable},
 };
 use std::time::Duration;
 
@@ -106,18 +111,83 @@ pub enum AllocateError {
     Recheck(String),
 }
 
+/// Which integer-program solver runs the phases.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default, serde::Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Backend {
+    /// good_lp's pure-Rust microlp (always built; the default without the `highs` feature).
+    #[cfg_attr(not(feature = "highs"), default)]
+    Microlp,
+    /// HiGHS through good_lp (only with the `highs` cargo feature, where it is the default).
+    /// Run with zero MIP gap, so "optimal" means proven optimal as with microlp.
+    #[cfg(feature = "highs")]
+    #[default]
+    Highs,
+}
+
 /// Options of a solve.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Limits {
     /// Time limit per phase.
     pub per_phase: Duration,
+    /// The solver.
+    pub backend: Backend,
 }
 
 impl Default for Limits {
     fn default() -> Self {
         Self {
             per_phase: Duration::from_secs(10),
+            backend: Backend::default(),
         }
+    }
+}
+
+/// A solved phase as plain numbers: the status and the value of each requested variable.
+type Solved = (SolutionStatus, Vec<f64>);
+
+/// Add the constraints to a backend's model, solve it and read the variables in `read`.
+fn run_model<M>(
+    mut model: M,
+    constraints: Vec<good_lp::Constraint>,
+    read: &[Variable],
+) -> Result<Solved, ResolutionError>
+where
+    M: SolverModel<Error = ResolutionError>,
+{
+    for c in constraints {
+        model = model.with(c);
+    }
+    let sol = model.solve()?;
+    Ok((sol.status(), read.iter().map(|v| sol.value(*v)).collect()))
+}
+
+/// Solve `problem` with the chosen backend under the time limit.
+fn run_backend(
+    problem: UnsolvedProblem,
+    constraints: Vec<good_lp::Constraint>,
+    read: &[Variable],
+    limits: Limits,
+) -> Result<Solved, ResolutionError> {
+    let seconds = limits.per_phase.as_secs_f64();
+    match limits.backend {
+        Backend::Microlp => run_model(
+            problem.using(microlp).with_time_limit(seconds),
+            constraints,
+            read,
+        ),
+        #[cfg(feature = "highs")]
+        Backend::Highs => run_model(
+            problem
+                .using(good_lp::highs)
+                .with_time_limit(seconds)
+                // Objectives here are integers (units, pieces, ppm, cents): demand a closed
+                // gap so a phase's optimum can be fixed exactly in the next phase.
+                .set_option("mip_rel_gap", 0.0)
+                .set_option("mip_abs_gap", 0.0),
+            constraints,
+            read,
+        ),
     }
 }
 
@@ -209,14 +279,12 @@ fn solve_phase(
     };
     let u = vars.add(variable().integer().min(0).max(units_cap));
     let obj = objective(&x, &packs, u);
-    let mut problem = if maximise {
+    let problem = if maximise {
         vars.maximise(obj)
     } else {
         vars.minimise(obj)
-    }
-    .using(microlp)
-    .with_time_limit(limits.per_phase.as_secs_f64());
-    let mut n_constraints = 0usize;
+    };
+    let mut rows: Vec<good_lp::Constraint> = Vec::new();
     for s in 0..stages {
         let sum: Expression = candidates
             .iter()
@@ -224,8 +292,7 @@ fn solve_phase(
             .filter(|(c, _)| c.stage == s)
             .map(|(_, v)| Expression::from(*v))
             .sum();
-        problem = problem.with(constraint!(sum == u));
-        n_constraints += 1;
+        rows.push(constraint!(sum == u));
     }
     for (r, res) in resources.iter().enumerate() {
         let mut used = Expression::from(0.0);
@@ -245,13 +312,10 @@ fn solve_phase(
             (true, Some((size, _))) => f64::from(res.available) + f64::from(size) * packs[r],
             _ => Expression::from(f64::from(res.available)),
         };
-        problem = problem.with(constraint!(used <= cap));
-        n_constraints += 1;
+        rows.push(constraint!(used <= cap));
     }
-    for c in fix(&x, &packs, u) {
-        problem = problem.with(c);
-        n_constraints += 1;
-    }
+    rows.extend(fix(&x, &packs, u));
+    let n_constraints = rows.len();
     let vars_count = x.len() + packs.len() + 1;
     if vars_count > size.variables {
         *size = ModelSize {
@@ -259,16 +323,22 @@ fn solve_phase(
             constraints: n_constraints,
         };
     }
-    match problem.solve() {
-        Ok(sol) => Ok(Phase {
-            status: sol.status(),
-            values: x.iter().map(|v| sol.value(*v)).collect(),
-            extra: packs
-                .iter()
-                .map(|v| sol.value(*v))
-                .chain(std::iter::once(sol.value(u)))
-                .collect(),
-        }),
+    // Read order: candidates, then packs, then the unit count.
+    let read: Vec<Variable> = x
+        .iter()
+        .chain(&packs)
+        .copied()
+        .chain(std::iter::once(u))
+        .collect();
+    match run_backend(problem, rows, &read, limits) {
+        Ok((status, mut values)) => {
+            let extra = values.split_off(x.len());
+            Ok(Phase {
+                status,
+                values,
+                extra,
+            })
+        }
         Err(ResolutionError::Infeasible) => Err(AllocateError::Infeasible(
             "the constraints cannot all hold (a stage may have no candidate design)".into(),
         )),
@@ -700,6 +770,57 @@ mod tests {
         let p = purchase(2, 5, &cands, &res, Limits::default()).expect("purchase");
         assert_eq!(p.cost_cents, 100);
         assert_eq!(p.packs, vec![1, 0, 0]);
+    }
+
+    #[test]
+    #[cfg(not(feature = "highs"))]
+    fn microlp_is_the_default_backend() {
+        assert_eq!(Limits::default().backend, Backend::Microlp);
+    }
+
+    // Both backends prove the same optima (the assignments may differ where optima tie).
+    #[cfg(feature = "highs")]
+    proptest! {
+        #![proptest_config(ProptestConfig { cases: 40, ..ProptestConfig::default() })]
+        #[test]
+        fn highs_and_microlp_prove_the_same_optima(
+            stock_counts in proptest::collection::vec(0u32..6, 4),
+            raw in proptest::collection::vec((0usize..2, 0usize..4, 1u32..3, 0usize..4), 2..7),
+            units in 1u32..6,
+            packs in proptest::collection::vec(proptest::option::of((1u32..5, 1u64..500)), 4),
+        ) {
+            let cands: Vec<Candidate> = raw.iter().enumerate().map(|(i, &(stage, r1, per, r2))| {
+                let mut uses = vec![(r1, per)];
+                if r2 != r1 { uses.push((r2, 1)); }
+                cand(stage, &uses, (i as f64) * 1e-3)
+            }).collect();
+            let res: Vec<Resource> = stock_counts
+                .iter()
+                .zip(&packs)
+                .map(|(&available, &pack)| Resource { available, pack })
+                .collect();
+            let with = |backend| Limits { backend, ..Limits::default() };
+            let a = allocate(2, units, &cands, &res, with(Backend::Microlp));
+            let b = allocate(2, units, &cands, &res, with(Backend::Highs));
+            match (a, b) {
+                (Ok(a), Ok(b)) => {
+                    prop_assert_eq!((a.units, a.pieces), (b.units, b.pieces));
+                    let err = |x: &Allocation| -> f64 {
+                        cands.iter().zip(&x.counts).map(|(c, &n)| c.error * f64::from(n)).sum()
+                    };
+                    prop_assert!((err(&a) - err(&b)).abs() < 1e-6);
+                }
+                (Err(AllocateError::Infeasible(_)), Err(AllocateError::Infeasible(_))) => {}
+                (a, b) => prop_assert!(false, "backends differ: {a:?} / {b:?}"),
+            }
+            let a = purchase(2, units, &cands, &res, with(Backend::Microlp));
+            let b = purchase(2, units, &cands, &res, with(Backend::Highs));
+            match (a, b) {
+                (Ok(a), Ok(b)) => prop_assert_eq!(a.cost_cents, b.cost_cents),
+                (Err(AllocateError::Infeasible(_)), Err(AllocateError::Infeasible(_))) => {}
+                (a, b) => prop_assert!(false, "backends differ: {a:?} / {b:?}"),
+            }
+        }
     }
 
     proptest! {
