@@ -18,7 +18,7 @@
 
 use good_lp::{
     Expression, ProblemVariables, ResolutionError, Solution, SolutionStatus, SolverModel, Variable,
-    WithTimeLimit, constraint, microlp,
+    WithInitialSolution, WithTimeLimit, constraint, microlp,
     variable::{UnsolvedProblem, variable},
 };
 use std::time::Duration;
@@ -167,15 +167,20 @@ fn run_backend(
     problem: UnsolvedProblem,
     constraints: Vec<good_lp::Constraint>,
     read: &[Variable],
+    warm: Option<&[f64]>,
     limits: Limits,
 ) -> Result<Solved, ResolutionError> {
     let seconds = limits.per_phase.as_secs_f64();
     match limits.backend {
-        Backend::Microlp => run_model(
-            problem.using(microlp).with_time_limit(seconds),
-            constraints,
-            read,
-        ),
+        Backend::Microlp => {
+            let mut model = problem.using(microlp).with_time_limit(seconds);
+            if let Some(w) = warm {
+                // A known feasible answer gives branch and bound an incumbent from the start, so
+                // a time limit still leaves a feasible (if unproven) answer.
+                model = model.with_initial_solution(read.iter().copied().zip(w.iter().copied()));
+            }
+            run_model(model, constraints, read)
+        }
         #[cfg(feature = "highs")]
         Backend::Highs => run_model(
             problem
@@ -237,6 +242,17 @@ struct Phase {
     extra: Vec<f64>,
 }
 
+impl Phase {
+    /// The answer in the solver's read order, rounded, for the next phase's warm start.
+    fn warm(&self) -> Vec<f64> {
+        self.values
+            .iter()
+            .chain(&self.extra)
+            .map(|v| v.round())
+            .collect()
+    }
+}
+
 /// Build and solve one phase. `objective` is given the candidate variables and the extra
 /// variables; `fix` adds the constraints of earlier phases.
 #[allow(clippy::too_many_arguments)]
@@ -249,6 +265,7 @@ fn solve_phase(
     maximise: bool,
     objective: &ObjectiveFn<'_>,
     fix: &FixFn<'_>,
+    warm: Option<&[f64]>,
     limits: Limits,
     size: &mut ModelSize,
 ) -> Result<Phase, AllocateError> {
@@ -260,15 +277,25 @@ fn solve_phase(
     let packs: Vec<Variable> = if buy {
         resources
             .iter()
-            .map(|r| {
+            .enumerate()
+            .map(|(ri, r)| {
                 let max = r.pack.map_or(0.0, |(size, _)| {
-                    // Never more packs than all units could use.
-                    let need: u64 = candidates
-                        .iter()
-                        .flat_map(|c| c.uses.iter())
-                        .map(|&(_, per)| u64::from(per))
-                        .sum::<u64>()
-                        * u64::from(units_cap);
+                    // Never more packs than all units could use of this resource: each unit
+                    // takes one candidate per stage, so at most the stage-wise largest use of
+                    // this resource, summed over stages, times the units, less what is there.
+                    // A tight bound keeps microlp's branch and bound small.
+                    let mut per_stage_max = vec![0u64; stages];
+                    for c in candidates {
+                        let per: u64 = c
+                            .uses
+                            .iter()
+                            .filter(|u| u.0 == ri)
+                            .map(|u| u64::from(u.1))
+                            .sum();
+                        per_stage_max[c.stage] = per_stage_max[c.stage].max(per);
+                    }
+                    let need = per_stage_max.iter().sum::<u64>() * u64::from(units_cap);
+                    let need = need.saturating_sub(u64::from(r.available));
                     (need as f64 / f64::from(size.max(1))).ceil()
                 });
                 vars.add(variable().integer().min(0).max(max))
@@ -330,7 +357,7 @@ fn solve_phase(
         .copied()
         .chain(std::iter::once(u))
         .collect();
-    match run_backend(problem, rows, &read, limits) {
+    match run_backend(problem, rows, &read, warm, limits) {
         Ok((status, mut values)) => {
             let extra = values.split_off(x.len());
             Ok(Phase {
@@ -379,9 +406,11 @@ pub fn allocate(
         true,
         &|_, _, u| u.into(),
         &none,
+        None,
         limits,
         &mut size,
     )?;
+    let p1_warm = p1.warm();
     let best_units = p1.extra.last().copied().unwrap_or(0.0).round();
     // Phase 2: fewest pieces at that many units.
     let pieces_of = |x: &[Variable]| -> Expression {
@@ -402,9 +431,11 @@ pub fn allocate(
         false,
         &|x, _, _| pieces_of(x),
         &fix_units,
+        Some(&p1_warm),
         limits,
         &mut size,
     )?;
+    let p2_warm = p2.warm();
     let best_pieces: f64 = candidates
         .iter()
         .zip(&p2.values)
@@ -434,6 +465,7 @@ pub fn allocate(
         false,
         &|x, _, _| err_of(x),
         &fix_both,
+        Some(&p2_warm),
         limits,
         &mut size,
     )?;
@@ -506,7 +538,18 @@ pub fn purchase(
             .map(|(r, v)| r.pack.map_or(0.0, |(_, price)| price as f64) * *v)
             .sum()
     };
-    let p1 = solve_phase(
+    // A greedy purchase is always feasible when every stage has a buildable candidate; it is
+    // the incumbent the solver starts from, and the answer if the solver finds nothing better
+    // in time (reported as not proven).
+    let greedy = greedy_purchase(stages, units, candidates, resources);
+    let greedy_warm: Option<Vec<f64>> = greedy.as_ref().map(|(c, p)| {
+        c.iter()
+            .chain(p)
+            .map(|&v| f64::from(v))
+            .chain(std::iter::once(f64::from(units)))
+            .collect()
+    });
+    let p1 = match solve_phase(
         stages,
         units,
         candidates,
@@ -515,9 +558,25 @@ pub fn purchase(
         false,
         &|_, p, _| cost_of(p),
         &all_units,
+        greedy_warm.as_deref(),
         limits,
         &mut size,
-    )?;
+    ) {
+        Ok(p) => p,
+        Err(AllocateError::Solver(_)) if greedy_warm.is_some() => Phase {
+            status: SolutionStatus::TimeLimit,
+            values: greedy_warm
+                .as_deref()
+                .map(|w| w[..candidates.len()].to_vec())
+                .unwrap_or_default(),
+            extra: greedy_warm
+                .as_deref()
+                .map(|w| w[candidates.len()..].to_vec())
+                .unwrap_or_default(),
+        },
+        Err(e) => return Err(e),
+    };
+    let p1_warm = p1.warm();
     let packs1 = to_counts(&p1.extra[..resources.len()]);
     let best_cost: f64 = resources
         .iter()
@@ -538,7 +597,7 @@ pub fn purchase(
             constraint!(cost_of(p) <= best_cost),
         ]
     };
-    let p2 = solve_phase(
+    let p2 = match solve_phase(
         stages,
         units,
         candidates,
@@ -547,9 +606,18 @@ pub fn purchase(
         false,
         &|x, _, _| pieces_of(x),
         &fix,
+        Some(&p1_warm),
         limits,
         &mut size,
-    )?;
+    ) {
+        Ok(p) => p,
+        // Keep the cheapest answer found when the tie-break phase runs out of time.
+        Err(AllocateError::Solver(_)) => Phase {
+            status: SolutionStatus::TimeLimit,
+            ..p1
+        },
+        Err(e) => return Err(e),
+    };
     let counts = to_counts(&p2.values);
     let packs = to_counts(&p2.extra[..resources.len()]);
     let answer = Purchase {
@@ -602,6 +670,57 @@ pub fn recheck_purchase(
         }
     }
     Ok(())
+}
+
+/// A feasible purchase found greedily: unit by unit, stage by stage, the candidate whose extra
+/// packs cost least (then fewest pieces). `None` when some stage has no candidate that stock
+/// and packs together can supply. (counts per candidate, packs per resource.)
+pub fn greedy_purchase(
+    stages: usize,
+    units: u32,
+    candidates: &[Candidate],
+    resources: &[Resource],
+) -> Option<(Vec<u32>, Vec<u32>)> {
+    let mut left: Vec<u64> = resources.iter().map(|r| u64::from(r.available)).collect();
+    let mut packs = vec![0u32; resources.len()];
+    let mut counts = vec![0u32; candidates.len()];
+    for _ in 0..units {
+        for s in 0..stages {
+            let mut best: Option<(u64, u32, usize)> = None;
+            for (i, c) in candidates.iter().enumerate().filter(|(_, c)| c.stage == s) {
+                let mut cost = 0u64;
+                let mut ok = true;
+                for &(r, per) in &c.uses {
+                    let per = u64::from(per);
+                    if left[r] < per {
+                        match resources[r].pack {
+                            Some((size, price)) if size > 0 => {
+                                cost += (per - left[r]).div_ceil(u64::from(size)) * price;
+                            }
+                            _ => ok = false,
+                        }
+                    }
+                }
+                if ok && best.is_none_or(|(bc, bp, _)| (cost, c.pieces) < (bc, bp)) {
+                    best = Some((cost, c.pieces, i));
+                }
+            }
+            let (_, _, i) = best?;
+            for &(r, per) in &candidates[i].uses {
+                let per = u64::from(per);
+                if left[r] < per {
+                    if let Some((size, _)) = resources[r].pack {
+                        let n = (per - left[r]).div_ceil(u64::from(size));
+                        packs[r] += u32::try_from(n).unwrap_or(u32::MAX);
+                        left[r] += n * u64::from(size);
+                    }
+                }
+                left[r] -= per;
+            }
+            counts[i] += 1;
+        }
+    }
+    Some((counts, packs))
 }
 
 /// The obvious one-unit-at-a-time allocation: each unit takes, stage by stage, the best

@@ -277,6 +277,7 @@ fn limits(src: &PlanSource) -> Result<Limits> {
     }
     Ok(Limits {
         per_phase: Duration::from_secs_f64(t.si()),
+        ..Limits::default()
     })
 }
 
