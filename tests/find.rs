@@ -312,3 +312,21 @@ fn find_report_snapshot() {
         .ok();
     insta::assert_snapshot!("find_astable_text", r.stdout);
 }
+
+#[test]
+fn a_frequency_beyond_the_family_is_refused_at_once() {
+    let (b, s) = drawer();
+    // The bipolar family's practical limit is 100 kHz (from memory, see timing::family).
+    let r = b.run(&["find", "astable", "150kHz", "--stock", &s]).code(1);
+    assert!(
+        r.stdout
+            .contains("above the bipolar family's practical limit"),
+        "{}",
+        r.stdout
+    );
+    let j = b
+        .run(&["--json", "find", "square", "150kHz", "--stock", &s])
+        .code(1)
+        .json();
+    assert_eq!(j["found"], false);
+}

@@ -187,6 +187,20 @@ pub fn run(args: FindArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status>
         other => bail!("--buy-series {other:?}: use E12 or E24"),
     };
     let goal = goal_of(&target, tol)?;
+    // A frequency above the family's limit cannot be met by any part: say so at once rather
+    // than let the search refuse every candidate until its time limit.
+    if let Some(reason) = beyond_family(&goal, &family, tol) {
+        if ctx.json {
+            writeln!(
+                out,
+                "{}",
+                serde_json::json!({"found": false, "reason": reason, "designs": []})
+            )?;
+        } else {
+            writeln!(out, "Nothing can meet this target: {reason}.")?;
+        }
+        return Ok(Status::NotMet);
+    }
     let timing = !matches!(goal, Goal::Value { .. });
     let cap_techs = techs(&args.tech, timing)?;
     let settings = Settings {
@@ -574,6 +588,33 @@ mod files {
         });
         Ok(())
     }
+}
+
+/// Why a goal lies beyond what the timer family can do at all, if it does.
+fn beyond_family(goal: &Goal, family: &crate::solve::Family, tol: f64) -> Option<String> {
+    let Goal::Stages(stages) = goal else {
+        return None;
+    };
+    let limit = family.max_freq.value;
+    stages.iter().find_map(|s| {
+        let period = match *s {
+            StageGoal::Astable { period, .. } | StageGoal::Square { period } => period,
+            StageGoal::Steered { high, low } => high + low,
+            StageGoal::Pulse { .. } => return None,
+        };
+        // Even the slow edge of the window is faster than the family allows.
+        let fastest_needed = 1.0 / (period * (1.0 + tol));
+        (fastest_needed > limit).then(|| {
+            format!(
+                "{} is above the {} family's practical limit of {} ({}); try --family cmos, or \
+                 override the figure in `onhand check` with --set max_freq=…",
+                crate::units::format_sig(1.0 / period, 4, "Hz"),
+                family.name,
+                crate::units::format_sig(limit, 3, "Hz"),
+                family.max_freq.provenance.label()
+            )
+        })
+    })
 }
 
 fn goal_of(t: &Target, tol: f64) -> Result<Goal> {
