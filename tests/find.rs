@@ -330,3 +330,15 @@ fn a_frequency_beyond_the_family_is_refused_at_once() {
         .json();
     assert_eq!(j["found"], false);
 }
+
+#[test]
+fn a_classic_astable_below_half_duty_points_to_steering() {
+    let (b, s) = drawer();
+    // DESIGN physics table: duty (R1+R2)/(R1+2R2) is always above 50 % (common practice).
+    b.run(&[
+        "find", "astable", "1kHz", "--duty", "40..45%", "--stock", &s,
+    ])
+    .code(1)
+    .stdout_has("always above 50 %")
+    .stdout_has("find steered");
+}

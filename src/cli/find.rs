@@ -590,11 +590,31 @@ mod files {
     }
 }
 
-/// Why a goal lies beyond what the timer family can do at all, if it does.
+/// Why a goal lies beyond what the circuit form or the timer family can do at all, if it does.
 fn beyond_family(goal: &Goal, family: &crate::solve::Family, tol: f64) -> Option<String> {
     let Goal::Stages(stages) = goal else {
         return None;
     };
+    // The classic astable charges through R1+R2 and discharges through R2 alone, so its high
+    // time is always the longer (DESIGN physics table; common practice).
+    let low_duty = stages.iter().any(|s| match *s {
+        StageGoal::Astable {
+            duty: Duty::Range(_, hi),
+            ..
+        } => hi <= 0.5,
+        StageGoal::Astable {
+            duty: Duty::Point(d),
+            ..
+        } => d * (1.0 + tol) <= 0.5,
+        _ => false,
+    });
+    if low_duty {
+        return Some(
+            "a classic astable's duty is always above 50 % (it charges through R1 + R2 and \
+             discharges through R2 alone); for a lower duty use `onhand find steered --high … --low …`"
+                .to_string(),
+        );
+    }
     let limit = family.max_freq.value;
     stages.iter().find_map(|s| {
         let period = match *s {
