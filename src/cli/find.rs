@@ -189,7 +189,7 @@ pub fn run(args: FindArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status>
     let goal = goal_of(&target, tol)?;
     // A frequency above the family's limit cannot be met by any part: say so at once rather
     // than let the search refuse every candidate until its time limit.
-    if let Some(reason) = beyond_family(&goal, &family, tol) {
+    if let Some(reason) = crate::solve::search::out_of_reach(&goal, &family, tol) {
         if ctx.json {
             writeln!(
                 out,
@@ -588,53 +588,6 @@ mod files {
         });
         Ok(())
     }
-}
-
-/// Why a goal lies beyond what the circuit form or the timer family can do at all, if it does.
-fn beyond_family(goal: &Goal, family: &crate::solve::Family, tol: f64) -> Option<String> {
-    let Goal::Stages(stages) = goal else {
-        return None;
-    };
-    // The classic astable charges through R1+R2 and discharges through R2 alone, so its high
-    // time is always the longer (DESIGN physics table; common practice).
-    let low_duty = stages.iter().any(|s| match *s {
-        StageGoal::Astable {
-            duty: Duty::Range(_, hi),
-            ..
-        } => hi <= 0.5,
-        StageGoal::Astable {
-            duty: Duty::Point(d),
-            ..
-        } => d * (1.0 + tol) <= 0.5,
-        _ => false,
-    });
-    if low_duty {
-        return Some(
-            "a classic astable's duty is always above 50 % (it charges through R1 + R2 and \
-             discharges through R2 alone); for a lower duty use `onhand find steered --high … --low …`"
-                .to_string(),
-        );
-    }
-    let limit = family.max_freq.value;
-    stages.iter().find_map(|s| {
-        let period = match *s {
-            StageGoal::Astable { period, .. } | StageGoal::Square { period } => period,
-            StageGoal::Steered { high, low } => high + low,
-            StageGoal::Pulse { .. } => return None,
-        };
-        // Even the slow edge of the window is faster than the family allows.
-        let fastest_needed = 1.0 / (period * (1.0 + tol));
-        (fastest_needed > limit).then(|| {
-            format!(
-                "{} is above the {} family's practical limit of {} ({}); try --family cmos, or \
-                 override the figure in `onhand check` with --set max_freq=…",
-                crate::units::format_sig(1.0 / period, 4, "Hz"),
-                family.name,
-                crate::units::format_sig(limit, 3, "Hz"),
-                family.max_freq.provenance.label()
-            )
-        })
-    })
 }
 
 fn goal_of(t: &Target, tol: f64) -> Result<Goal> {

@@ -24,10 +24,69 @@ use std::cmp::Ordering;
 use std::collections::BTreeMap;
 use std::time::Instant;
 
+/// Why a goal lies beyond what the circuit form or the timer family can do at all, if it does:
+/// no part could meet it, so the search answers at once instead of refusing every candidate.
+pub fn out_of_reach(goal: &Goal, family: &Family, tol: f64) -> Option<String> {
+    let Goal::Stages(stages) = goal else {
+        return None;
+    };
+    // The classic astable charges through R1+R2 and discharges through R2 alone, so its high
+    // time is always the longer (DESIGN physics table; common practice).
+    let low_duty = stages.iter().any(|s| match *s {
+        StageGoal::Astable {
+            duty: Duty::Range(_, hi),
+            ..
+        } => hi <= 0.5,
+        StageGoal::Astable {
+            duty: Duty::Point(d),
+            ..
+        } => d * (1.0 + tol) <= 0.5,
+        _ => false,
+    });
+    if low_duty {
+        return Some(
+            "a classic astable's duty is always above 50 % (it charges through R1 + R2 and \
+             discharges through R2 alone); for a lower duty use `onhand find steered --high … --low …`"
+                .to_string(),
+        );
+    }
+    let limit = family.max_freq.value;
+    stages.iter().find_map(|s| {
+        let period = match *s {
+            StageGoal::Astable { period, .. } | StageGoal::Square { period } => period,
+            StageGoal::Steered { high, low } => high + low,
+            StageGoal::Pulse { .. } => return None,
+        };
+        // Even the slow edge of the window is faster than the family allows.
+        let fastest_needed = 1.0 / (period * (1.0 + tol));
+        (fastest_needed > limit).then(|| {
+            format!(
+                "{} is above the {} family's practical limit of {} ({}); try --family cmos, or \
+                 override the figure in `onhand check` with --set max_freq=…",
+                crate::units::format_sig(1.0 / period, 4, "Hz"),
+                family.name,
+                crate::units::format_sig(limit, 3, "Hz"),
+                family.max_freq.provenance.label()
+            )
+        })
+    })
+}
+
 /// Search the stock for the best designs meeting `goal`.
 pub fn solve(parts: &[Part], goal: &Goal, settings: &Settings) -> Result<Outcome, SolveError> {
     let started = Instant::now();
     validate(goal, settings)?;
+    if let Some(reason) = out_of_reach(goal, &settings.family, settings.tol) {
+        return Ok(Outcome {
+            designs: Vec::new(),
+            complete: true,
+            // Proven for every piece count: the target itself is out of reach.
+            no_design_below: usize::MAX,
+            networks_seen: 0,
+            refused: vec![(reason, 1)],
+            seconds: started.elapsed().as_secs_f64(),
+        });
+    }
     let ctx = Ctx::new(parts, goal, settings)?;
     let mut st = State {
         top: Vec::new(),
