@@ -194,7 +194,7 @@ pub fn run(args: FindArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status>
             writeln!(
                 out,
                 "{}",
-                serde_json::json!({"found": false, "reason": reason, "designs": []})
+                serde_json::json!({"found": false, "complete": true, "reason": reason, "designs": []})
             )?;
         } else {
             writeln!(out, "Nothing can meet this target: {reason}.")?;
