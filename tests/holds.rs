@@ -5,7 +5,6 @@
 
 use crate::util::{Bench, onhand};
 use serde_json::Value as Json;
-use std::process::Stdio;
 
 /// Everything observable about a store: the export, every hold (closed ones too) and the
 /// ledger length.
@@ -301,38 +300,25 @@ fn two_processes_racing_for_the_last_pieces_get_one_hold() {
     // Each round puts five pieces of a new part on the shelf and starts two processes that
     // both try to hold all five, released together by a barrier file.
     let b = Bench::new();
-    let bin = assert_cmd::cargo::cargo_bin!("onhand");
     for round in 0..20 {
         let value = format!("{}R", 100 + round);
         b.run(&["add", &value, "--qty", "5"]).ok();
         let id = round + 1;
-        let go = b.path(&format!("go-{round}"));
-        let children: Vec<_> = ["alice", "bob"]
+        let runs: Vec<(&str, Vec<String>)> = ["alice", "bob"]
             .into_iter()
             .map(|who| {
-                std::process::Command::new("sh")
-                    .arg("-c")
-                    .arg("while [ ! -e \"$1\" ]; do :; done; shift; exec \"$@\"")
-                    .arg("sh")
-                    .arg(&go)
-                    .arg(bin)
-                    .arg("--db")
-                    .arg(b.db())
-                    .args(["--user", who, "hold", "--plan"])
-                    .arg(format!("{who}-{round}"))
-                    .arg(format!("#{id}=5"))
-                    .env_remove("ONHAND_DB")
-                    .stdout(Stdio::piped())
-                    .stderr(Stdio::piped())
-                    .spawn()
-                    .expect("spawn")
+                (
+                    who,
+                    vec![
+                        "hold".into(),
+                        "--plan".into(),
+                        format!("{who}-{round}"),
+                        format!("#{id}=5"),
+                    ],
+                )
             })
             .collect();
-        std::fs::write(&go, "").expect("barrier");
-        let outs: Vec<_> = children
-            .into_iter()
-            .map(|c| c.wait_with_output().expect("wait"))
-            .collect();
+        let outs = b.race(&format!("go-{round}"), &runs);
         let won: Vec<_> = outs.iter().filter(|o| o.status.success()).collect();
         let lost: Vec<_> = outs.iter().filter(|o| !o.status.success()).collect();
         assert_eq!((won.len(), lost.len()), (1, 1), "round {round}: {outs:?}");

@@ -3,7 +3,6 @@
 //! spreadsheet-safe CSV.
 
 use crate::util::Bench;
-use std::process::Stdio;
 
 /// An invented drawer for a two-stage plan (demo data). One-shot target 109.86 ms from
 /// 100 kΩ · 1 µF (t = ln 3 · R · C, common practice ≈ 1.1·R·C); astable 1 kHz from
@@ -101,7 +100,6 @@ fn two_members_planning_for_the_last_parts_one_wins() {
     // Each round: a fresh store where exactly one unit of the plan can be built; two members
     // run `plan --hold` at the same moment (released by a barrier file). Exactly one gets the
     // parts; the other is refused clearly and nothing is double-counted.
-    let bin = assert_cmd::cargo::cargo_bin!("onhand");
     for round in 0..8 {
         let b = Bench::new();
         let csv = b.write("one.csv", "kind,value,tolerance,technology,volts,bin,quantity\nresistor,100k,1%,metal_film,,A1,1\ncapacitor,1u,5%,film,63,C1,1\n");
@@ -110,32 +108,12 @@ fn two_members_planning_for_the_last_parts_one_wins() {
             "p.toml",
             "name = \"last one\"\n[[stage]]\nform = \"pulse\"\nwidth = \"109.86ms\"\n",
         );
-        let go = b.path("go");
-        let children: Vec<_> = ["ana", "ben"]
+        let plan = plan.to_str().expect("utf-8").to_string();
+        let runs: Vec<(&str, Vec<String>)> = ["ana", "ben"]
             .into_iter()
-            .map(|who| {
-                std::process::Command::new("sh")
-                    .arg("-c")
-                    .arg("while [ ! -e \"$1\" ]; do :; done; shift; exec \"$@\"")
-                    .arg("sh")
-                    .arg(&go)
-                    .arg(bin)
-                    .arg("--db")
-                    .arg(b.db())
-                    .args(["--user", who, "plan", "--hold"])
-                    .arg(&plan)
-                    .env_remove("ONHAND_DB")
-                    .stdout(Stdio::piped())
-                    .stderr(Stdio::piped())
-                    .spawn()
-                    .expect("spawn")
-            })
+            .map(|who| (who, vec!["plan".into(), "--hold".into(), plan.clone()]))
             .collect();
-        std::fs::write(&go, "").expect("barrier");
-        let outs: Vec<_> = children
-            .into_iter()
-            .map(|c| c.wait_with_output().expect("wait"))
-            .collect();
+        let outs = b.race("go", &runs);
         let won = outs.iter().filter(|o| o.status.success()).count();
         assert_eq!(won, 1, "round {round}: {outs:?}");
         // The loser either saw the parts already held (nothing buildable: exit 1) or lost the

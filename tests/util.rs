@@ -144,3 +144,37 @@ pub fn have_tool(program: &str, probe_args: &[&str]) -> bool {
     }
     found
 }
+
+impl Bench {
+    /// Start one `onhand --db <this bench's db> --user USER ARGS…` process per entry, all held
+    /// at a barrier file and released together, and wait for every one. For races between
+    /// members over the same stock.
+    pub fn race(&self, barrier: &str, runs: &[(&str, Vec<String>)]) -> Vec<std::process::Output> {
+        let go = self.path(barrier);
+        let children: Vec<_> = runs
+            .iter()
+            .map(|(who, args)| {
+                std::process::Command::new("sh")
+                    .arg("-c")
+                    .arg("while [ ! -e \"$1\" ]; do :; done; shift; exec \"$@\"")
+                    .arg("sh")
+                    .arg(&go)
+                    .arg(assert_cmd::cargo::cargo_bin!("onhand"))
+                    .arg("--db")
+                    .arg(self.db())
+                    .args(["--user", who])
+                    .args(args)
+                    .env_remove("ONHAND_DB")
+                    .stdout(std::process::Stdio::piped())
+                    .stderr(std::process::Stdio::piped())
+                    .spawn()
+                    .expect("spawn a racer")
+            })
+            .collect();
+        std::fs::write(&go, "").expect("barrier");
+        children
+            .into_iter()
+            .map(|c| c.wait_with_output().expect("wait for a racer"))
+            .collect()
+    }
+}
