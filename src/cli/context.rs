@@ -19,8 +19,30 @@ impl Context {
         let user = user
             .filter(|u| !u.trim().is_empty())
             .or_else(|| std::env::var("USER").ok().filter(|u| !u.is_empty()))
+            .or_else(|| std::env::var("LOGNAME").ok().filter(|u| !u.is_empty()))
             .or_else(|| std::env::var("USERNAME").ok().filter(|u| !u.is_empty()))
+            .or_else(account_name)
             .unwrap_or_else(|| "unknown".to_string());
         Self { db, user, json }
     }
+}
+
+/// The login name of the process's user from the system account list, when the environment
+/// does not say (services and containers often run without `USER`). Linux-style files; `None`
+/// elsewhere.
+fn account_name() -> Option<String> {
+    let status = std::fs::read_to_string("/proc/self/status").ok()?;
+    let uid = status
+        .lines()
+        .find_map(|l| l.strip_prefix("Uid:"))?
+        .split_whitespace()
+        .next()?
+        .to_string();
+    let passwd = std::fs::read_to_string("/etc/passwd").ok()?;
+    passwd.lines().find_map(|l| {
+        let mut f = l.split(':');
+        let name = f.next()?;
+        let _password = f.next()?;
+        (f.next()? == uid && !name.is_empty()).then(|| name.to_string())
+    })
 }

@@ -229,9 +229,10 @@ pub fn print_change(change: &HoldChange, ctx: &Context, out: &mut dyn Write) -> 
     };
     writeln!(
         out,
-        "{verb} plan {:?}: {} pieces in {} hold{}",
+        "{verb} plan {:?}: {} piece{} in {} hold{}",
         change.plan,
         change.pieces(),
+        if change.pieces() == 1 { "" } else { "s" },
         change.lines.len(),
         if change.lines.len() == 1 { "" } else { "s" }
     )?;
