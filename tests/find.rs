@@ -342,3 +342,12 @@ fn a_classic_astable_below_half_duty_points_to_steering() {
     .stdout_has("always above 50 %")
     .stdout_has("find steered");
 }
+
+#[test]
+fn a_long_one_shot_says_the_electrolytics_were_left_out() {
+    let (b, s) = drawer();
+    // 100 kΩ · 10 µF · ln 3 = 1.0986 s needs the electrolytic, which timing searches leave out.
+    b.run(&["find", "pulse", "1.0986s", "--pieces", "1", "--stock", &s])
+        .code(1)
+        .stdout_has("electrolytic capacitors were left out");
+}

@@ -233,6 +233,22 @@ pub fn text(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
                 why.join(", ")
             )?;
         }
+        // Electrolytics left out of a timing search by default may be what a long time needs.
+        let left_out = v.settings.cap_techs.as_ref().is_some_and(|allowed| {
+            v.parts.iter().any(|p| {
+                p.kind == Kind::Capacitor
+                    && p.available() > 0
+                    && p.technology.is_electrolytic()
+                    && !allowed.contains(&p.technology)
+            })
+        });
+        if left_out && matches!(v.goal, Goal::Stages(_)) {
+            writeln!(
+                out,
+                "The stock's electrolytic capacitors were left out (leaky, wide tolerance); allow them \
+                 with --tech film,c0g,x7r,electrolytic if the timing can live with it."
+            )?;
+        }
         if let Some(a) = v.advice {
             match &a.closest {
                 Some(d) => {
@@ -306,7 +322,7 @@ fn bought_row(p: &crate::solve::suggest::Purchase) -> Part {
         voltage_rating: None,
         power_rating: None,
         package: String::new(),
-        bin: "to buy".into(),
+        bin: "(to buy)".into(),
         quantity: 0,
         held: 0,
         low_stock: None,
@@ -383,7 +399,7 @@ pub(crate) fn jdesign<'a>(parts: &'a [Part], rank: usize, d: &'a Design) -> JDes
                         },
                         None => JPiece {
                             part_id: -1,
-                            bin: "to buy",
+                            bin: "(to buy)",
                             value: f64::NAN,
                             tolerance: f64::NAN,
                         },

@@ -1049,7 +1049,7 @@ pub fn bought(kind: Kind, value: f64, min_cap_rating: Option<f64>) -> Part {
             .flatten(),
         power_rating: None,
         package: String::new(),
-        bin: "to buy".into(),
+        bin: "(to buy)".into(),
         quantity: 4,
         held: 0,
         low_stock: None,

@@ -202,7 +202,7 @@ fn bought(kind: Kind, v: f64, s: &Settings) -> Part {
             .flatten(),
         power_rating: None,
         package: String::new(),
-        bin: "to buy".into(),
+        bin: "(to buy)".into(),
         quantity: 4,
         held: 0,
         low_stock: None,

@@ -521,7 +521,7 @@ impl StageCount for PlanStage {
     }
 }
 
-/// The price list's offers as extra part rows (ids below zero, bin "to buy") with their packs.
+/// The price list's offers as extra part rows (ids below zero, bin "new (to buy)") with their packs.
 fn offers_as_parts(
     offers: &[prices::Offer],
     first_row: usize,
