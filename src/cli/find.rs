@@ -67,7 +67,8 @@ struct FindOptions {
     /// Also use stock that is held by reservations (by default only unreserved stock is used).
     #[arg(long, global = true)]
     include_held: bool,
-    /// Stop the search after this long and report the best found with what was proven.
+    /// Stop the search after this long and report the best found with what was proven. When
+    /// nothing fits, the closest design and purchase advice share the same budget (at least 1 s).
     #[arg(long, global = true, default_value = "10s", value_name = "TIME")]
     time_limit: String,
     /// Forward drop of the steering diodes (steered form); 0 is the ideal model.
@@ -223,7 +224,16 @@ pub fn run(args: FindArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status>
     }
     let outcome = solve(&parts, &goal, &settings).context("search")?;
     let advice = if outcome.designs.is_empty() {
-        Some(advise(&parts, &goal, &settings, series).context("advice")?)
+        // The advice shares the command's time budget: what the search left, at least a second.
+        let spent = Duration::from_secs_f64(outcome.seconds);
+        let rest = settings
+            .time_limit
+            .map(|t| t.saturating_sub(spent).max(Duration::from_secs(1)));
+        let advice_settings = Settings {
+            time_limit: rest,
+            ..settings.clone()
+        };
+        Some(advise(&parts, &goal, &advice_settings, series).context("advice")?)
     } else {
         None
     };
