@@ -492,27 +492,45 @@ pub fn recheck_allocation(
     resources: &[Resource],
     a: &Allocation,
 ) -> Result<(), AllocateError> {
-    for (s, n) in per_stage(stages, candidates, &a.counts)
+    recheck(stages, a.units, candidates, resources, &a.counts, None)
+}
+
+/// Every stage has exactly `units` units, and no resource is used more than it has (plus the
+/// packs bought, when there are any).
+fn recheck(
+    stages: usize,
+    units: u32,
+    candidates: &[Candidate],
+    resources: &[Resource],
+    counts: &[u32],
+    packs: Option<&[u32]>,
+) -> Result<(), AllocateError> {
+    for (s, n) in per_stage(stages, candidates, counts)
         .into_iter()
         .enumerate()
     {
-        if n != u64::from(a.units) {
+        if n != u64::from(units) {
             return Err(AllocateError::Recheck(format!(
-                "stage {} has {n} units, expected {}",
-                s + 1,
-                a.units
+                "stage {} has {n} units, expected {units}",
+                s + 1
             )));
         }
     }
-    for (r, (used, res)) in usage(candidates, &a.counts, resources.len())
+    for (r, (used, res)) in usage(candidates, counts, resources.len())
         .into_iter()
         .zip(resources)
         .enumerate()
     {
-        if used > u64::from(res.available) {
+        let bought = match (packs, res.pack) {
+            (Some(p), Some((size, _))) => {
+                u64::from(size) * u64::from(p.get(r).copied().unwrap_or(0))
+            }
+            _ => 0,
+        };
+        let there = u64::from(res.available) + bought;
+        if used > there {
             return Err(AllocateError::Recheck(format!(
-                "resource {r} used {used} times, only {} there",
-                res.available
+                "resource {r} used {used} times, only {there} there"
             )));
         }
     }
@@ -643,33 +661,14 @@ pub fn recheck_purchase(
     resources: &[Resource],
     p: &Purchase,
 ) -> Result<(), AllocateError> {
-    for (s, n) in per_stage(stages, candidates, &p.counts)
-        .into_iter()
-        .enumerate()
-    {
-        if n != u64::from(units) {
-            return Err(AllocateError::Recheck(format!(
-                "stage {} has {n} units, expected {units}",
-                s + 1
-            )));
-        }
-    }
-    for (r, (used, res)) in usage(candidates, &p.counts, resources.len())
-        .into_iter()
-        .zip(resources)
-        .enumerate()
-    {
-        let bought = res
-            .pack
-            .map_or(0, |(size, _)| u64::from(size) * u64::from(p.packs[r]));
-        if used > u64::from(res.available) + bought {
-            return Err(AllocateError::Recheck(format!(
-                "resource {r} used {used} times, only {} there",
-                u64::from(res.available) + bought
-            )));
-        }
-    }
-    Ok(())
+    recheck(
+        stages,
+        units,
+        candidates,
+        resources,
+        &p.counts,
+        Some(&p.packs),
+    )
 }
 
 /// A feasible purchase found greedily: unit by unit, stage by stage, the candidate whose extra
