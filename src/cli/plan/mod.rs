@@ -22,7 +22,7 @@ use anyhow::{Context as _, Result, anyhow, bail};
 use file::{PlanSpec, StageSpec, TargetSpec};
 use serde::Serialize;
 use std::io::Write;
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 use std::time::Duration;
 
 /// The invented sample price list, used when no `--prices` file is given.
@@ -557,6 +557,23 @@ fn offers_as_parts(
     (parts, buy)
 }
 
+/// Write a CSV list for a spreadsheet, neutralising every cell a spreadsheet would run as a
+/// formula (see `store::neutralise_cell`).
+fn write_safe_csv(
+    path: &Path,
+    header: &[&str],
+    rows: impl Iterator<Item = Vec<String>>,
+) -> Result<()> {
+    let mut w =
+        csv::Writer::from_path(path).with_context(|| format!("writing {}", path.display()))?;
+    w.write_record(header)?;
+    for cells in rows {
+        w.write_record(cells.iter().map(|c| crate::store::neutralise_cell(c)))?;
+    }
+    w.flush()?;
+    Ok(())
+}
+
 fn money(cents: u64) -> String {
     format!("{}.{:02}", cents / 100, cents % 100)
 }
@@ -643,23 +660,8 @@ fn run_reorder(args: ReorderArgs, ctx: &Context, out: &mut dyn Write) -> Result<
         })
         .collect();
     if let Some(path) = &args.csv {
-        let mut w =
-            csv::Writer::from_path(path).with_context(|| format!("writing {}", path.display()))?;
-        w.write_record([
-            "kind",
-            "value",
-            "tolerance",
-            "technology",
-            "series",
-            "packs",
-            "pack_size",
-            "pieces_needed",
-            "price_per_pack",
-            "cost",
-            "serves",
-        ])?;
-        for l in &lines {
-            let cells = [
+        let rows = lines.iter().map(|l| {
+            vec![
                 l.kind.to_string(),
                 l.value.clone(),
                 l.tolerance.clone(),
@@ -671,10 +673,25 @@ fn run_reorder(args: ReorderArgs, ctx: &Context, out: &mut dyn Write) -> Result<
                 l.price_per_pack.clone(),
                 l.cost.clone(),
                 l.serves.clone(),
-            ];
-            w.write_record(cells.iter().map(|c| crate::store::neutralise_cell(c)))?;
-        }
-        w.flush()?;
+            ]
+        });
+        write_safe_csv(
+            path,
+            &[
+                "kind",
+                "value",
+                "tolerance",
+                "technology",
+                "series",
+                "packs",
+                "pack_size",
+                "pieces_needed",
+                "price_per_pack",
+                "cost",
+                "serves",
+            ],
+            rows,
+        )?;
     }
     if ctx.json {
         let j = serde_json::json!({
@@ -816,23 +833,8 @@ fn low_list(args: &ReorderArgs, ctx: &Context, out: &mut dyn Write) -> Result<St
             .map_or(0, |l| (2 * l.max(1) - p.quantity).max(1))
     };
     if let Some(path) = &args.csv {
-        let mut w =
-            csv::Writer::from_path(path).with_context(|| format!("writing {}", path.display()))?;
-        w.write_record([
-            "id",
-            "kind",
-            "value",
-            "tolerance",
-            "technology",
-            "bin",
-            "quantity",
-            "held",
-            "low",
-            "suggest",
-            "note",
-        ])?;
-        for p in &low {
-            let cells = [
+        let rows = low.iter().map(|p| {
+            vec![
                 p.id.to_string(),
                 p.kind.as_str().to_string(),
                 value_text(p.value),
@@ -844,10 +846,25 @@ fn low_list(args: &ReorderArgs, ctx: &Context, out: &mut dyn Write) -> Result<St
                 p.low_stock.map(|l| l.to_string()).unwrap_or_default(),
                 suggest(p).to_string(),
                 p.note.clone(),
-            ];
-            w.write_record(cells.iter().map(|c| crate::store::neutralise_cell(c)))?;
-        }
-        w.flush()?;
+            ]
+        });
+        write_safe_csv(
+            path,
+            &[
+                "id",
+                "kind",
+                "value",
+                "tolerance",
+                "technology",
+                "bin",
+                "quantity",
+                "held",
+                "low",
+                "suggest",
+                "note",
+            ],
+            rows,
+        )?;
     }
     if ctx.json {
         let j: Vec<serde_json::Value> = low
