@@ -4,6 +4,7 @@
 //! stock) → `solve` / `timing` (pure computation) → `report` (renderers) → output.
 
 pub mod cli;
+pub mod model;
 pub mod network;
 pub mod report;
 pub mod solve;

@@ -11,9 +11,21 @@ pub struct Context {
     pub user: String,
     /// JSON output instead of tables.
     pub json: bool,
+    /// Replace output files that already exist.
+    pub force: bool,
 }
 
 impl Context {
+    /// The one writer every output file goes through: it never writes onto the stock database
+    /// (given by `--db` or the default location), never replaces a file without `--force`.
+    pub fn files(&self) -> super::FileWriter {
+        let db = self
+            .db
+            .clone()
+            .or_else(|| crate::store::Store::default_path().ok());
+        super::FileWriter::new(db.as_deref(), self.force)
+    }
+
     /// Resolve the user from `--user`, else the OS user, else "unknown".
     pub fn new(db: Option<PathBuf>, user: Option<String>, json: bool) -> Self {
         let user = user
@@ -23,7 +35,12 @@ impl Context {
             .or_else(|| std::env::var("USERNAME").ok().filter(|u| !u.is_empty()))
             .or_else(account_name)
             .unwrap_or_else(|| "unknown".to_string());
-        Self { db, user, json }
+        Self {
+            db,
+            user,
+            json,
+            force: false,
+        }
     }
 }
 

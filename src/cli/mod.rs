@@ -13,6 +13,7 @@ mod holds;
 mod output;
 mod plan;
 mod reach;
+mod safe_write;
 mod series;
 mod stock;
 
@@ -21,6 +22,7 @@ use std::ffi::OsString;
 use std::io::Write;
 
 pub use context::Context;
+pub use safe_write::FileWriter;
 
 /// How a command ended, when it did not fail outright.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -45,6 +47,9 @@ pub struct Cli {
     /// Machine-readable JSON on stdout instead of tables.
     #[arg(long, global = true)]
     pub json: bool,
+    /// Replace output files that already exist (exports, lists, pictures, netlists).
+    #[arg(long, global = true)]
+    pub force: bool,
     #[command(subcommand)]
     pub command: Command,
 }
@@ -128,7 +133,8 @@ fn is_broken_pipe(e: &anyhow::Error) -> bool {
 }
 
 pub(crate) fn dispatch(cli: Cli, out: &mut dyn Write) -> anyhow::Result<Status> {
-    let ctx = Context::new(cli.db, cli.user, cli.json);
+    let mut ctx = Context::new(cli.db, cli.user, cli.json);
+    ctx.force = cli.force;
     match cli.command {
         Command::Demo(args) => demo::run(args, &ctx, out),
         Command::Stock(cmd) => stock::run(cmd, &ctx, out),

@@ -1,9 +1,9 @@
 //! Rendering of `find` results: a plain ranked text listing and JSON with the same content.
 //! Pure: takes the outcome and writes to the given writer.
 
+use crate::model::{Kind, Part, Value};
 use crate::solve::suggest::Advice;
 use crate::solve::{Design, Duty, Goal, Outcome, Quantity, Settings, StageGoal};
-use crate::store::{Kind, Part, Value};
 use crate::units::format_sig;
 use serde::Serialize;
 use std::io::{self, Write};
@@ -318,7 +318,7 @@ fn bought_row(p: &crate::solve::suggest::Purchase) -> Part {
             minus: crate::units::Ratio::ZERO,
             plus: crate::units::Ratio::ZERO,
         }),
-        technology: crate::store::Technology::Other,
+        technology: crate::model::Technology::Other,
         voltage_rating: None,
         power_rating: None,
         package: String::new(),

@@ -6,8 +6,8 @@
 
 use super::admit::{self, CapFacts, Stage};
 use super::goal::{Duty, Goal, Settings, StageGoal};
+use crate::model::{Kind, Part, Technology, Value};
 use crate::network::{Combine, Net};
-use crate::store::{Kind, Part, Technology, Value};
 use crate::timing::Conditions;
 use crate::units::{Farads, Ohms, Volts};
 

@@ -16,8 +16,8 @@
 //! meets the target).
 
 use super::admit::{Family, Finding, Form};
+use crate::model::Kind;
 use crate::network::Net;
-use crate::store::Kind;
 use crate::timing::Conditions;
 use serde::Serialize;
 use std::time::Duration;
@@ -127,7 +127,7 @@ pub struct Settings {
     /// Supply and refinements (the square form adds the family's output drop itself).
     pub conditions: Conditions,
     /// Capacitor technologies allowed (None: all).
-    pub cap_techs: Option<Vec<crate::store::Technology>>,
+    pub cap_techs: Option<Vec<crate::model::Technology>>,
     /// Lowest acceptable capacitor voltage rating, volts; rows with a lower known rating are
     /// left out, rows with no rating are allowed (and warned about).
     pub min_cap_rating: Option<f64>,

@@ -8,7 +8,7 @@
 
 use super::allocate::{self, AllocateError, Candidate, Limits, ModelSize, Proof, Resource};
 use super::{Design, Goal, Settings, SolveError, solve};
-use crate::store::Part;
+use crate::model::Part;
 use std::collections::BTreeSet;
 
 /// One stage of a plan, ready for the search.

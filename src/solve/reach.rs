@@ -34,8 +34,8 @@
 //! Pure: no I/O, no store.
 
 use super::admit::{self, CapFacts, Family, Form, Stage};
+use crate::model::{Kind, Part, Technology, Value};
 use crate::network::{Cand, Combine, Item, Pool, Step};
-use crate::store::{Kind, Part, Technology, Value};
 use crate::timing::{Conditions, FormError, Limits, Steering};
 use crate::units::eseries::{Series, values_between};
 use crate::units::{Farads, Ohms, Ratio, Tolerance, Volts, format_sig};

@@ -16,8 +16,8 @@ use super::goal::{
     Design, Duty, Goal, Outcome, Position, Quantity, Rank, Settings, SolveError, StageGoal,
     StageReport,
 };
+use crate::model::{Kind, Part, Technology, Value};
 use crate::network::{Cand, Combine, Item, Pool, Step};
-use crate::store::{Kind, Part, Technology, Value};
 use crate::timing::{Conditions, Factors};
 use crate::units::{Farads, Ohms, Volts};
 use std::cmp::Ordering;

@@ -10,8 +10,8 @@
 
 use super::goal::{Design, Goal, Rank, Settings, SolveError, StageGoal};
 use super::search::{solve, stage_factors};
+use crate::model::{Kind, Part, Technology, Value};
 use crate::network::Op;
-use crate::store::{Kind, Part, Technology, Value};
 use crate::units::eseries::Series;
 use crate::units::{Farads, Ohms, Tolerance, Volts};
 use serde::Serialize;

@@ -13,10 +13,10 @@ mod exchange;
 pub mod holds;
 mod import;
 mod migrate;
-pub mod part;
+pub use crate::model::part;
 mod query;
 pub mod spec;
-pub mod text;
+pub use crate::model::text;
 
 pub use change::{Change, LedgerEntry};
 pub use error::{RowError, Shortfall, StoreError};

@@ -34,7 +34,7 @@
 
 use super::design::{Form, Stage, Steering};
 use super::family::Family;
-use crate::store::Technology;
+use crate::model::Technology;
 use crate::units::{Amps, Engineering, Farads, Seconds, Volts, Watts, format_sig};
 use serde::Serialize;
 

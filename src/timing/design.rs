@@ -20,7 +20,7 @@
 //! [`Stage`]s; their joint checks live in `checks.rs`. Pure; no I/O.
 
 use super::forms::{Conditions, Factors, FormError};
-use crate::store::Technology;
+use crate::model::Technology;
 use crate::units::{Farads, Hertz, Ohms, Ratio, Seconds, Tolerance, Volts};
 use serde::Serialize;
 

@@ -5,6 +5,7 @@
 
 pub mod checks;
 pub mod design;
+pub mod evaluate;
 pub mod family;
 pub mod forms;
 pub mod tolerance;
@@ -14,6 +15,7 @@ pub use checks::{
     check_stage_with, has_error,
 };
 pub use design::{CapFacts, Form, Stage, StageTimes, Steering, cycle_si};
+pub use evaluate::{Banded, DiodeModel, Effect, Evaluation, Model, evaluate, factor_bounds};
 pub use family::{Family, FamilyError, Figure, Provenance, family_by_name};
 pub use forms::{Conditions, Cycle, Factors, FormError, astable, monostable, square, steered};
 pub use tolerance::{

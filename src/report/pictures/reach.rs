@@ -4,9 +4,9 @@
 //! ranges nothing in the drawer can serve — in red, and under the frame the purchase suggested
 //! for each hole. Pure: builds a `String`.
 
+use crate::model::Kind;
 use crate::report::svg::{Anchor, Frame, Svg, text_width};
 use crate::solve::reach::{Hole, NARROW_SHARE, ReachMap, bridge, gaps, merge};
-use crate::store::Kind;
 use crate::units::{Engineering, format_sig};
 
 /// The data of a reach picture.

@@ -1,0 +1,9 @@
+//! The domain types every layer shares: a stocked part (kind, technology, value, tolerance,
+//! ratings) and the exact text forms of its values. Pure data on top of `units`; depends on
+//! nothing else in the crate. `store` persists these types, `timing` and `solve` compute with
+//! them, `report` renders them — none of those layers owns them.
+
+pub mod part;
+pub mod text;
+
+pub use part::{Kind, Part, Technology, UnknownName, Value};
