@@ -166,3 +166,54 @@ print(json.dumps(out))";
     }
     assert_eq!(compared, values.len() * SERIES.len() * 2);
 }
+
+#[test]
+fn eia96_marking_table_matches_e96_and_the_published_letters() {
+    // Sources: the E96 values of IEC 60063 through PyPI eseries 1.2.x (eseries.series(E96); the
+    // n-th value is code n), and the EIA-96 multiplier letters as published in Digi-Key's "SMD
+    // resistor code" conversion page and Wilderness Labs' "Reading resistors" reference page:
+    // Z 0.001, Y or R 0.01, X or S 0.1, A 1, B or H 10, C 100, D 1000, E 10^4, F 10^5.
+    let letters: [(char, i32); 12] = [
+        ('Z', -3),
+        ('Y', -2),
+        ('R', -2),
+        ('X', -1),
+        ('S', -1),
+        ('A', 0),
+        ('B', 1),
+        ('H', 1),
+        ('C', 2),
+        ('D', 3),
+        ('E', 4),
+        ('F', 5),
+    ];
+    let script = "
+import json, eseries
+print(json.dumps([int(x) for x in eseries.series(eseries.E96)]))";
+    let Some(reference) = eseries(script, &[]) else {
+        return;
+    };
+    let e96: Vec<i64> = reference
+        .as_array()
+        .expect("list")
+        .iter()
+        .map(|v| v.as_i64().expect("int"))
+        .collect();
+    assert_eq!(e96.len(), 96);
+    let mut compared = 0;
+    for (i, base) in e96.iter().enumerate() {
+        for (letter, exp) in letters {
+            let code = format!("{:02}{letter}", i + 1);
+            let m = onhand::units::parse_resistor_marking(&code)
+                .unwrap_or_else(|e| panic!("{code}: {e}"));
+            // base × 10^exp ohms, in milliohms: base × 10^(exp + 3); exp + 3 ≥ 0.
+            let want = base * 10i64.pow((exp + 3).unsigned_abs());
+            assert_eq!(m.value.base(), want, "{code}");
+            compared += 1;
+        }
+    }
+    assert_eq!(compared, 96 * 12);
+    // Outside the table: code 97 and a letter that is not a multiplier.
+    assert!(onhand::units::parse_resistor_marking("97A").is_err());
+    assert!(onhand::units::parse_resistor_marking("01G").is_err());
+}

@@ -3,6 +3,7 @@
 mod util;
 
 mod check;
+mod cli;
 mod demo;
 mod external_eseries;
 mod external_ngspice;

@@ -267,7 +267,7 @@ fn list_filters() {
     b.run(&["list", "--low"])
         .ok()
         .stdout_has("5 LOW")
-        .stdout_has("1 rows, 3 pieces");
+        .stdout_has("1 row, 3 pieces");
     b.run(&["list", "--bin", "nowhere"])
         .ok()
         .stdout_has("no parts match");

@@ -13,6 +13,8 @@ pub struct Context {
     pub json: bool,
     /// Replace output files that already exist.
     pub force: bool,
+    /// How to draw tables and findings on stdout (boxes and colour on a terminal only).
+    pub style: crate::report::style::Style,
 }
 
 impl Context {
@@ -40,6 +42,7 @@ impl Context {
             user,
             json,
             force: false,
+            style: crate::report::style::Style::PLAIN,
         }
     }
 }

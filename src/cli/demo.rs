@@ -33,6 +33,8 @@ struct Tour<'a> {
     db: PathBuf,
     user: String,
     step: usize,
+    /// How the steps draw their tables (as the tour's own output).
+    style: crate::report::style::Style,
     /// (real path, what to show instead) — the sample files live in a temporary folder.
     shown_as: Vec<(String, String)>,
 }
@@ -70,7 +72,7 @@ impl Tour<'_> {
         argv.extend(args.iter().map(|a| (*a).to_string()));
         let cli = Cli::try_parse_from(&argv)
             .with_context(|| format!("demo step {}: {}", self.step, args.join(" ")))?;
-        dispatch(cli, self.out)
+        dispatch(cli, self.style, self.out)
     }
 }
 
@@ -134,6 +136,7 @@ pub fn run(args: DemoArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status>
         db: tmp.0.join("bench.db"),
         user: ctx.user.clone(),
         step: 0,
+        style: ctx.style,
         shown_as: shown_as.clone(),
     };
     bench.step(
@@ -254,6 +257,7 @@ pub fn run(args: DemoArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status>
         db: tmp.0.join("cabinet.db"),
         user: ctx.user.clone(),
         step: bench.step,
+        style: ctx.style,
         shown_as,
     };
     shop.step(

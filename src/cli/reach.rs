@@ -16,7 +16,9 @@ use crate::solve::reach::{
 use crate::store::Kind;
 use crate::timing::Conditions;
 use crate::units::eseries::Series;
-use crate::units::{format_sig, parse_frequency, parse_time, parse_tolerance, parse_voltage};
+use crate::units::{
+    format_sig, parse_frequency_strict, parse_time_strict, parse_tolerance, parse_voltage,
+};
 use anyhow::{Context as _, Result, anyhow, bail};
 use serde::Serialize;
 use std::io::Write;
@@ -102,19 +104,17 @@ pub struct ReachArgs {
 fn axis_value(form: ReachForm, text: &str) -> Result<f64> {
     let t = text.trim();
     if form == ReachForm::Pulse {
-        return Ok(parse_time(t)
-            .with_context(|| format!("{t:?}: give a time such as 10ms"))?
-            .si());
+        return Ok(parse_time_strict(t)?.si());
     }
     let is_time = t.ends_with('s') && !t.to_ascii_lowercase().ends_with("hz");
     let v = if is_time {
-        let s = parse_time(t)?.si();
+        let s = parse_time_strict(t)?.si();
         if s <= 0.0 {
             bail!("{t:?}: a period must be above zero");
         }
         1.0 / s
     } else {
-        parse_frequency(t)
+        parse_frequency_strict(t)
             .with_context(|| {
                 format!("{t:?}: give a frequency such as 1kHz (or a period such as 1ms)")
             })?
@@ -164,13 +164,14 @@ pub(super) fn request_of(args: &ReachArgs) -> Result<Request> {
     })
 }
 
-/// The preferred-value series named by `--buy-series`.
+/// The preferred-value series named by `--buy-series` (the one series parser,
+/// `units::Series::from_str`; the purchase advice is built for E12 and E24).
 pub(super) fn buy_series(text: &str) -> Result<Series> {
-    Ok(match text.to_ascii_uppercase().as_str() {
-        "E12" => Series::E12,
-        "E24" => Series::E24,
-        other => bail!("--buy-series {other:?}: use E12 or E24"),
-    })
+    let s: Series = text.parse().context("--buy-series")?;
+    if !matches!(s, Series::E12 | Series::E24) {
+        bail!("--buy-series {s}: use E12 or E24");
+    }
+    Ok(s)
 }
 
 /// The reach picture of `map`, with the purchases for its holes.

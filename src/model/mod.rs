@@ -3,7 +3,11 @@
 //! nothing else in the crate. `store` persists these types, `timing` and `solve` compute with
 //! them, `report` renders them — none of those layers owns them.
 
+pub mod duty;
 pub mod part;
+pub mod read;
 pub mod text;
 
+pub use duty::{DutyError, DutyWindow, parse_duty};
 pub use part::{Kind, Part, Technology, UnknownName, Value};
+pub use read::{DiodeFamily, DiodeType, diode_type, infer_kind, marked_resistor};

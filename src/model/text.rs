@@ -105,27 +105,10 @@ pub fn parse_tolerance(text: &str) -> Result<Tolerance, ParseError> {
     }
 }
 
-/// Guess the kind from how a value is written: a farad unit, or a `p`/`n`/`u`/`µ` multiplier
-/// (`100n`, `4u7`, `2.2 µF`), means a capacitor; anything else (`4k7`, `470`, `1M`,
-/// `yellow-violet-red-gold`) a resistor. `--kind` overrides.
+/// Guess the kind from how a value is written (one rule for every command; see
+/// [`super::read::infer_kind`]).
 pub fn infer_kind(text: &str) -> Kind {
-    let t = text.trim();
-    if t.ends_with('F') || t.ends_with('f') {
-        return Kind::Capacitor;
-    }
-    // A word of three or more letters (ohm, colour names) is never a capacitor multiplier.
-    let mut run = 0;
-    for c in t.chars() {
-        run = if c.is_alphabetic() { run + 1 } else { 0 };
-        if run >= 3 {
-            return Kind::Resistor;
-        }
-    }
-    if t.chars().any(|c| matches!(c, 'p' | 'n' | 'u' | 'µ' | 'μ')) {
-        Kind::Capacitor
-    } else {
-        Kind::Resistor
-    }
+    super::read::infer_kind(text)
 }
 
 #[cfg(test)]

@@ -5,4 +5,6 @@ pub mod find;
 pub mod netlist;
 pub mod pictures;
 pub mod schematic;
+pub mod style;
 pub mod svg;
+pub mod table;

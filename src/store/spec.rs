@@ -158,18 +158,9 @@ pub fn default_capacitor_technology(c: Farads) -> Technology {
 /// The tolerance written into a value's own marking, if any.
 fn marked_tolerance(kind: Kind, value_text: &str) -> Option<Tolerance> {
     match kind {
+        // Colour bands carry their tolerance band; a chip marking implies its usual tolerance.
         Kind::Resistor | Kind::Trimmer => {
-            // Only a colour code (several colour words) carries a tolerance in a resistor value.
-            let letters = value_text
-                .chars()
-                .filter(|c| c.is_ascii_alphabetic())
-                .count();
-            if letters <= 6 {
-                return None;
-            }
-            units::parse_colour_bands(value_text)
-                .ok()
-                .and_then(|(_, t)| t)
+            crate::model::marked_resistor(value_text).map(|m| m.tolerance)
         }
         Kind::Capacitor => units::parse_capacitor_marking(value_text)
             .ok()
@@ -293,7 +284,9 @@ impl PartText {
                 }
             },
             None => match (kind, value) {
-                (Kind::Resistor, _) => Technology::MetalFilm,
+                // A colour-banded or chip-marked part says what it is made of.
+                (Kind::Resistor, _) => crate::model::marked_resistor(value_text)
+                    .map_or(Technology::MetalFilm, |m| m.technology),
                 (Kind::Capacitor, Value::Capacitance(c)) => default_capacitor_technology(c),
                 _ => Technology::Other,
             },

@@ -11,9 +11,9 @@
 //! what is typed is what is stored. Every failure is a [`ParseError`] naming the text and what
 //! was expected; nothing here panics on any input. No I/O.
 
-use super::colour;
 use super::decimal::{Decimal, MAX_DIGITS, ScaleError, engineering};
 use super::{Amps, Farads, Hertz, Ohms, Ratio, Seconds, Tolerance, Volts, Watts};
+use super::{colour, marking};
 use std::str::FromStr;
 
 /// A value that could not be read. Always names the text and what was expected.
@@ -356,7 +356,14 @@ fn parse_with(text: &str, g: &Grammar) -> Result<i64, ParseError> {
 /// Parse a resistance: `4k7`, `4.7k`, `4.7 kΩ`, `4700`, `1M`, `1meg`, `10 ohm`, `2R2`, `R47`,
 /// `0R1`, or colour bands such as `yellow-violet-red-gold` (the tolerance band is dropped; use
 /// [`parse_colour_bands`] to keep it). A bare number is ohms.
+///
+/// A chip-resistor marking is read only with the `marking:` prefix (`marking:472` = 4.7 kΩ,
+/// `marking:01C` = 10 kΩ; see [`parse_resistor_marking`](super::parse_resistor_marking)):
+/// without it `472` is 472 Ω.
 pub fn parse_resistance(text: &str) -> Result<Ohms, ParseError> {
+    if let Some(code) = marking::strip_marking_prefix(text) {
+        return marking::parse_resistor_marking(code).map(|m| m.value);
+    }
     if colour::looks_like_bands(text) {
         return colour::parse_colour_bands(text).map(|(r, _)| r);
     }
@@ -419,7 +426,10 @@ fn capacitor_code(text: &str) -> Option<Result<(Farads, Option<char>), ParseErro
 /// optionally followed by a tolerance letter (`104K`; dropped here, kept by
 /// [`parse_capacitor_marking`]). A bare number that is not a three-digit code is refused as
 /// ambiguous (is `4700` picofarads or microfarads?).
+///
+/// `marking:104` is the same as `104` (the code is what is printed on the part).
 pub fn parse_capacitance(text: &str) -> Result<Farads, ParseError> {
+    let text = marking::strip_marking_prefix(text).unwrap_or(text);
     if let Some(code) = capacitor_code(text) {
         return code.map(|(f, _)| f);
     }
@@ -440,6 +450,7 @@ pub fn parse_capacitance(text: &str) -> Result<Farads, ParseError> {
 /// Below 10 pF the letters B, C and D mean ±0.1, ±0.25 and ±0.5 pF (from memory of IEC 60062);
 /// they are turned into the equivalent ratio of the value.
 pub fn parse_capacitor_marking(text: &str) -> Result<(Farads, Option<Tolerance>), ParseError> {
+    let text = marking::strip_marking_prefix(text).unwrap_or(text);
     match capacitor_code(text) {
         Some(code) => {
             let (f, letter) = code?;
@@ -474,6 +485,32 @@ pub fn parse_time(text: &str) -> Result<Seconds, ParseError> {
 /// Parse a frequency: `1k`, `440 Hz`, `38 kHz`, `0.5` (hertz).
 pub fn parse_frequency(text: &str) -> Result<Hertz, ParseError> {
     parse_with(text, &FREQUENCY).map(Hertz::from_base)
+}
+
+/// Like [`parse_with`], but a bare number is refused: it must carry a prefix or the unit, so
+/// `250` cannot silently mean 250 seconds when 250 ms was meant.
+fn parse_strict(text: &str, g: &Grammar, examples: &str) -> Result<i64, ParseError> {
+    let s = scan(text, text, g)?;
+    if !s.has_prefix && !s.has_unit {
+        let t = text.trim();
+        return Err(err(
+            text,
+            g.expected,
+            format!("{t} what? Give the unit: {}", examples.replace("{}", t)),
+        ));
+    }
+    to_base(text, g, s.value, 0)
+}
+
+/// Parse a time that must say its unit: `250ms`, `1.5 s`, `100u`; a bare `250` is refused with
+/// "250 what? …". For every option and argument where a time is asked for.
+pub fn parse_time_strict(text: &str) -> Result<Seconds, ParseError> {
+    parse_strict(text, &TIME, "{}ms, {} s or {}us").map(Seconds::from_base)
+}
+
+/// Parse a frequency that must say its unit: `440Hz`, `38 kHz`, `1k`; a bare `440` is refused.
+pub fn parse_frequency_strict(text: &str) -> Result<Hertz, ParseError> {
+    parse_strict(text, &FREQUENCY, "{} Hz or {}k").map(Hertz::from_base)
 }
 
 /// Parse a voltage: `9`, `12 V`, `700mV`.

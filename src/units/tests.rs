@@ -478,3 +478,43 @@ proptest! {
         }
     }
 }
+
+#[test]
+fn strict_times_and_frequencies_need_a_unit() {
+    // A unit or prefix is required; the bare number is refused with "250 what?".
+    assert_eq!(
+        parse_time_strict("250ms").map(|t| t.base()),
+        Ok(250_000_000_000)
+    );
+    assert_eq!(
+        parse_time_strict("1.5 s").map(|t| t.base()),
+        Ok(1_500_000_000_000)
+    );
+    assert_eq!(parse_time_strict("100u").map(|t| t.base()), Ok(100_000_000));
+    assert_eq!(parse_frequency_strict("1k"), parse_frequency("1000"));
+    assert_eq!(parse_frequency_strict("440 Hz"), parse_frequency("440"));
+    let e = parse_time_strict("250").expect_err("bare");
+    assert!(e.to_string().contains("250 what?"), "{e}");
+    assert!(e.to_string().contains("250ms"), "{e}");
+    let e = parse_frequency_strict("440").expect_err("bare");
+    assert!(e.to_string().contains("440 what?"), "{e}");
+    // The lenient forms still read a bare number in the SI unit.
+    assert_eq!(parse_time("2.5").map(|t| t.base()), Ok(2_500_000_000_000));
+}
+
+#[test]
+fn resistor_markings_only_with_the_prefix() {
+    // A bare 472 typed as a resistance is 472 Ω; marking:472 is the printed code, 4.7 kΩ.
+    assert_eq!(parse_resistance("472").map(|r| r.base()), Ok(472_000));
+    assert_eq!(
+        parse_resistance("marking:472").map(|r| r.base()),
+        Ok(4_700_000)
+    );
+    assert_eq!(
+        parse_resistance("marking:01C").map(|r| r.base()),
+        Ok(10_000_000)
+    );
+    assert!(parse_resistance("marking:4k7").is_err());
+    // For a capacitor the code is read either way.
+    assert_eq!(parse_capacitance("marking:104"), parse_capacitance("104"));
+}

@@ -10,11 +10,15 @@ Examples:
   onhand add 4.7k --qty 50 --bin A3            fifty 4.7 kΩ, 1 % metal film (the default)
   onhand add 100n --qty 20 --tech film --bin C2
   onhand add 10u --qty 5 --volts 25 --low 2    an electrolytic, warn at 2 left
-  onhand add 1N4148 --kind diode --qty 30
+  onhand add 1N4148 --qty 30                   a diode, known by its type number
+  onhand add marking:472 --qty 100             a chip resistor printed 472: 4.7 kΩ
 
-The kind follows the value: a farad unit or a p/n/u/µ multiplier means a capacitor, anything
-else a resistor; --kind overrides. Unstated details take the usual defaults (common practice):
-resistors 1 % metal film, axial, 0.25 W; capacitors C0G below 1 nF, X7R up to 1 µF,
+The kind follows the value: a diode type number (1N4148, BAT85) means a diode, a farad unit or
+a p/n/u/µ multiplier a capacitor, anything else a resistor; --kind overrides. A bare 472 is
+472 Ω; what is printed on a chip resistor is read only after marking: (marking:472 = 4.7 kΩ,
+marking:4702 = 47 kΩ, marking:4R7 = 4.7 Ω, EIA-96 marking:01C = 10 kΩ). Unstated details take the usual defaults (common practice):
+resistors 1 % metal film, axial, 0.25 W (colour bands: carbon film with the band's
+tolerance, metal film at 1 % or tighter; a chip marking: thick film); capacitors C0G below 1 nF, X7R up to 1 µF,
 electrolytic above, with that technology's usual tolerance.";
 
 /// Arguments of `add`.

@@ -4,9 +4,10 @@ use super::{
     Context, Narrow, Status, describe, low_warning, open_store, parse_kind, parse_tech,
     resolve_part,
 };
+use crate::report::table::Table;
 use crate::store::{Kind, Part, PartFilter, PartText, Value, text};
+use crate::units::count;
 use anyhow::{Context as _, bail};
-use comfy_table::{CellAlignment, Table, presets};
 use std::io::Write;
 
 pub const LIST_EXAMPLES: &str = "\
@@ -87,12 +88,11 @@ fn rating(p: &Part) -> String {
 
 /// The stock table.
 pub fn table(parts: &[Part]) -> Table {
-    let mut t = Table::new();
-    t.load_style(presets::UTF8_FULL_CONDENSED);
-    t.set_header(vec![
+    let mut t = Table::new([
         "#", "kind", "value", "tol", "tech", "rating", "package", "bin", "qty", "held", "free",
         "low", "note",
-    ]);
+    ])
+    .right_aligned(&[2, 8, 9, 10, 11]);
     for p in parts {
         let low = match p.low_stock {
             Some(l) if p.quantity <= l => format!("{l} LOW"),
@@ -103,11 +103,11 @@ pub fn table(parts: &[Part]) -> Table {
             Kind::Diode => String::new(),
             _ => p.value.to_string(),
         };
-        t.add_row(vec![
+        t.row([
             format!("#{}", p.id),
             p.kind.to_string(),
             value,
-            text::tolerance_text(p.tolerance),
+            crate::model::read::tolerance_cell(p.kind, p.tolerance),
             p.technology.label().to_string(),
             rating(p),
             p.package.clone(),
@@ -118,11 +118,6 @@ pub fn table(parts: &[Part]) -> Table {
             low,
             p.note.clone(),
         ]);
-    }
-    for col in [2, 8, 9, 10, 11] {
-        if let Some(c) = t.column_mut(col) {
-            c.set_cell_alignment(CellAlignment::Right);
-        }
     }
     t
 }
@@ -158,16 +153,17 @@ pub fn run_list(a: ListArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resu
         writeln!(out, "no parts match")?;
         return Ok(Status::Success);
     }
-    writeln!(out, "{}", table(&parts))?;
+    writeln!(out, "{}", table(&parts).render(ctx.style))?;
     let pieces: i64 = parts.iter().map(|p| p.quantity).sum();
     let held: i64 = parts.iter().map(|p| p.held).sum();
+    let rows = count(parts.len(), "row", "rows");
+    let pieces_text = count(pieces, "piece", "pieces");
     if held == 0 {
-        writeln!(out, "{} rows, {pieces} pieces", parts.len())?;
+        writeln!(out, "{rows}, {pieces_text}")?;
     } else {
         writeln!(
             out,
-            "{} rows, {pieces} pieces ({held} held for plans, {} free)",
-            parts.len(),
+            "{rows}, {pieces_text} ({held} held for plans, {} free)",
             pieces - held
         )?;
     }
@@ -232,9 +228,7 @@ pub fn run_show(a: ShowArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resu
     if let Some(w) = low_warning(&part) {
         writeln!(out, "{w}")?;
     }
-    let mut t = Table::new();
-    t.load_style(presets::UTF8_FULL_CONDENSED);
-    t.set_header(vec![
+    let mut t = Table::new([
         "when (UTC)",
         "who",
         "change",
@@ -249,7 +243,7 @@ pub fn run_show(a: ShowArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resu
             (None, 0) => String::new(),
             (None, d) => format!("{d:+}"),
         };
-        t.add_row(vec![
+        t.row([
             e.at.clone(),
             e.who.clone(),
             if e.delta == 0 && e.plan.is_some() {
@@ -263,6 +257,11 @@ pub fn run_show(a: ShowArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resu
             e.why.clone(),
         ]);
     }
-    writeln!(out, "history ({} entries):\n{t}", ledger.len())?;
+    writeln!(
+        out,
+        "history ({}):\n{}",
+        count(ledger.len(), "entry", "entries"),
+        t.render(ctx.style)
+    )?;
     Ok(Status::Success)
 }
