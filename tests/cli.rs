@@ -179,3 +179,51 @@ fn piped_tables_are_tab_separated_and_counts_agree() {
     );
     assert!(list.stdout.contains("1 row, 1 piece"), "{}", list.stdout);
 }
+
+#[test]
+fn import_reads_standard_input_and_cites_spreadsheet_rows() {
+    let b = Bench::new();
+    let mut cmd = util::onhand();
+    cmd.arg("--db")
+        .arg(b.db())
+        .args(["--user", "tester", "import", "-"])
+        .write_stdin("value,quantity,bin\n4k7,5,A1\n10k,3,A2\n");
+    util::Run::from(cmd)
+        .ok()
+        .stdout_has("row 2: new")
+        .stdout_has("imported 2 rows from stdin");
+    assert_eq!(rows(&b).len(), 2);
+    // A bad cell is cited by the row a spreadsheet shows: the header is row 1.
+    let bad = b.write("bad.csv", "value,quantity\n1k,5\n2k2,lots\n");
+    b.run(&["import", bad.to_str().expect("utf-8")])
+        .code(2)
+        .stderr_has("row 3, column \"quantity\"");
+}
+
+#[test]
+fn export_honours_json() {
+    let b = Bench::new();
+    b.run(&["add", "4k7", "--qty", "5"]).ok();
+    let v = b.run(&["--json", "export"]).ok().json();
+    assert!(v.is_array() || v.is_object(), "{v}");
+    let csv = b.run(&["export"]).ok();
+    assert!(csv.stdout.starts_with("kind,"), "{}", csv.stdout);
+    let file = b.path("out.csv");
+    let r = b
+        .run(&[
+            "--json",
+            "export",
+            "--format",
+            "csv",
+            "--out",
+            file.to_str().expect("utf-8"),
+        ])
+        .ok()
+        .json();
+    assert_eq!(r["exported_rows"], Json::from(1));
+    assert!(
+        std::fs::read_to_string(&file)
+            .expect("file")
+            .starts_with("kind,")
+    );
+}

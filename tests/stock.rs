@@ -281,15 +281,15 @@ fn import_dry_run_reports_and_writes_nothing() {
     let before = export(&b, "csv");
     b.run(&["import", csv.to_str().expect("utf-8"), "--dry-run"])
         .ok()
-        .stdout_has("row 1: would add 3 to #1")
-        .stdout_has("row 2: would create 10 ×")
+        .stdout_has("row 2: would add 3 to #1")
+        .stdout_has("row 3: would create 10 ×")
         .stdout_has("dry run, nothing written");
     assert_eq!(export(&b, "csv"), before);
     b.run(&["import", csv.to_str().expect("utf-8")])
         .ok()
         .stdout_has("1 new, 1 topped up, 13 pieces");
     let show = b.run(&["--json", "show", "#1"]).ok().json();
-    assert_eq!(show["ledger"][1]["why"], "import in.csv row 1");
+    assert_eq!(show["ledger"][1]["why"], "import in.csv row 2");
     assert_eq!(show["part"]["quantity"], 8);
 }
 
@@ -350,7 +350,7 @@ fn export_to_a_file() {
         out.to_str().expect("utf-8"),
     ])
     .ok()
-    .stdout_has("exported 1 rows to");
+    .stdout_has("exported 1 row to");
     let text = std::fs::read_to_string(&out).expect("written");
     let v: Json = serde_json::from_str(&text).expect("json");
     assert_eq!(v[0]["value"], "1 kΩ");

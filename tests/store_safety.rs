@@ -207,15 +207,15 @@ fn bad_input_of_every_kind_is_refused_and_changes_nothing() {
         ),
         (
             vec!["import".into(), p(&middle)],
-            "row 3, column \"quantity\"",
+            "row 4, column \"quantity\"",
         ),
         (
             vec!["import".into(), p(&neg)],
-            "row 1, column \"quantity\": the quantity must be 0 or more",
+            "row 2, column \"quantity\": the quantity must be 0 or more",
         ),
         (
             vec!["import".into(), p(&bad_value)],
-            "row 2, column \"value\"",
+            "row 3, column \"value\"",
         ),
         (
             vec!["import".into(), p(&bad_json)],
@@ -262,5 +262,5 @@ fn the_ledger_cannot_be_rewritten() {
     drop(conn);
     b.run(&["show", "#1"])
         .ok()
-        .stdout_has("history (1 entries)");
+        .stdout_has("history (1 entry)");
 }

@@ -219,11 +219,11 @@ fn render_held_shortfalls(short: &[Shortfall]) -> String {
         .collect()
 }
 
-/// One problem in an import file, cited by row (1 = the first data row; the header is row 0 in
-/// CSV terms) and column name.
+/// One problem in an import file, cited by row (as a spreadsheet numbers a CSV file: the header
+/// is row 1, the first data row row 2; JSON items from 1) and column name.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct RowError {
-    /// Data row number, counting from 1; 0 for the header.
+    /// Row number as above; 0 for the header itself.
     pub row: usize,
     /// Column name, when the problem is in one cell.
     pub column: Option<String>,

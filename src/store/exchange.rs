@@ -38,11 +38,12 @@ pub enum ExportFormat {
     Json,
 }
 
-/// One record read from an import file: its data-row number (1 = first data row) and the text
+/// One record read from an import file: its row number (CSV: the spreadsheet's, header = row 1;
+/// JSON: the item's position from 1) and the text
 /// of each cell.
 #[derive(Debug, Clone, Default)]
 pub struct Record {
-    /// Data-row number, from 1.
+    /// Row number: CSV as a spreadsheet counts (header = 1), JSON items from 1.
     pub row: usize,
     /// The part fields.
     pub part: PartText,
@@ -172,7 +173,8 @@ pub fn read_csv(data: &str) -> Result<Vec<Record>, StoreError> {
     let mut records = Vec::new();
     let mut errors = Vec::new();
     for (i, rec) in rdr.records().enumerate() {
-        let row = i + 1;
+        // The spreadsheet's row number: the header is row 1, the first data row row 2.
+        let row = i + 2;
         let rec = match rec {
             Ok(r) => r,
             Err(e) => {
@@ -367,7 +369,8 @@ mod tests {
         let Err(StoreError::Import(errs)) = read_csv("value,quantity\n4.7k,5\n1k\n") else {
             panic!("short row must fail");
         };
-        assert_eq!(errs[0].row, 2);
+        // The spreadsheet's numbering: header row 1, so the short row is row 3.
+        assert_eq!(errs[0].row, 3);
     }
 
     #[test]

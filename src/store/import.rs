@@ -160,7 +160,7 @@ mod tests {
             .into_iter()
             .map(|e| e.why)
             .collect();
-        assert_eq!(reasons[2], "import x.csv row 3");
+        assert_eq!(reasons[2], "import x.csv row 4");
     }
 
     #[test]
@@ -176,10 +176,10 @@ mod tests {
         assert_eq!(
             cited,
             vec![
-                (2, Some("value")),
-                (3, Some("quantity")),
-                (4, Some("value")),
-                (4, Some("tolerance"))
+                (3, Some("value")),
+                (4, Some("quantity")),
+                (5, Some("value")),
+                (5, Some("tolerance"))
             ]
         );
         assert!(s.parts(&Default::default()).expect("parts").is_empty());

@@ -11,6 +11,7 @@ Examples:
   onhand import delivery.csv --dry-run       what would change; writes nothing
   onhand import delivery.csv
   onhand import backup.json
+  onhand export | onhand --db other.db import -    standard input
 
 Columns (any order, any case; value and quantity are required):
   kind,value,tolerance,technology,volts,watts,package,bin,quantity,low,note
@@ -35,7 +36,7 @@ pub enum Format {
 /// Arguments of `import`.
 #[derive(Debug, clap::Args)]
 pub struct ImportArgs {
-    /// The file to read.
+    /// The file to read; `-` reads standard input.
     pub file: PathBuf,
     /// Report what would change and write nothing.
     #[arg(long)]
@@ -48,9 +49,9 @@ pub struct ImportArgs {
 /// Arguments of `export`.
 #[derive(Debug, clap::Args)]
 pub struct ExportArgs {
-    /// File format.
-    #[arg(long, value_enum, default_value_t = Format::Csv)]
-    pub format: Format,
+    /// File format (default: csv, or json under --json).
+    #[arg(long, value_enum)]
+    pub format: Option<Format>,
     /// Write to this file instead of standard output.
     #[arg(long, value_name = "FILE")]
     pub out: Option<PathBuf>,
@@ -61,8 +62,13 @@ const SHOWN_LINES: usize = 40;
 
 /// Run `import`.
 pub fn run_import(a: ImportArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Result<Status> {
-    let data = std::fs::read_to_string(&a.file)
-        .with_context(|| format!("reading {}", a.file.display()))?;
+    // `-` is standard input (CSV unless --format json), as in most tools.
+    let stdin = a.file.as_os_str() == "-";
+    let data = if stdin {
+        std::io::read_to_string(std::io::stdin()).context("reading standard input")?
+    } else {
+        std::fs::read_to_string(&a.file).with_context(|| format!("reading {}", a.file.display()))?
+    };
     let format = a.format.unwrap_or_else(|| {
         let is_json = a
             .file
@@ -70,10 +76,14 @@ pub fn run_import(a: ImportArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::
             .is_some_and(|e| e.eq_ignore_ascii_case("json"));
         if is_json { Format::Json } else { Format::Csv }
     });
-    let name = a.file.file_name().map_or_else(
-        || a.file.display().to_string(),
-        |n| n.to_string_lossy().into_owned(),
-    );
+    let name = if stdin {
+        "stdin".to_string()
+    } else {
+        a.file.file_name().map_or_else(
+            || a.file.display().to_string(),
+            |n| n.to_string_lossy().into_owned(),
+        )
+    };
     let records = match format {
         Format::Csv => read_csv(&data),
         Format::Json => read_json(&data),
@@ -122,17 +132,17 @@ pub fn run_import(a: ImportArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::
     }
     writeln!(
         out,
-        "{}{} rows from {}: {} new, {} topped up, {} pieces",
+        "{}{} from {}: {} new, {} topped up, {}",
         if a.dry_run {
             "dry run, nothing written — "
         } else {
             "imported "
         },
-        report.lines.len(),
+        crate::units::count(report.lines.len(), "row", "rows"),
         name,
         report.created,
         report.topped_up,
-        report.pieces
+        crate::units::count(report.pieces, "piece", "pieces")
     )?;
     Ok(Status::Success)
 }
@@ -140,15 +150,32 @@ pub fn run_import(a: ImportArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::
 /// Run `export`.
 pub fn run_export(a: ExportArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Result<Status> {
     let store = open_store(ctx)?;
+    // `--json` is honoured: JSON unless a format is named.
     let format = match a.format {
-        Format::Csv => ExportFormat::Csv,
-        Format::Json => ExportFormat::Json,
+        Some(Format::Csv) => ExportFormat::Csv,
+        Some(Format::Json) => ExportFormat::Json,
+        None if ctx.json => ExportFormat::Json,
+        None => ExportFormat::Csv,
     };
     let (text, n) = export(&store, format)?;
     match &a.out {
         Some(path) => {
             std::fs::write(path, &text).with_context(|| format!("writing {}", path.display()))?;
-            writeln!(out, "exported {n} rows to {}", path.display())?;
+            if ctx.json {
+                let v = serde_json::json!({
+                    "schema": crate::report::style::JSON_SCHEMA,
+                    "exported_rows": n,
+                    "file": path.display().to_string(),
+                });
+                writeln!(out, "{v}")?;
+            } else {
+                writeln!(
+                    out,
+                    "exported {} to {}",
+                    crate::units::count(n, "row", "rows"),
+                    path.display()
+                )?;
+            }
         }
         None => out.write_all(text.as_bytes())?,
     }
