@@ -282,7 +282,7 @@ fn held_pieces_are_missing_from_what_designs_and_list_see() {
         .lines()
         .find(|l| l.contains("4.7 kΩ"))
         .expect("4.7k row");
-    let cells: Vec<&str> = row.split('┆').map(str::trim).collect();
+    let cells: Vec<&str> = row.split(['┆', '\t']).map(str::trim).collect();
     // columns: # kind value tol tech rating package bin qty held free …
     assert_eq!(&cells[8..11], &["10", "10", "0"], "{row}");
     list.stdout_has("3 rows, 20 pieces (13 held for plans, 7 free)");

@@ -260,7 +260,5 @@ fn the_ledger_cannot_be_rewritten() {
     let del = conn.execute("DELETE FROM ledger", []);
     assert!(del.is_err_and(|e| e.to_string().contains("append-only")));
     drop(conn);
-    b.run(&["show", "#1"])
-        .ok()
-        .stdout_has("history (1 entry)");
+    b.run(&["show", "#1"]).ok().stdout_has("history (1 entry)");
 }

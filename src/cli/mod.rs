@@ -73,7 +73,6 @@ Examples:
   onhand plan kit.toml --hold               how many kits the stock builds; hold the parts
 
 The options above work with every command, before or after its name (onhand list --json).
-Times and frequencies always carry their unit (250ms, 38kHz): a bare 250 is refused.
 Exit status: 0 done/found, 1 nothing in stock meets the target or a check failed, 2 error.";
 
 /// Every command.

@@ -17,7 +17,8 @@ use crate::store::Kind;
 use crate::timing::Conditions;
 use crate::units::eseries::Series;
 use crate::units::{
-    format_sig, parse_frequency_strict, parse_time_strict, parse_tolerance, parse_voltage,
+    Farads, Seconds, capacitance_text, format_sig, parse_frequency_strict, parse_time_strict,
+    parse_tolerance, parse_voltage, percent_text, time_text,
 };
 use anyhow::{Context as _, Result, anyhow, bail};
 use serde::Serialize;
@@ -200,18 +201,16 @@ pub(super) fn title_of(map: &ReachMap, req: &Request) -> String {
 }
 
 fn pct(x: f64) -> String {
-    let p = x * 100.0;
-    let s = if p >= 10.0 {
-        format!("{p:.0}")
-    } else {
-        format!("{p:.3}")
-    };
-    let s = if s.contains('.') {
-        s.trim_end_matches('0').trim_end_matches('.')
-    } else {
-        &s
-    };
-    format!("{s} %")
+    percent_text(x, 3)
+}
+
+/// A value on the report's axis: times in the units people use (`1 h`, not `3.6 ks`),
+/// everything else in engineering form, three significant digits.
+fn axis(x: f64, unit: &str) -> String {
+    match (unit, Seconds::from_si(x)) {
+        ("s", Some(t)) => time_text(t, 3),
+        _ => format_sig(x, 3, unit),
+    }
 }
 
 fn spans_text(spans: &[(f64, f64)], unit: &str, most: usize) -> String {
@@ -221,7 +220,7 @@ fn spans_text(spans: &[(f64, f64)], unit: &str, most: usize) -> String {
     let mut parts: Vec<String> = spans
         .iter()
         .take(most)
-        .map(|(a, b)| format!("{} … {}", format_sig(*a, 3, unit), format_sig(*b, 3, unit)))
+        .map(|(a, b)| format!("{} … {}", axis(*a, unit), axis(*b, unit)))
         .collect();
     if spans.len() > most {
         parts.push(format!("and {} more", spans.len() - most));
@@ -237,8 +236,13 @@ fn kind_name(k: Kind) -> &'static str {
     }
 }
 
-fn unit_of(k: Kind) -> &'static str {
-    if k == Kind::Capacitor { "F" } else { "Ω" }
+/// A part's value for the report: capacitors as technicians write them (`4700 µF`, never
+/// `4.7 mF`), resistors in engineering form; three significant digits.
+fn part_value(v: f64, k: Kind) -> String {
+    match (k, Farads::from_si(v)) {
+        (Kind::Capacitor, Some(c)) => capacitance_text(c, 3),
+        _ => format_sig(v, 3, "Ω"),
+    }
 }
 
 fn text(
@@ -253,8 +257,8 @@ fn text(
     writeln!(
         out,
         "range {} … {}; reached means a design from stock within ±{} of the value{}",
-        format_sig(map.range.0, 3, u),
-        format_sig(map.range.1, 3, u),
+        axis(map.range.0, u),
+        axis(map.range.1, u),
         pct(map.tol),
         if map.form == ReachForm::Pulse {
             ""
@@ -316,8 +320,8 @@ fn text(
             let gaps = b.len() - 1;
             return format!(
                 "{} … {} with {gaps} gap{} (and {n} narrow)",
-                format_sig(first.0, 3, u),
-                format_sig(last.1, 3, u),
+                axis(first.0, u),
+                axis(last.1, u),
                 if gaps == 1 { "" } else { "s" }
             );
         }
@@ -365,7 +369,7 @@ fn text(
                     };
                     format!(
                         "buy one {} {} ({:?}): closes {}{left}",
-                        format_sig(f.value, 3, unit_of(f.kind)),
+                        part_value(f.value, f.kind),
                         kind_name(f.kind),
                         f.series,
                         pct(f.closes)
@@ -374,7 +378,7 @@ fn text(
                 (None, true) => "no single purchase closes any of it".to_string(),
                 (None, false) => "no purchase looked for (only the widest holes are)".to_string(),
             };
-            let span = format!("{} … {}", format_sig(h.lo, 3, u), format_sig(h.hi, 3, u));
+            let span = format!("{} … {}", axis(h.lo, u), axis(h.hi, u));
             writeln!(out, "  {span:<22} {fix}")?;
         }
         writeln!(
@@ -434,6 +438,7 @@ pub fn run(args: ReachArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status
     if ctx.json {
         #[derive(Serialize)]
         struct J<'a> {
+            schema: u32,
             title: &'a str,
             form: ReachForm,
             range: (f64, f64),
@@ -455,6 +460,7 @@ pub fn run(args: ReachArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status
             files: Vec<FileEntry<'a>>,
         }
         let j = J {
+            schema: crate::report::style::JSON_SCHEMA,
             title: &title,
             form: map.form,
             range: map.range,

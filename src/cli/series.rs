@@ -6,6 +6,8 @@
 //! (`units::eseries`), and the text and JSON renderers write to the given output.
 
 use super::{Context, Status};
+use crate::report::style::{JSON_SCHEMA, Style};
+use crate::report::table::Table as Grid;
 use crate::units::eseries::{self, Series};
 use crate::units::{BaseUnits, Farads, Ohms, parse_capacitance, parse_resistance};
 use anyhow::Context as _;
@@ -131,6 +133,8 @@ struct SeriesAnswer {
 /// The whole answer for a looked-up value.
 #[derive(Debug, Serialize)]
 struct Lookup {
+    /// Version of the JSON schema.
+    schema: u32,
     quantity: &'static str,
     value: f64,
     value_text: String,
@@ -178,6 +182,7 @@ fn lookup<Q: BaseUnits + Display>(quantity: &'static str, x: Q, only: Option<Ser
         })
         .collect();
     Lookup {
+        schema: JSON_SCHEMA,
         quantity,
         value: si(x),
         value_text: x.to_string(),
@@ -190,6 +195,8 @@ fn lookup<Q: BaseUnits + Display>(quantity: &'static str, x: Q, only: Option<Ser
 /// One decade or a range of a series.
 #[derive(Debug, Serialize)]
 struct Table {
+    /// Version of the JSON schema.
+    schema: u32,
     series: Series,
     per_decade: usize,
     significant_digits: u32,
@@ -215,6 +222,7 @@ fn table(series: Series) -> Table {
         .collect();
     let decimals = (digits - 1) as usize;
     Table {
+        schema: JSON_SCHEMA,
         series,
         per_decade: series.per_decade(),
         significant_digits: digits,
@@ -236,7 +244,7 @@ fn range<Q: BaseUnits + Display>(quantity: &'static str, series: Series, lo: Q, 
     }
 }
 
-fn render_lookup(l: &Lookup, out: &mut dyn Write) -> std::io::Result<()> {
+fn render_lookup(l: &Lookup, style: Style, out: &mut dyn Write) -> std::io::Result<()> {
     match l.smallest_series {
         Some(s) => {
             let all: Vec<String> = l.member_of.iter().map(ToString::to_string).collect();
@@ -265,27 +273,11 @@ fn render_lookup(l: &Lookup, out: &mut dyn Write) -> std::io::Result<()> {
             ]
         })
         .collect();
-    let header = ["series", "nearest", "off by", "next below", "next above"];
-    let mut width = header.map(|h| h.chars().count());
-    for r in &rows {
-        for (w, cell) in width.iter_mut().zip(r) {
-            *w = (*w).max(cell.chars().count());
-        }
+    let mut table = Grid::new(["series", "nearest", "off by", "next below", "next above"]);
+    for r in rows {
+        table.row(r);
     }
-    let line = |cells: &[String]| {
-        cells
-            .iter()
-            .zip(width)
-            .map(|(c, w)| format!("{c:<w$}"))
-            .collect::<Vec<_>>()
-            .join("  ")
-            .trim_end()
-            .to_string()
-    };
-    writeln!(out, "{}", line(&header.map(String::from)))?;
-    for r in &rows {
-        writeln!(out, "{}", line(r))?;
-    }
+    writeln!(out, "{}", table.render(style))?;
     Ok(())
 }
 
@@ -357,7 +349,7 @@ pub fn run(args: SeriesArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resu
     match (&answer, ctx.json) {
         (Answer::Lookup(l), true) => serde_json::to_writer_pretty(&mut *out, l)?,
         (Answer::Table(t), true) => serde_json::to_writer_pretty(&mut *out, t)?,
-        (Answer::Lookup(l), false) => render_lookup(l, out)?,
+        (Answer::Lookup(l), false) => render_lookup(l, ctx.style, out)?,
         (Answer::Table(t), false) => render_table(t, out)?,
     }
     if ctx.json {
@@ -381,10 +373,10 @@ mod tests {
         assert_eq!(a.above_text.as_deref(), Some("5.6 kΩ"));
         assert_eq!(a.nearest_error_percent, Some(-6.0));
         let mut text = Vec::new();
-        render_lookup(&l, &mut text).expect("render");
+        render_lookup(&l, Style::PLAIN, &mut text).expect("render");
         let text = String::from_utf8(text).expect("utf-8");
         assert!(text.contains("5 kΩ is in no E-series."), "{text}");
-        assert!(text.contains("E12     4.7 kΩ   -6 %"), "{text}");
+        assert!(text.contains("E12\t4.7 kΩ\t-6 %"), "{text}");
     }
 
     #[test]

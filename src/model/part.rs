@@ -244,16 +244,24 @@ impl std::str::FromStr for Technology {
             "carbonfilm" | "cf" | "carbon" => Technology::CarbonFilm,
             "thickfilm" | "thick" | "chip" => Technology::ThickFilm,
             "wirewound" | "ww" => Technology::Wirewound,
-            "c0g" | "cog" | "np0" | "npo" => Technology::C0g,
-            "x7r" | "x5r" => Technology::X7r,
-            "y5v" | "z5u" => Technology::Y5v,
-            "film" | "polyester" | "pet" | "mylar" | "polypropylene" | "pp" | "mkt" | "mkp" => {
-                Technology::Film
+            "c0g" | "cog" | "np0" | "npo" | "c0gceramic" | "ceramicc0g" | "np0ceramic" => {
+                Technology::C0g
             }
-            "electrolytic" | "elko" | "elco" | "alu" | "aluminium" | "aluminum" => {
-                Technology::Electrolytic
-            }
-            "tantalum" | "tant" => Technology::Tantalum,
+            "x7r" | "x5r" | "x7rceramic" | "ceramicx7r" => Technology::X7r,
+            "y5v" | "z5u" | "y5vceramic" => Technology::Y5v,
+            "film" | "polyester" | "pet" | "mylar" | "polypropylene" | "pp" | "mkt" | "mkp"
+            | "mks" | "polystyrene" | "ps" | "filmcapacitor" => Technology::Film,
+            "electrolytic"
+            | "elko"
+            | "elco"
+            | "elec"
+            | "alu"
+            | "aluminium"
+            | "aluminum"
+            | "aluminiumelectrolytic"
+            | "aluminumelectrolytic"
+            | "alelectrolytic" => Technology::Electrolytic,
+            "tantalum" | "tant" | "tantal" => Technology::Tantalum,
             "other" => Technology::Other,
             _ => {
                 return Err(UnknownName {
@@ -361,6 +369,25 @@ mod tests {
         );
         assert!("unobtainium".parse::<Technology>().is_err());
         assert!("inductor".parse::<Kind>().is_err());
+    }
+
+    #[test]
+    fn buyer_spellings_are_one_parser() {
+        // common practice: how buyers and catalogues write these technologies.
+        for (text, tech) in [
+            ("MKT", Technology::Film),
+            ("mkp", Technology::Film),
+            ("polystyrene", Technology::Film),
+            ("c0g", Technology::C0g),
+            ("NP0 ceramic", Technology::C0g),
+            ("X7R", Technology::X7r),
+            ("elko", Technology::Electrolytic),
+            ("aluminium electrolytic", Technology::Electrolytic),
+            ("elec", Technology::Electrolytic),
+            ("tantal", Technology::Tantalum),
+        ] {
+            assert_eq!(text.parse::<Technology>(), Ok(tech), "{text}");
+        }
     }
 
     #[test]

@@ -10,6 +10,10 @@ use crate::timing::Severity;
 /// an object. Raised when a field changes meaning or is removed.
 pub const JSON_SCHEMA: u32 = 1;
 
+/// Column labels of Monte Carlo percentiles in every report: the 1st percentile, the median and
+/// the 99th percentile (not "1 %", which reads as a tolerance).
+pub const PERCENTILE_LABELS: [&str; 3] = ["P1", "median", "P99"];
+
 /// How to draw a report.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub struct Style {

@@ -27,7 +27,7 @@ pub use marking::{
 pub use parse::{
     ParseError, parse_capacitance, parse_capacitor_marking, parse_colour_bands, parse_current,
     parse_frequency, parse_frequency_strict, parse_power, parse_ratio, parse_resistance,
-    parse_time, parse_time_strict, parse_tolerance, parse_voltage,
+    parse_si_number, parse_time, parse_time_strict, parse_tolerance, parse_voltage,
 };
 pub use quantity::{Amps, BaseUnits, Farads, Hertz, Ohms, Ratio, Seconds, Volts, Watts};
 pub use tolerance::Tolerance;

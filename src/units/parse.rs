@@ -154,6 +154,18 @@ const RATIO: Grammar = Grammar {
     hint: "nothing, or a % sign",
 };
 
+const NUMBER: Grammar = Grammar {
+    expected: "a number with an optional SI prefix such as 250n, 1.5m or 10k",
+    base_digits: 0,
+    symbol: "",
+    units: &[],
+    words: &[],
+    r_code: false,
+    upper_np: false,
+    prefixes: true,
+    hint: "an SI prefix (f p n u µ m k M G T)",
+};
+
 /// A number as scanned, before scaling into a base unit.
 #[derive(Debug, Clone, Copy)]
 struct Scanned {
@@ -550,6 +562,19 @@ fn parse_power_fraction(text: &str, num: &str, den: &str) -> Result<Watts, Parse
     }
     let per = Watts::PER_SI;
     Ok(Watts::from_base((n * per + d / 2) / d))
+}
+
+/// Parse a plain number with an optional SI prefix and no unit (`250n`, `1.5m`, `10k`, `2e-9`),
+/// for figures finer than any quantity type stores (pin bias currents of a few nanoamps,
+/// leakage per volt). The one SI-number reader; commands strip their unit symbol first.
+pub fn parse_si_number(text: &str) -> Result<f64, ParseError> {
+    let s = scan(text, text, &NUMBER)?;
+    let v = s.value.mantissa as f64 * 10f64.powi(s.value.exp);
+    if v.is_finite() {
+        Ok(v)
+    } else {
+        Err(err(text, NUMBER.expected, "too large"))
+    }
 }
 
 /// Parse a ratio: `0.6` or `60%`.

@@ -518,3 +518,24 @@ fn resistor_markings_only_with_the_prefix() {
     // For a capacitor the code is read either way.
     assert_eq!(parse_capacitance("marking:104"), parse_capacitance("104"));
 }
+
+#[test]
+fn si_numbers() {
+    // SI prefixes: the BIPM SI brochure's decimal multiples.
+    let close = |a: f64, b: f64| (a - b).abs() <= 1e-12 * b.abs();
+    for (text, want) in [
+        ("250n", 250e-9),
+        ("1.5m", 1.5e-3),
+        ("10k", 10e3),
+        ("2e-9", 2e-9),
+        ("4µ7", 4.7e-6),
+        ("0.5", 0.5),
+        ("1 M", 1e6),
+    ] {
+        let v = parse_si_number(text).expect(text);
+        assert!(close(v, want), "{text}: {v}");
+    }
+    for bad in ["", "n", "5 apples", "-3", "1,5"] {
+        assert!(parse_si_number(bad).is_err(), "{bad}");
+    }
+}
