@@ -227,3 +227,29 @@ fn export_honours_json() {
             .starts_with("kind,")
     );
 }
+
+#[test]
+fn buyer_spellings_of_technologies_are_read_the_same_everywhere() {
+    // common practice: MKT is polyester film, NP0 is C0G, elko is an aluminium electrolytic.
+    let b = Bench::new();
+    b.run(&["add", "100n", "--qty", "5", "--tech", "MKT"]).ok();
+    b.run(&["add", "100p", "--qty", "5", "--tech", "NP0"]).ok();
+    b.run(&["add", "100u", "--qty", "5", "--tech", "elko"]).ok();
+    let techs: Vec<String> = rows(&b)
+        .iter()
+        .map(|p| p["technology"].as_str().expect("tech").to_string())
+        .collect();
+    assert_eq!(techs, vec!["c0g", "film", "electrolytic"]);
+    for (spelling, n) in [("polyester", 1), ("c0g", 1), ("aluminium electrolytic", 1)] {
+        let v = b.run(&["--json", "list", "--tech", spelling]).ok().json();
+        assert_eq!(v.as_array().map(Vec::len), Some(n), "{spelling}");
+    }
+    // A diode in an import file needs no kind column either.
+    let f = b.write("d.csv", "value,quantity\nBAT85,10\n");
+    b.run(&["import", f.to_str().expect("utf-8")]).ok();
+    let kinds: Vec<String> = rows(&b)
+        .iter()
+        .map(|p| p["kind"].as_str().expect("kind").to_string())
+        .collect();
+    assert!(kinds.contains(&"diode".to_string()), "{kinds:?}");
+}
