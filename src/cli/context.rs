@@ -13,6 +13,9 @@ pub struct Context {
     pub json: bool,
     /// Replace output files that already exist.
     pub force: bool,
+    /// A writer set up by an enclosing command (the demo: its own folder, the user's database
+    /// still protected); [`Context::files`] adds this context's database to it.
+    pub writer: Option<super::FileWriter>,
 }
 
 impl Context {
@@ -23,7 +26,22 @@ impl Context {
             .db
             .clone()
             .or_else(|| crate::store::Store::default_path().ok());
-        super::FileWriter::new(db.as_deref(), self.force)
+        match (&self.writer, db) {
+            (Some(w), Some(db)) => w.clone().protecting(&db),
+            (Some(w), None) => w.clone(),
+            (None, db) => super::FileWriter::new(db.as_deref(), self.force),
+        }
+    }
+
+    /// Refuse a user name that holds control characters or is too long (it goes into the
+    /// ledger and is printed by `show`).
+    pub fn check(&self) -> anyhow::Result<()> {
+        crate::store::text::check_field(
+            "the user name (--user)",
+            &self.user,
+            crate::store::text::MAX_NAME,
+        )
+        .map_err(anyhow::Error::msg)
     }
 
     /// Resolve the user from `--user`, else the OS user, else "unknown".
@@ -40,6 +58,7 @@ impl Context {
             user,
             json,
             force: false,
+            writer: None,
         }
     }
 }

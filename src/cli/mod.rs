@@ -133,8 +133,20 @@ fn is_broken_pipe(e: &anyhow::Error) -> bool {
 }
 
 pub(crate) fn dispatch(cli: Cli, out: &mut dyn Write) -> anyhow::Result<Status> {
+    dispatch_with(cli, out, None)
+}
+
+/// [`dispatch`], with every file written through `writer` (plus the database's protection)
+/// when an enclosing command gives one.
+pub(crate) fn dispatch_with(
+    cli: Cli,
+    out: &mut dyn Write,
+    writer: Option<FileWriter>,
+) -> anyhow::Result<Status> {
     let mut ctx = Context::new(cli.db, cli.user, cli.json);
     ctx.force = cli.force;
+    ctx.writer = writer;
+    ctx.check()?;
     match cli.command {
         Command::Demo(args) => demo::run(args, &ctx, out),
         Command::Stock(cmd) => stock::run(cmd, &ctx, out),
