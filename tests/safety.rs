@@ -569,30 +569,34 @@ fn a_busy_store_says_so_once() {
 
 #[test]
 fn many_first_opens_of_a_new_file_all_succeed() {
-    let b = Bench::new();
-    let runs: Vec<(&str, Vec<String>)> = (0..24)
-        .map(|i| {
-            (
-                "racer",
-                vec![
-                    "add".to_string(),
-                    format!("{}", 1000 + i),
-                    "--qty".to_string(),
-                    "1".to_string(),
-                ],
-            )
-        })
-        .collect();
-    let outs = b.race("go", &runs);
-    for (i, o) in outs.iter().enumerate() {
-        assert!(
-            o.status.success(),
-            "open {i} failed: {}",
-            String::from_utf8_lossy(&o.stderr)
-        );
+    // Before opening retried, about 1 in 130 of 16 processes creating the same new file at
+    // once failed at once with "database is locked"; 20 rounds make such a failure near certain.
+    for round in 0..20 {
+        let b = Bench::new();
+        let runs: Vec<(&str, Vec<String>)> = (0..16)
+            .map(|i| {
+                (
+                    "racer",
+                    vec![
+                        "add".to_string(),
+                        format!("{}", 1000 + i),
+                        "--qty".to_string(),
+                        "1".to_string(),
+                    ],
+                )
+            })
+            .collect();
+        let outs = b.race("go", &runs);
+        for (i, o) in outs.iter().enumerate() {
+            assert!(
+                o.status.success(),
+                "round {round}, open {i} failed: {}",
+                String::from_utf8_lossy(&o.stderr)
+            );
+        }
+        let rows = b.run(&["--json", "list"]).ok().json();
+        assert_eq!(rows.as_array().expect("rows").len(), 16);
     }
-    let rows = b.run(&["--json", "list"]).ok().json();
-    assert_eq!(rows.as_array().expect("rows").len(), 24);
 }
 
 #[test]
