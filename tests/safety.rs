@@ -635,3 +635,29 @@ fn odd_numbers_are_refused_with_a_clear_message() {
         .code(2)
         .stderr_has("above zero");
 }
+
+#[test]
+fn a_price_list_with_absurd_figures_is_refused() {
+    let b = Bench::new();
+    b.run(&["add", "1k", "--qty", "1"]).ok();
+    let plan = b.write(
+        "p.toml",
+        "name = \"kit\"\nunits = 2\n[[stage]]\nname = \"tick\"\nform = \"pulse\"\nwidth = \"109.86ms\"\ntolerance = \"2%\"\n",
+    );
+    let header = "kind,series,technology,tolerance,from,to,pack,price\n";
+    for (row, message) in [
+        (
+            "resistor,E24,metal_film,1%,1R,10M,100,10000000000.00\n",
+            "at most 1000000 per pack",
+        ),
+        (
+            "resistor,E24,metal_film,1%,1R,10M,4000000000,1.60\n",
+            "from 1 to 1000000",
+        ),
+    ] {
+        let prices = b.write("prices.csv", &format!("{header}{row}"));
+        b.run(&["reorder", text(&plan), "--prices", text(&prices)])
+            .code(2)
+            .stderr_has(message);
+    }
+}
