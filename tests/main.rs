@@ -13,5 +13,6 @@ mod holds;
 mod pictures;
 mod plan;
 mod reach;
+mod safety;
 mod stock;
 mod store_safety;

@@ -195,7 +195,7 @@ fn bad_input_of_every_kind_is_refused_and_changes_nothing() {
         (vec!["take".into(), "#999".into()], "no part #999"),
         (
             vec!["take".into(), "#1".into(), "--qty".into(), "0".into()],
-            "0 or more",
+            "take at least one piece",
         ),
         (
             vec!["recount".into(), "#1".into(), "-2".into()],

@@ -909,7 +909,7 @@ pub fn run(args: CheckArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resul
     let mut notes = Vec::new();
     let netlist_report = match &args.netlist {
         Some(path) => {
-            let report = write_netlist(&prep.stages, layout_of(args.form), path)?;
+            let report = write_netlist(&prep.stages, layout_of(args.form), path, &ctx.files())?;
             files.push(FileReport {
                 kind: "netlist",
                 path: report.path.clone(),
@@ -933,7 +933,7 @@ pub fn run(args: CheckArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resul
                 .collect(),
             samples: &samples,
         };
-        pictures.write(&mut files, &mut notes)?;
+        pictures.write(&ctx.files(), &mut files, &mut notes)?;
     }
     let report = Report {
         form: format!("{:?}", args.form).to_ascii_lowercase(),

@@ -15,6 +15,9 @@ pub struct Context {
     pub force: bool,
     /// How to draw tables and findings on stdout (boxes and colour on a terminal only).
     pub style: crate::report::style::Style,
+    /// A writer set up by an enclosing command (the demo: its own folder, the user's database
+    /// still protected); [`Context::files`] adds this context's database to it.
+    pub writer: Option<super::FileWriter>,
 }
 
 impl Context {
@@ -25,7 +28,22 @@ impl Context {
             .db
             .clone()
             .or_else(|| crate::store::Store::default_path().ok());
-        super::FileWriter::new(db.as_deref(), self.force)
+        match (&self.writer, db) {
+            (Some(w), Some(db)) => w.clone().protecting(&db),
+            (Some(w), None) => w.clone(),
+            (None, db) => super::FileWriter::new(db.as_deref(), self.force),
+        }
+    }
+
+    /// Refuse a user name that holds control characters or is too long (it goes into the
+    /// ledger and is printed by `show`).
+    pub fn check(&self) -> anyhow::Result<()> {
+        crate::store::text::check_field(
+            "the user name (--user)",
+            &self.user,
+            crate::store::text::MAX_NAME,
+        )
+        .map_err(anyhow::Error::msg)
     }
 
     /// Resolve the user from `--user`, else the OS user, else "unknown".
@@ -43,6 +61,7 @@ impl Context {
             json,
             force: false,
             style: crate::report::style::Style::PLAIN,
+            writer: None,
         }
     }
 }

@@ -4,7 +4,7 @@
 //! fills from the sample CSVs compiled into the binary, so the demo needs no set-up and never
 //! touches the user's own stock. Each step prints the command a user would type.
 
-use super::{Cli, Context, Status, dispatch};
+use super::{Cli, Context, FileWriter, Status, dispatch_with};
 use anyhow::{Context as _, Result};
 use clap::Parser as _;
 use std::io::Write;
@@ -19,7 +19,8 @@ const KIT: &str = include_str!("../../sample-stock/blinker-kit.toml");
 #[command(
     after_help = "Examples:\n  onhand demo\n  onhand demo --pictures /tmp/tour\n\n\
 The tour uses invented sample stock (a repair bench drawer and a makerspace cabinet) in a\n\
-throw-away database; your own stock database is not opened."
+throw-away database; your own stock database is not opened. Files of an earlier tour in the\n\
+folder are replaced; nothing outside it is."
 )]
 pub struct DemoArgs {
     /// Folder for the pictures, netlists and lists the tour writes.
@@ -35,6 +36,9 @@ struct Tour<'a> {
     step: usize,
     /// How the steps draw their tables (as the tour's own output).
     style: crate::report::style::Style,
+    /// Every file of the tour goes through this writer: it may replace files of an earlier tour
+    /// in the tour's own folder, and never writes onto the user's database.
+    writer: FileWriter,
     /// (real path, what to show instead) — the sample files live in a temporary folder.
     shown_as: Vec<(String, String)>,
 }
@@ -72,7 +76,7 @@ impl Tour<'_> {
         argv.extend(args.iter().map(|a| (*a).to_string()));
         let cli = Cli::try_parse_from(&argv)
             .with_context(|| format!("demo step {}: {}", self.step, args.join(" ")))?;
-        dispatch(cli, self.style, self.out)
+        dispatch_with(cli, self.style, self.out, Some(self.writer.clone()))
     }
 }
 
@@ -104,16 +108,18 @@ fn path_arg(p: &Path) -> String {
 pub fn run(args: DemoArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status> {
     let tmp = scratch()?;
     let dir = &args.pictures;
-    std::fs::create_dir_all(dir).with_context(|| format!("creating {}", dir.display()))?;
+    ctx.files().folder(dir)?;
     let dir = dir
         .canonicalize()
         .with_context(|| format!("resolving {}", dir.display()))?;
+    let writer = ctx.files().replacing_within(&dir);
     let drawer = tmp.0.join("bench-drawer.csv");
     let cabinet = tmp.0.join("makerspace-cabinet.csv");
     let kit = tmp.0.join("blinker-kit.toml");
-    std::fs::write(&drawer, BENCH_DRAWER)?;
-    std::fs::write(&cabinet, CABINET)?;
-    std::fs::write(&kit, KIT)?;
+    let scratch_files = ctx.files();
+    scratch_files.write(&drawer, BENCH_DRAWER.as_bytes())?;
+    scratch_files.write(&cabinet, CABINET.as_bytes())?;
+    scratch_files.write(&kit, KIT.as_bytes())?;
     let (drawer, cabinet, kit) = (path_arg(&drawer), path_arg(&cabinet), path_arg(&kit));
     let file = |name: &str| path_arg(&dir.join(name));
 
@@ -137,6 +143,7 @@ pub fn run(args: DemoArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status>
         user: ctx.user.clone(),
         step: 0,
         style: ctx.style,
+        writer: writer.clone(),
         shown_as: shown_as.clone(),
     };
     bench.step(
@@ -258,6 +265,7 @@ pub fn run(args: DemoArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status>
         user: ctx.user.clone(),
         step: bench.step,
         style: ctx.style,
+        writer,
         shown_as,
     };
     shop.step(

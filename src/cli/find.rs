@@ -178,7 +178,11 @@ pub fn run(args: FindArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status>
     let vcc = parse_voltage(&args.vcc).map_err(|e| anyhow!(e))?;
     let mut conditions = Conditions::ideal(vcc);
     conditions.diode_drop = parse_voltage(&args.diode_drop).map_err(|e| anyhow!(e))?;
-    let time_limit = parse_time(&args.time_limit).map_err(|e| anyhow!(e))?.si();
+    let time_limit = parse_time(&args.time_limit).map_err(|e| anyhow!(e))?;
+    if !time_limit.is_positive() {
+        bail!("--time-limit must be above zero");
+    }
+    let time_limit = time_limit.si();
     if !(args.voltage_margin.is_finite() && args.voltage_margin >= 1.0) {
         bail!("--voltage-margin must be 1 or more");
     }
@@ -250,6 +254,7 @@ pub fn run(args: FindArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status>
             netlist: args.netlist.as_deref(),
             pair: matches!(target, Target::Pair { .. }),
             series,
+            writer: ctx.files(),
         };
         files::write(&wanted, &goal, &settings, &parts, &outcome)?
     } else {
@@ -284,6 +289,8 @@ struct Wanted<'a> {
     /// The two stages are a pace astable triggering a width one-shot (else independent).
     pair: bool,
     series: Series,
+    /// The one safe writer for every file.
+    writer: super::FileWriter,
 }
 
 /// The files of `find --svg` and `--netlist`, through the helpers `check` uses.
@@ -473,7 +480,7 @@ mod files {
             _ => Layout::Dual,
         };
         if let Some(path) = w.netlist {
-            let report = write_netlist(&builts, layout, path)?;
+            let report = write_netlist(&builts, layout, path, &w.writer)?;
             written.files.push(FileReport {
                 kind: "netlist",
                 path: report.path.clone(),
@@ -542,7 +549,7 @@ mod files {
                 .collect(),
             samples: &samples,
         };
-        pictures.write(&mut written.files, &mut written.notes)?;
+        pictures.write(&w.writer, &mut written.files, &mut written.notes)?;
         Ok(written)
     }
 
@@ -587,11 +594,10 @@ mod files {
         let holes = fixes(parts, &req, &map, w.series, Duration::from_secs(3))
             .context("purchases for the reach picture")?;
         let title = super::super::reach::title_of(&map, &req);
-        std::fs::create_dir_all(dir)
-            .with_context(|| format!("creating folder {}", dir.display()))?;
+        w.writer.folder(dir)?;
         let path = dir.join("reach.svg");
-        std::fs::write(&path, super::super::reach::picture(&map, &holes, &title))
-            .with_context(|| format!("writing {}", path.display()))?;
+        let svg = super::super::reach::picture(&map, &holes, &title);
+        w.writer.write(&path, svg.as_bytes())?;
         written.files.push(FileReport {
             kind: "reach",
             path: path.display().to_string(),

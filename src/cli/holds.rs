@@ -5,7 +5,9 @@
 //! ([`Store::hold`], [`Store::release`], [`Store::use_held`]), and [`print_change`] shows the
 //! result; other commands (plans) call the same store functions and may reuse the printer.
 
-use super::stock::{Narrow, describe, low_warning, open_store, resolve_part};
+use super::stock::{
+    Narrow, describe, low_warning, open_for_writing, open_store, reason, resolve_part,
+};
 use super::{Context, Status};
 use crate::store::{Hold, HoldAction, HoldChange, HoldFilter, Part, Store};
 use anyhow::{Context as _, bail};
@@ -169,41 +171,39 @@ pub fn parse_items(
 }
 
 fn run_hold(a: HoldArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Result<Status> {
-    let mut store = open_store(ctx)?;
+    for (what, name) in [("--plan", &a.plan), ("--member", &a.member)] {
+        crate::store::text::check_field(what, name, crate::store::text::MAX_NAME)
+            .map_err(anyhow::Error::msg)?;
+    }
+    let why = reason(a.why, &format!("hold for {}", a.plan.trim()))?;
+    let mut store = open_for_writing(ctx)?;
     let items = parse_items(&store, &a.items, &a.narrow)?;
-    let why = a
-        .why
-        .unwrap_or_else(|| format!("hold for {}", a.plan.trim()));
     let change = store.hold(&a.plan, &a.member, &items, &ctx.user, &why)?;
     print_change(&change, ctx, out)?;
     Ok(Status::Success)
 }
 
 fn run_release(a: ReleaseArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Result<Status> {
-    let mut store = open_store(ctx)?;
+    let why = reason(a.why, &format!("release from {}", a.plan.trim()))?;
+    let mut store = open_for_writing(ctx)?;
     let parts = a
         .parts
         .iter()
         .map(|p| Ok(resolve_part(&store, p, &a.narrow)?.id))
         .collect::<anyhow::Result<Vec<i64>>>()?;
-    let why = a
-        .why
-        .unwrap_or_else(|| format!("release from {}", a.plan.trim()));
     let change = store.release(&a.plan, a.member.as_deref(), &parts, &ctx.user, &why)?;
     print_change(&change, ctx, out)?;
     Ok(Status::Success)
 }
 
 fn run_use(a: UseArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Result<Status> {
-    let mut store = open_store(ctx)?;
+    let why = reason(a.why, &format!("built for {}", a.plan.trim()))?;
+    let mut store = open_for_writing(ctx)?;
     let items = if a.items.is_empty() {
         None
     } else {
         Some(parse_items(&store, &a.items, &a.narrow)?)
     };
-    let why = a
-        .why
-        .unwrap_or_else(|| format!("built for {}", a.plan.trim()));
     let change = store.use_held(
         &a.plan,
         a.member.as_deref(),

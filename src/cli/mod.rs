@@ -235,6 +235,17 @@ pub(crate) fn dispatch(
     style: crate::report::style::Style,
     out: &mut dyn Write,
 ) -> anyhow::Result<Status> {
+    dispatch_with(cli, style, out, None)
+}
+
+/// [`dispatch`], with every file written through `writer` (plus the database's protection)
+/// when an enclosing command gives one.
+pub(crate) fn dispatch_with(
+    cli: Cli,
+    style: crate::report::style::Style,
+    out: &mut dyn Write,
+    writer: Option<FileWriter>,
+) -> anyhow::Result<Status> {
     let mut ctx = Context::new(cli.db, cli.user, cli.json);
     ctx.force = cli.force;
     ctx.style = if cli.json {
@@ -242,6 +253,8 @@ pub(crate) fn dispatch(
     } else {
         style
     };
+    ctx.writer = writer;
+    ctx.check()?;
     match cli.command {
         Command::Demo(args) => demo::run(args, &ctx, out),
         Command::Stock(cmd) => stock::run(cmd, &ctx, out),

@@ -4,6 +4,7 @@
 //! commands build ([`Built`]), where each file goes, and the list of files written; the pictures
 //! and the netlist text themselves are rendered by `report`.
 
+use super::FileWriter;
 use crate::report::netlist;
 use crate::report::pictures::{Histogram, Waveform};
 use crate::timing::tolerance::Samples;
@@ -118,11 +119,13 @@ fn single_measures(form: Form, tag: &str, analysis: usize) -> Vec<MeasureReport>
         .collect()
 }
 
-/// Write the SPICE netlist of `stages` laid out as `layout` to `path` (folders created).
+/// Write the SPICE netlist of `stages` laid out as `layout` to `path` (folders created) through
+/// the one safe writer.
 pub(super) fn write_netlist(
     stages: &[Built],
     layout: Layout,
     path: &Path,
+    writer: &FileWriter,
 ) -> anyhow::Result<NetlistReport> {
     let (text, measures) = match (layout, stages) {
         (Layout::Pair, [a, b]) => (
@@ -153,10 +156,9 @@ pub(super) fn write_netlist(
     };
     let text = text.context("writing the netlist")?;
     if let Some(parent) = path.parent().filter(|p| !p.as_os_str().is_empty()) {
-        std::fs::create_dir_all(parent)
-            .with_context(|| format!("creating folder {}", parent.display()))?;
+        writer.folder(parent)?;
     }
-    std::fs::write(path, text).with_context(|| format!("writing {}", path.display()))?;
+    writer.write(path, text.as_bytes())?;
     Ok(NetlistReport {
         path: path.display().to_string(),
         measures,
@@ -221,13 +223,14 @@ fn slug(label: &str) -> String {
 impl Pictures<'_> {
     fn save(
         &self,
+        writer: &FileWriter,
         name: &str,
         svg: &str,
         kind: &'static str,
         files: &mut Vec<FileReport>,
     ) -> anyhow::Result<()> {
         let path = self.dir.join(name);
-        std::fs::write(&path, svg).with_context(|| format!("writing {}", path.display()))?;
+        writer.write(&path, svg.as_bytes())?;
         files.push(FileReport {
             kind,
             path: path.display().to_string(),
@@ -235,14 +238,15 @@ impl Pictures<'_> {
         Ok(())
     }
 
-    /// Write every picture, listing each file in `files`; `notes` say what was left out.
+    /// Write every picture through `writer`, listing each file in `files`; `notes` say what was
+    /// left out.
     pub(super) fn write(
         &self,
+        writer: &FileWriter,
         files: &mut Vec<FileReport>,
         notes: &mut Vec<String>,
     ) -> anyhow::Result<()> {
-        std::fs::create_dir_all(self.dir)
-            .with_context(|| format!("creating folder {}", self.dir.display()))?;
+        writer.folder(self.dir)?;
         for (i, (label, _, _, built)) in self.circuits.iter().enumerate() {
             let prefix = if label.is_empty() {
                 String::new()
@@ -256,7 +260,7 @@ impl Pictures<'_> {
                     "waveform.svg".to_string()
                 };
                 let w = waveform_of(b).with_context(|| format!("drawing {name}"))?;
-                self.save(&name, &w.to_svg(), "waveform", files)?;
+                self.save(writer, &name, &w.to_svg(), "waveform", files)?;
             }
             let Some(a) = self.analysed.get(i) else {
                 continue;
@@ -345,7 +349,7 @@ impl Pictures<'_> {
                     h
                 };
                 let name = format!("histogram{prefix}-{}.svg", what.replace(' ', "-"));
-                self.save(&name, &h.to_svg(), "histogram", files)?;
+                self.save(writer, &name, &h.to_svg(), "histogram", files)?;
             }
         }
         Ok(())

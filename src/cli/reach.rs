@@ -427,12 +427,11 @@ pub fn run(args: ReachArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status
     let title = title_of(&map, &req);
     let mut files = Vec::new();
     if let Some(path) = &args.svg {
+        let writer = ctx.files();
         if let Some(parent) = path.parent().filter(|p| !p.as_os_str().is_empty()) {
-            std::fs::create_dir_all(parent)
-                .with_context(|| format!("creating folder {}", parent.display()))?;
+            writer.folder(parent)?;
         }
-        std::fs::write(path, picture(&map, &holes, &title))
-            .with_context(|| format!("writing {}", path.display()))?;
+        writer.write(path, picture(&map, &holes, &title).as_bytes())?;
         files.push(("reach".to_string(), path.display().to_string()));
     }
     if ctx.json {

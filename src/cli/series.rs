@@ -77,9 +77,16 @@ enum Request {
 
 fn read_value(text: &str, capacitor: bool) -> anyhow::Result<Value> {
     if capacitor {
-        return Ok(Value::Capacitance(parse_capacitance(text)?));
+        let c = parse_capacitance(text)?;
+        if !c.is_positive() {
+            anyhow::bail!("a capacitance must be above zero (got {text:?})");
+        }
+        return Ok(Value::Capacitance(c));
     }
     match parse_resistance(text) {
+        Ok(r) if !r.is_positive() => {
+            anyhow::bail!("a resistance must be above zero (got {text:?})")
+        }
         Ok(r) => Ok(Value::Resistance(r)),
         Err(e) => {
             if parse_capacitance(text).is_ok() {

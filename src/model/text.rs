@@ -111,9 +111,169 @@ pub fn infer_kind(text: &str) -> Kind {
     super::read::infer_kind(text)
 }
 
+/// Longest note, in characters (a note is a line about the part, not a document).
+pub const MAX_NOTE: usize = 500;
+/// Longest bin name, in characters.
+pub const MAX_BIN: usize = 40;
+/// Longest package or diode type, in characters.
+pub const MAX_PACKAGE: usize = 60;
+/// Longest value text (`4k7`, a colour code), in characters.
+pub const MAX_VALUE: usize = 80;
+/// Longest name (a user, a plan, a stage), in characters.
+pub const MAX_NAME: usize = 80;
+/// Longest reason for the ledger (`--why`), in characters.
+pub const MAX_REASON: usize = 200;
+/// Longest other short field (kind, tolerance, technology, ratings, low level), in characters.
+pub const MAX_SHORT: usize = 40;
+
+/// Characters that change what a terminal shows rather than showing themselves: every control
+/// character (C0 such as ESC, NUL, TAB and newline; DEL; C1) and the bidirectional overrides
+/// and isolates that reorder text on screen.
+pub fn is_unsafe_char(c: char) -> bool {
+    c.is_control() || matches!(c, '\u{202a}'..='\u{202e}' | '\u{2066}'..='\u{2069}')
+}
+
+/// Check one text field a person gave: no control characters, at most `max` characters.
+/// The message names the field and shows a short, escaped excerpt, never the whole input.
+pub fn check_field(what: &str, text: &str, max: usize) -> Result<(), String> {
+    if let Some((i, c)) = text.chars().enumerate().find(|&(_, c)| is_unsafe_char(c)) {
+        return Err(format!(
+            "{what} {} contains a control character ({}) at character {}; only printable text \
+             is stored",
+            excerpt(text),
+            c.escape_unicode(),
+            i + 1
+        ));
+    }
+    let n = text.chars().count();
+    if n > max {
+        return Err(format!(
+            "{what} is {n} characters long, at most {max} are stored ({})",
+            excerpt(text)
+        ));
+    }
+    Ok(())
+}
+
+/// At most this many characters of bad input are echoed in a message.
+const EXCERPT: usize = 32;
+
+/// A short, quoted, escaped excerpt of text for a message: `"4k7\u{1b}[2J…" (10240 characters)`.
+pub fn excerpt(text: &str) -> String {
+    let n = text.chars().count();
+    let head: String = text.chars().take(EXCERPT).collect();
+    let mut s = format!("\"{}", for_terminal(&head));
+    if n > EXCERPT {
+        s.push_str(&format!("…\" ({n} characters)"));
+    } else {
+        s.push('"');
+    }
+    s
+}
+
+/// Text as it may reach a terminal: every character of [`is_unsafe_char`] shown as an escape
+/// (`\u{1b}`, `\n`) instead of acting on the screen.
+pub fn for_terminal(text: &str) -> std::borrow::Cow<'_, str> {
+    if !text.chars().any(is_unsafe_char) {
+        return std::borrow::Cow::Borrowed(text);
+    }
+    let mut s = String::with_capacity(text.len() + 8);
+    for c in text.chars() {
+        if is_unsafe_char(c) {
+            s.extend(c.escape_default());
+        } else {
+            s.push(c);
+        }
+    }
+    std::borrow::Cow::Owned(s)
+}
+
+/// A capacitor's three-digit code with its optional tolerance letter (IEC 60062): `104`,
+/// `473J`, `102K`.
+fn is_capacitor_code(t: &str) -> bool {
+    let b = t.as_bytes();
+    matches!(b.len(), 3 | 4)
+        && b[..3].iter().all(u8::is_ascii_digit)
+        && b.get(3).is_none_or(|c| b"BCDFGJKMZ".contains(c))
+}
+
+/// Whether the text of a value, given for a part of `kind`, is written in the other kind's
+/// units: `4k7` or `10 Ω` for a capacitor, `100n` or `4.7 µF` for a resistor. A bare number or
+/// a capacitor code (`104`, `104K`) contradicts nothing.
+pub fn unit_contradicts(kind: Kind, text: &str) -> bool {
+    let t = text.trim();
+    match kind {
+        Kind::Resistor | Kind::Trimmer => infer_kind(t) == Kind::Capacitor,
+        Kind::Capacitor => {
+            let lower = t.to_lowercase();
+            let farad_like = t
+                .chars()
+                .any(|c| matches!(c, 'F' | 'f' | 'p' | 'n' | 'u' | 'µ' | 'μ'));
+            let ohm_like = t.contains('Ω')
+                || lower.contains("ohm")
+                || t.chars().any(|c| matches!(c, 'k' | 'R' | 'r' | 'G'))
+                || t.chars()
+                    .zip(t.chars().skip(1))
+                    .any(|(a, b)| matches!(a, 'K' | 'M') && b.is_ascii_digit());
+            ohm_like && !farad_like && !is_capacitor_code(t)
+        }
+        Kind::Diode => false,
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn control_characters_and_long_text_are_refused_with_an_excerpt() {
+        for bad in [
+            "a\u{1b}[2J",
+            "x\ny",
+            "t\tab",
+            "nul\0",
+            "\u{9b}31m",
+            "rtl\u{202e}gnp.exe",
+            "del\u{7f}",
+        ] {
+            let e = check_field("bin", bad, 40).expect_err(bad);
+            assert!(e.contains("control character"), "{e}");
+            assert!(
+                !e.chars().any(is_unsafe_char),
+                "the message itself is safe: {e:?}"
+            );
+        }
+        check_field("bin", "A3 – top shelf, µ parts", 40).expect("printable text is fine");
+        let long = "x".repeat(10_000);
+        let e = check_field("note", &long, 500).expect_err("long");
+        assert!(e.contains("10000 characters"), "{e}");
+        assert!(
+            e.len() < 200,
+            "only an excerpt is echoed: {} bytes",
+            e.len()
+        );
+        assert_eq!(for_terminal("ok"), "ok");
+        assert_eq!(for_terminal("a\u{1b}]0;x\u{7}b"), "a\\u{1b}]0;x\\u{7}b");
+        assert_eq!(for_terminal("l1\nl2"), "l1\\nl2");
+    }
+
+    #[test]
+    fn a_value_in_the_other_kind_s_units_is_noticed() {
+        for t in ["4k7", "10 Ω", "4R7", "1M5", "10 ohm", "2K2"] {
+            assert!(unit_contradicts(Kind::Capacitor, t), "{t}");
+        }
+        for t in [
+            "100n", "104", "104K", "473J", "4.7 µF", "10uF", "2200", "1F",
+        ] {
+            assert!(!unit_contradicts(Kind::Capacitor, t), "{t}");
+        }
+        for t in ["100n", "4.7 µF", "22p"] {
+            assert!(unit_contradicts(Kind::Resistor, t), "{t}");
+        }
+        for t in ["4k7", "470", "brown-black-red-gold", "0R22", "1M"] {
+            assert!(!unit_contradicts(Kind::Resistor, t), "{t}");
+        }
+    }
 
     #[test]
     fn exact_value_text() {

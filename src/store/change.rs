@@ -197,6 +197,7 @@ pub(crate) fn add_in(
     };
     let after = before
         .checked_add(qty)
+        .filter(|n| *n <= super::MAX_PIECES)
         .ok_or_else(|| StoreError::Overflow {
             label: text::value_text(spec.value),
         })?;

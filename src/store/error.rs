@@ -10,7 +10,7 @@ pub enum StoreError {
     #[error("no data directory on this system; give the database with --db PATH or ONHAND_DB")]
     NoDataDir,
     /// The folder for the database could not be created.
-    #[error("cannot create the folder {path}: {source}")]
+    #[error("cannot create the folder {}", path.display())]
     CreateDir {
         /// The folder.
         path: PathBuf,
@@ -18,12 +18,12 @@ pub enum StoreError {
         source: std::io::Error,
     },
     /// The database file could not be opened or set up.
-    #[error("cannot open the stock database {path}: {source}")]
+    #[error("cannot open the stock database {}: {reason}", path.display())]
     Open {
         /// The file.
         path: PathBuf,
-        /// Why.
-        source: rusqlite::Error,
+        /// Why, in SQLite's words.
+        reason: String,
     },
     /// The database was written by a newer onhand.
     #[error(
@@ -37,18 +37,37 @@ pub enum StoreError {
         known: i64,
     },
     /// A migration failed; the database stays at the version before it.
-    #[error("migration {version} ({name}) failed: {source}")]
+    #[error(
+        "updating the stock database to schema version {version} ({name}) failed: {reason}; \
+         the database was left at the version before it"
+    )]
     Migration {
         /// Its number.
         version: i64,
         /// Its file name.
         name: &'static str,
-        /// Why.
-        source: rusqlite::Error,
+        /// SQLite's message, without the statement text.
+        reason: String,
+    },
+    /// Another process holds the write lock longer than the busy timeout.
+    #[error("another onhand is writing to the stock database; try again")]
+    Busy,
+    /// SQLite found the file damaged.
+    #[error(
+        "the stock database{} is damaged ({detail}); nothing was written. Keep a copy of the \
+         file, then restore your last backup, or export what can still be read \
+         (`onhand export --out rescue.csv`) and import it into a new database",
+        if path.as_os_str().is_empty() { String::new() } else { format!(" {}", path.display()) }
+    )]
+    Damaged {
+        /// The file.
+        path: PathBuf,
+        /// The first lines of SQLite's own report.
+        detail: String,
     },
     /// Any other database failure.
     #[error("stock database: {0}")]
-    Sql(#[from] rusqlite::Error),
+    Sql(rusqlite::Error),
     /// A row in the database that this binary cannot read.
     #[error("stock database row #{id} is damaged: {reason}")]
     Corrupt {
@@ -143,8 +162,12 @@ pub enum StoreError {
         /// What was given.
         got: i64,
     },
-    /// A count that would not fit.
-    #[error("{label}: the count would overflow")]
+    /// A count that would pass the most pieces one row counts ([`super::MAX_PIECES`]).
+    #[error(
+        "{label}: the count would pass {} pieces, more than onhand counts in one row; nothing \
+         was changed",
+        super::MAX_PIECES
+    )]
     Overflow {
         /// The part in words.
         label: String,
@@ -158,6 +181,40 @@ pub enum StoreError {
     /// Import input with problems; every one is listed with its row and column.
     #[error("{}", render_row_errors(.0))]
     Import(Vec<RowError>),
+}
+
+impl From<rusqlite::Error> for StoreError {
+    /// A busy or damaged database gets its own message (once, not SQLite's text twice).
+    fn from(e: rusqlite::Error) -> Self {
+        match e.sqlite_error_code() {
+            Some(rusqlite::ErrorCode::DatabaseBusy | rusqlite::ErrorCode::DatabaseLocked) => {
+                StoreError::Busy
+            }
+            Some(rusqlite::ErrorCode::DatabaseCorrupt | rusqlite::ErrorCode::NotADatabase) => {
+                StoreError::Damaged {
+                    path: PathBuf::new(),
+                    detail: short_sql_error(&e),
+                }
+            }
+            _ => StoreError::Sql(e),
+        }
+    }
+}
+
+/// SQLite's message without the statement text it may carry (a migration's SQL is pages long).
+pub(crate) fn short_sql_error(e: &rusqlite::Error) -> String {
+    let text = match e {
+        rusqlite::Error::SqlInputError { msg, .. } => msg.clone(),
+        rusqlite::Error::SqliteFailure(f, Some(msg)) => format!("{msg} ({:?})", f.code),
+        other => other.to_string(),
+    };
+    let first = text.lines().next().unwrap_or("").to_string();
+    if first.chars().count() > 200 {
+        let head: String = first.chars().take(200).collect();
+        format!("{head}…")
+    } else {
+        first
+    }
 }
 
 /// One item of a hold or use that cannot be met, with the counts that decide it.

@@ -5,7 +5,9 @@
 //! `kind, value, tolerance, technology, volts, watts, package, bin, quantity, low, note`.
 //! A blank cell takes the default of the part's kind; `none` in `volts`, `watts` or `low` means
 //! "explicitly unknown / not set". CSV cells that a spreadsheet would run as a formula
-//! (starting with `=`, `+`, `-`, `@`) are written with a leading `'`, which import removes.
+//! (starting with `=`, `+`, `-`, `@`, or a TAB, CR or LF before one) are written with a leading
+//! `'`, which import removes. Both formats may start with a UTF-8 byte-order mark. A JSON
+//! object that names a column twice is refused, as a CSV header that does is.
 
 use super::part::Part;
 use super::query::{PART_COLUMNS, PART_ORDER, query_parts};
@@ -51,9 +53,66 @@ pub struct Record {
     pub quantity: Option<String>,
 }
 
-/// Whether a spreadsheet would treat a cell starting with this character as a formula.
+/// Whether a spreadsheet would treat a cell starting with this character as a formula (the
+/// usual list, common practice: OWASP "CSV injection"); TAB, CR and LF are included because
+/// spreadsheets skip them before a formula sign.
 fn is_formula_start(c: char) -> bool {
-    matches!(c, '=' | '+' | '-' | '@')
+    matches!(c, '=' | '+' | '-' | '@' | '\t' | '\r' | '\n')
+}
+
+/// Text without a leading UTF-8 byte-order mark (spreadsheets on some systems write one).
+fn without_bom(data: &str) -> &str {
+    data.strip_prefix('\u{feff}').unwrap_or(data)
+}
+
+/// Where a quoted CSV cell opens and never closes: (data row from 1, or 0 for the header;
+/// line of the file from 1). The CSV reader would silently read every later row into that
+/// cell, so the file is refused instead. Follows the reader's rules: a quote opens a cell only
+/// at its start, `""` inside is a quote, and blank lines are not rows.
+fn unterminated_quote(data: &str) -> Option<(usize, usize)> {
+    let (mut in_quote, mut at_start, mut has_content) = (false, true, false);
+    let (mut line, mut record) = (1usize, 0usize);
+    let mut opened = (0, 0);
+    let mut chars = data.chars().peekable();
+    while let Some(c) = chars.next() {
+        if in_quote {
+            match c {
+                '"' if chars.peek() == Some(&'"') => {
+                    chars.next();
+                }
+                '"' => in_quote = false,
+                '\n' => line += 1,
+                _ => {}
+            }
+            continue;
+        }
+        match c {
+            '"' if at_start => {
+                in_quote = true;
+                opened = (record, line);
+                at_start = false;
+                has_content = true;
+            }
+            ',' => {
+                at_start = true;
+                has_content = true;
+            }
+            '\n' => {
+                line += 1;
+                if has_content {
+                    record += 1;
+                }
+                has_content = false;
+                at_start = true;
+            }
+            '\r' => {}
+            _ => {
+                at_start = false;
+                has_content = true;
+            }
+        }
+    }
+    in_quote.then_some(opened)
 }
 
 /// Make a CSV cell safe to open in a spreadsheet: a leading `'` in front of a formula start
@@ -155,6 +214,18 @@ fn record_from_cells(row: usize, cells: [Option<String>; 11]) -> Record {
 /// Read CSV text into records. Structural problems (header, wrong number of cells) are all
 /// reported together; cell values are checked later, by the import.
 pub fn read_csv(data: &str) -> Result<Vec<Record>, StoreError> {
+    let data = without_bom(data);
+    if let Some((row, line)) = unterminated_quote(data) {
+        return Err(StoreError::Import(vec![RowError {
+            row,
+            column: None,
+            message: format!(
+                "a quoted cell opens here (line {line} of the file) and is never closed, so \
+                 every row after it would be read into that one cell; close the quote (\") or \
+                 remove it"
+            ),
+        }]));
+    }
     let mut rdr = csv::ReaderBuilder::new()
         .has_headers(true)
         .trim(csv::Trim::All)
@@ -216,8 +287,9 @@ pub fn read_json(data: &str) -> Result<Vec<Record>, StoreError> {
         column: column.map(str::to_string),
         message,
     };
-    let value: serde_json::Value = serde_json::from_str(data)
-        .map_err(|e| StoreError::Import(vec![one(0, None, format!("not valid JSON: {e}"))]))?;
+    let value = serde_json::from_str::<Strict>(without_bom(data))
+        .map_err(|e| StoreError::Import(vec![one(0, None, format!("not valid JSON: {e}"))]))?
+        .0;
     let serde_json::Value::Array(items) = value else {
         return Err(StoreError::Import(vec![one(
             0,
@@ -261,6 +333,71 @@ pub fn read_json(data: &str) -> Result<Vec<Record>, StoreError> {
         Ok(records)
     } else {
         Err(StoreError::Import(errors))
+    }
+}
+
+/// A JSON value read strictly: an object that names a key twice is an error (serde_json's own
+/// `Value` keeps the last one silently).
+struct Strict(serde_json::Value);
+
+impl<'de> serde::Deserialize<'de> for Strict {
+    fn deserialize<D: serde::Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        d.deserialize_any(StrictVisitor)
+    }
+}
+
+struct StrictVisitor;
+
+impl<'de> serde::de::Visitor<'de> for StrictVisitor {
+    type Value = Strict;
+
+    fn expecting(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str("a JSON value")
+    }
+    fn visit_bool<E>(self, v: bool) -> Result<Strict, E> {
+        Ok(Strict(v.into()))
+    }
+    fn visit_i64<E>(self, v: i64) -> Result<Strict, E> {
+        Ok(Strict(v.into()))
+    }
+    fn visit_u64<E>(self, v: u64) -> Result<Strict, E> {
+        Ok(Strict(v.into()))
+    }
+    fn visit_f64<E>(self, v: f64) -> Result<Strict, E> {
+        Ok(Strict(v.into()))
+    }
+    fn visit_str<E>(self, v: &str) -> Result<Strict, E> {
+        Ok(Strict(v.into()))
+    }
+    fn visit_string<E>(self, v: String) -> Result<Strict, E> {
+        Ok(Strict(v.into()))
+    }
+    fn visit_unit<E>(self) -> Result<Strict, E> {
+        Ok(Strict(serde_json::Value::Null))
+    }
+    fn visit_none<E>(self) -> Result<Strict, E> {
+        Ok(Strict(serde_json::Value::Null))
+    }
+    fn visit_seq<A: serde::de::SeqAccess<'de>>(self, mut seq: A) -> Result<Strict, A::Error> {
+        let mut items = Vec::new();
+        while let Some(Strict(v)) = seq.next_element()? {
+            items.push(v);
+        }
+        Ok(Strict(serde_json::Value::Array(items)))
+    }
+    fn visit_map<A: serde::de::MapAccess<'de>>(self, mut map: A) -> Result<Strict, A::Error> {
+        let mut obj = serde_json::Map::new();
+        while let Some(key) = map.next_key::<String>()? {
+            if obj.contains_key(&key) {
+                return Err(serde::de::Error::custom(format!(
+                    "the key {} appears twice in one object",
+                    text::excerpt(&key)
+                )));
+            }
+            let Strict(v) = map.next_value()?;
+            obj.insert(key, v);
+        }
+        Ok(Strict(serde_json::Value::Object(obj)))
     }
 }
 
@@ -350,6 +487,12 @@ mod tests {
             assert_eq!(restore_cell(&safe), cell, "round trip of {cell:?}");
         }
         assert_eq!(neutralise_cell("=1+1"), "'=1+1");
+        // Spreadsheets skip TAB, CR and LF before a formula sign.
+        for cell in ["\t=1+1", "\r@SUM(1)", "\n+1", "'\t=x"] {
+            let safe = neutralise_cell(cell);
+            assert!(safe.starts_with('\''), "{cell:?} → {safe:?}");
+            assert_eq!(restore_cell(&safe), cell, "round trip of {cell:?}");
+        }
         assert_eq!(neutralise_cell("plain"), "plain");
     }
 
@@ -371,6 +514,45 @@ mod tests {
         };
         // The spreadsheet's numbering: header row 1, so the short row is row 3.
         assert_eq!(errs[0].row, 3);
+    }
+
+    #[test]
+    fn an_unterminated_quote_is_refused_naming_its_row() {
+        let csv = "value,quantity,note\n4k7,5,ok\n1k,2,\"unterminated\n2k2,3,ok\n";
+        let Err(StoreError::Import(errs)) = read_csv(csv) else {
+            panic!("must be refused");
+        };
+        assert_eq!(errs[0].row, 2);
+        assert!(errs[0].message.contains("line 3"), "{errs:?}");
+        // A closed quote with a doubled quote and a comma inside is fine.
+        let ok = read_csv("value,quantity,note\n4k7,5,\"say \"\"hi\"\", ok\"\n\n1k,2,x\n")
+            .expect("closed");
+        assert_eq!(ok.len(), 2);
+        assert_eq!(ok[0].part.note.as_deref(), Some("say \"hi\", ok"));
+        assert_eq!(unterminated_quote("a,b\n\n1,\"x\n"), Some((1, 3)));
+    }
+
+    #[test]
+    fn a_byte_order_mark_is_accepted_in_both_formats() {
+        let r = read_csv("\u{feff}value,quantity\n4k7,5\n").expect("csv with BOM");
+        assert_eq!(r[0].part.value, "4k7");
+        let r = read_json("\u{feff}[{\"value\":\"1k\",\"quantity\":1}]").expect("json with BOM");
+        assert_eq!(r[0].part.value, "1k");
+    }
+
+    #[test]
+    fn a_json_key_given_twice_is_refused() {
+        let Err(StoreError::Import(errs)) =
+            read_json(r#"[{"value":"1k","quantity":1,"quantity":500}]"#)
+        else {
+            panic!("duplicate key must be refused");
+        };
+        assert!(errs[0].message.contains("appears twice"), "{errs:?}");
+        let Err(StoreError::Import(_)) =
+            read_json(r#"[{"value":"1k","quantity":1,"note":{"a":1,"a":2}}]"#)
+        else {
+            panic!("nested duplicate key must be refused");
+        };
     }
 
     #[test]

@@ -53,9 +53,16 @@ fn resolve(records: &[Record]) -> Result<Vec<(usize, PartSpec, i64)>, StoreError
         let qty = match r.quantity.as_deref() {
             None => Err("a quantity is required".to_string()),
             Some(q) => match q.parse::<i64>() {
+                Ok(n) if n > super::MAX_PIECES => Err(format!(
+                    "{n} pieces is more than onhand counts in one row (at most {})",
+                    super::MAX_PIECES
+                )),
                 Ok(n) if n >= 0 => Ok(n),
                 Ok(n) => Err(format!("the quantity must be 0 or more (got {n})")),
-                Err(_) => Err(format!("cannot read {q:?} as a whole number of pieces")),
+                Err(_) => Err(format!(
+                    "cannot read {} as a whole number of pieces",
+                    super::text::excerpt(q)
+                )),
             },
         };
         match (spec, qty) {
@@ -92,6 +99,29 @@ impl Store {
         dry_run: bool,
     ) -> Result<ImportReport, StoreError> {
         let specs = resolve(records)?;
+        if dry_run {
+            // A dry run works on a private copy taken under a read lock only (`VACUUM INTO`),
+            // so it never holds the write lock other processes are waiting for, and reports
+            // exactly what the real import would do, row ids included.
+            let copy = Scratch::new()?;
+            self.conn
+                .execute("VACUUM INTO ?1", [copy.0.to_string_lossy().as_ref()])?;
+            let mut scratch = Store::open(&copy.0)?;
+            let report = scratch.apply_import(&specs, source, who, true);
+            drop(scratch);
+            return report;
+        }
+        self.apply_import(&specs, source, who, false)
+    }
+
+    /// Apply resolved rows in one IMMEDIATE transaction; roll it back when `dry_run`.
+    fn apply_import(
+        &mut self,
+        specs: &[(usize, PartSpec, i64)],
+        source: &str,
+        who: &str,
+        dry_run: bool,
+    ) -> Result<ImportReport, StoreError> {
         let tx = self
             .conn
             .transaction_with_behavior(TransactionBehavior::Immediate)?;
@@ -103,7 +133,7 @@ impl Store {
             topped_up: 0,
             pieces: 0,
         };
-        for (row, spec, qty) in &specs {
+        for (row, spec, qty) in specs {
             let why = format!("import {source} row {row}");
             let change = add_in(&tx, spec, *qty, who, &why).map_err(|e| match e {
                 StoreError::Sql(_) => e,
@@ -127,6 +157,38 @@ impl Store {
             tx.commit()?;
         }
         Ok(report)
+    }
+}
+
+/// A throw-away database file for a dry run, removed (with its companions) on drop.
+struct Scratch(std::path::PathBuf);
+
+impl Scratch {
+    fn new() -> Result<Self, StoreError> {
+        use std::sync::atomic::{AtomicU32, Ordering};
+        static NEXT: AtomicU32 = AtomicU32::new(0);
+        let base = std::env::temp_dir();
+        for _ in 0..100 {
+            let n = NEXT.fetch_add(1, Ordering::Relaxed);
+            let p = base.join(format!("onhand-dry-run-{}-{n}.db", std::process::id()));
+            if !p.exists() {
+                return Ok(Scratch(p));
+            }
+        }
+        Err(StoreError::Invalid(format!(
+            "cannot find a free name for a dry-run copy in {}",
+            base.display()
+        )))
+    }
+}
+
+impl Drop for Scratch {
+    fn drop(&mut self) {
+        for suffix in ["", "-wal", "-shm", "-journal"] {
+            let mut s = self.0.as_os_str().to_owned();
+            s.push(suffix);
+            let _ = std::fs::remove_file(std::path::PathBuf::from(s));
+        }
     }
 }
 

@@ -57,10 +57,10 @@ pub fn apply(conn: &mut Connection) -> Result<(), StoreError> {
         if now >= m.version {
             continue; // someone else applied it meanwhile
         }
-        let fail = |source| StoreError::Migration {
+        let fail = |source: rusqlite::Error| StoreError::Migration {
             version: m.version,
             name: m.name,
-            source,
+            reason: super::error::short_sql_error(&source),
         };
         tx.execute_batch(m.sql).map_err(fail)?;
         tx.pragma_update(None, "user_version", m.version)

@@ -34,6 +34,15 @@ use std::time::Duration;
 /// How long a writer waits for another process's transaction before giving up.
 const BUSY_TIMEOUT: Duration = Duration::from_secs(5);
 
+/// The most pieces one row counts: a sanity cap (our choice, far above any real drawer or
+/// warehouse bin) so that sums over many rows stay exact and a typo of extra digits is caught.
+pub const MAX_PIECES: i64 = 1_000_000_000;
+
+/// How long opening waits, in all, when other processes are creating or migrating the same
+/// file at the same moment (switching to WAL and the first migration need a brief lock that
+/// SQLite does not always wait for).
+const OPEN_PATIENCE: Duration = Duration::from_secs(10);
+
 /// An open stock database.
 pub struct Store {
     conn: Connection,
@@ -64,9 +73,70 @@ impl Store {
                 source,
             })?;
         }
-        let open_err = |source| StoreError::Open {
-            path: path.to_path_buf(),
-            source,
+        let started = std::time::Instant::now();
+        let mut pause = Duration::from_millis(5);
+        loop {
+            match Self::open_once(path) {
+                Err(StoreError::Busy) if started.elapsed() < OPEN_PATIENCE => {
+                    std::thread::sleep(pause);
+                    pause = (pause * 2).min(Duration::from_millis(200));
+                }
+                other => return other,
+            }
+        }
+    }
+
+    /// [`Store::open`], then SQLite's quick consistency check (`PRAGMA quick_check`), for a
+    /// command that is about to write: a damaged file is refused with advice before anything
+    /// is written to it.
+    pub fn open_for_writing(path: &Path) -> Result<Store, StoreError> {
+        let store = Self::open(path)?;
+        store.quick_check()?;
+        Ok(store)
+    }
+
+    /// SQLite's quick check (pages, cells, order; not the index contents); an error naming the
+    /// damage when it finds any.
+    pub fn quick_check(&self) -> Result<(), StoreError> {
+        let damaged = |detail: String| StoreError::Damaged {
+            path: self.path.clone(),
+            detail,
+        };
+        let lines: Vec<String> =
+            match self
+                .conn
+                .prepare("PRAGMA quick_check(3)")
+                .and_then(|mut st| {
+                    st.query_map([], |r| r.get(0))?
+                        .collect::<Result<Vec<String>, _>>()
+                }) {
+                Ok(l) => l,
+                Err(e) => {
+                    return Err(match StoreError::from(e) {
+                        StoreError::Damaged { detail, .. } => damaged(detail),
+                        other => other,
+                    });
+                }
+            };
+        if lines.len() == 1 && lines[0] == "ok" {
+            return Ok(());
+        }
+        Err(damaged(format!("SQLite's check: {}", lines.join("; "))))
+    }
+
+    /// One attempt at opening; [`StoreError::Busy`] when another process holds the lock.
+    fn open_once(path: &Path) -> Result<Store, StoreError> {
+        let open_err = |source: rusqlite::Error| match StoreError::from(source) {
+            StoreError::Busy => StoreError::Busy,
+            StoreError::Damaged { detail, .. } => StoreError::Damaged {
+                path: path.to_path_buf(),
+                detail,
+            },
+            StoreError::Sql(e) => StoreError::Open {
+                path: path.to_path_buf(),
+                reason: error::short_sql_error(&e),
+            },
+            other => other,
         };
         let mut conn = Connection::open(path).map_err(open_err)?;
         conn.busy_timeout(BUSY_TIMEOUT).map_err(open_err)?;
@@ -75,13 +145,20 @@ impl Store {
             .pragma_update_and_check(None, "journal_mode", "WAL", |r| r.get(0))
             .map_err(open_err)?;
         if !mode.eq_ignore_ascii_case("wal") && !mode.eq_ignore_ascii_case("memory") {
-            return Err(open_err(rusqlite::Error::InvalidParameterName(format!(
-                "journal_mode stayed {mode}"
-            ))));
+            return Err(StoreError::Open {
+                path: path.to_path_buf(),
+                reason: format!("journal_mode stayed {mode}"),
+            });
         }
         conn.pragma_update(None, "foreign_keys", "ON")
             .map_err(open_err)?;
-        migrate::apply(&mut conn)?;
+        migrate::apply(&mut conn).map_err(|e| match e {
+            StoreError::Damaged { detail, .. } => StoreError::Damaged {
+                path: path.to_path_buf(),
+                detail,
+            },
+            other => other,
+        })?;
         Ok(Store {
             conn,
             path: path.to_path_buf(),

@@ -54,6 +54,10 @@ pub enum Field {
     Package,
     /// `low`
     Low,
+    /// `bin`
+    Bin,
+    /// `note`
+    Note,
 }
 
 impl Field {
@@ -68,6 +72,8 @@ impl Field {
             Field::Watts => "watts",
             Field::Package => "package",
             Field::Low => "low",
+            Field::Bin => "bin",
+            Field::Note => "note",
         }
     }
 
@@ -82,6 +88,8 @@ impl Field {
             Field::Watts => "--watts",
             Field::Package => "--package",
             Field::Low => "--low",
+            Field::Bin => "--bin",
+            Field::Note => "--note",
         }
     }
 }
@@ -221,8 +229,43 @@ pub fn technology_fits(kind: Kind, tech: Technology) -> bool {
 }
 
 impl PartText {
+    /// Every field's text checked before it is read: no control characters, no more than the
+    /// field's cap (see `text::MAX_*`). A field that fails is reported with a short excerpt and
+    /// not read further, so a huge or hostile cell is never echoed or parsed whole.
+    fn check_texts(&self) -> Vec<FieldError> {
+        let fields: [(Field, Option<&str>, usize); 10] = [
+            (Field::Kind, self.kind.as_deref(), text::MAX_SHORT),
+            (Field::Value, Some(self.value.as_str()), text::MAX_VALUE),
+            (Field::Tolerance, self.tolerance.as_deref(), text::MAX_SHORT),
+            (
+                Field::Technology,
+                self.technology.as_deref(),
+                text::MAX_SHORT,
+            ),
+            (Field::Volts, self.volts.as_deref(), text::MAX_SHORT),
+            (Field::Watts, self.watts.as_deref(), text::MAX_SHORT),
+            (Field::Package, self.package.as_deref(), text::MAX_PACKAGE),
+            (Field::Bin, self.bin.as_deref(), text::MAX_BIN),
+            (Field::Low, self.low.as_deref(), text::MAX_SHORT),
+            (Field::Note, self.note.as_deref(), text::MAX_NOTE),
+        ];
+        fields
+            .into_iter()
+            .filter_map(|(field, t, max)| {
+                let t = t?;
+                text::check_field(&format!("the {}", field.column()), t, max)
+                    .err()
+                    .map(|message| FieldError { field, message })
+            })
+            .collect()
+    }
+
     /// Resolve into a complete description, filling defaults; every problem is returned.
     pub fn resolve(&self) -> Result<PartSpec, Vec<FieldError>> {
+        let unsafe_text = self.check_texts();
+        if !unsafe_text.is_empty() {
+            return Err(unsafe_text);
+        }
         let mut errors = Vec::new();
         let mut fail = |field: Field, message: String| errors.push(FieldError { field, message });
         let value_text = self.value.trim();
@@ -242,6 +285,18 @@ impl PartText {
             Kind::Diode => Value::None,
             _ if value_text.is_empty() => {
                 fail(Field::Value, "a value is required".into());
+                Value::None
+            }
+            _ if text::unit_contradicts(kind, value_text) => {
+                fail(
+                    Field::Value,
+                    format!(
+                        "{} is written as a {} value, but the kind is {kind}; fix the value or \
+                         the kind",
+                        text::excerpt(value_text),
+                        text::infer_kind(value_text)
+                    ),
+                );
                 Value::None
             }
             Kind::Resistor | Kind::Trimmer => match units::parse_resistance(value_text) {
@@ -480,6 +535,28 @@ mod tests {
             ..Default::default()
         };
         assert!(t.resolve().is_err());
+    }
+
+    #[test]
+    fn unsafe_or_contradicting_text_is_refused_by_field() {
+        let t = PartText {
+            value: "4k7".into(),
+            kind: Some("capacitor".into()),
+            ..Default::default()
+        };
+        let errs = t.resolve().expect_err("4k7 is not a capacitance");
+        assert_eq!(errs[0].field, Field::Value);
+        assert!(errs[0].message.contains("resistor value"), "{:?}", errs);
+        let t = PartText {
+            value: "1k".into(),
+            bin: Some("A1\u{1b}[2J".into()),
+            note: Some("x".repeat(100_000)),
+            ..Default::default()
+        };
+        let errs = t.resolve().expect_err("unsafe");
+        let fields: Vec<Field> = errs.iter().map(|e| e.field).collect();
+        assert_eq!(fields, vec![Field::Bin, Field::Note]);
+        assert!(errs.iter().all(|e| e.message.len() < 300), "{errs:?}");
     }
 
     #[test]

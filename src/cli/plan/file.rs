@@ -230,6 +230,12 @@ pub fn parse_duty(text: &str) -> Result<(Ratio, Ratio), PlanFileError> {
 pub fn parse_plan(text: &str) -> Result<PlanSpec, PlanFileError> {
     let raw: RawPlan =
         toml::from_str(text).map_err(|e| PlanFileError(format!("plan file: {e}")))?;
+    crate::store::text::check_field(
+        "the plan's `name`",
+        raw.name.trim(),
+        crate::store::text::MAX_NAME,
+    )
+    .map_err(|e| PlanFileError(format!("plan file: {e}")))?;
     if raw.name.trim().is_empty() {
         return Err(PlanFileError("plan file: `name` must not be empty".into()));
     }
@@ -256,7 +262,18 @@ pub fn parse_plan(text: &str) -> Result<PlanSpec, PlanFileError> {
     let default_pieces = raw.pieces.unwrap_or(3);
     let mut stages = Vec::new();
     for (i, s) in raw.stages.iter().enumerate() {
-        let name = s.name.clone().unwrap_or_else(|| format!("stage {}", i + 1));
+        let name = match s.name.as_deref().map(str::trim) {
+            Some("") | None => format!("stage {}", i + 1),
+            Some(given) => {
+                crate::store::text::check_field(
+                    "a stage name",
+                    given,
+                    crate::store::text::MAX_NAME,
+                )
+                .map_err(|e| PlanFileError(format!("plan file: stage {}: {e}", i + 1)))?;
+                given.to_string()
+            }
+        };
         let n = name.as_str();
         let target = match s.form.trim().to_ascii_lowercase().as_str() {
             "value" => {

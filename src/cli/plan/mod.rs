@@ -180,6 +180,8 @@ fn load_plan(src: &PlanSource) -> Result<PlanSpec> {
                     })
                 })
                 .collect::<Result<Vec<_>>>()?;
+            crate::store::text::check_field("--name", &src.name, crate::store::text::MAX_NAME)
+                .map_err(anyhow::Error::msg)?;
             PlanSpec {
                 name: src.name.clone(),
                 units: 1,
@@ -190,8 +192,8 @@ fn load_plan(src: &PlanSource) -> Result<PlanSpec> {
         }
     };
     if let Some(u) = src.units {
-        if u == 0 {
-            bail!("--units must be at least 1");
+        if u == 0 || u > 10_000 {
+            bail!("--units must be 1 … 10000 (as in a plan file), not {u}");
         }
         spec.units = u;
     }
@@ -320,7 +322,7 @@ fn run_plan(args: PlanArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status
         if args.source.stock.is_some() {
             bail!("--hold needs the stock database: holds cannot be kept in a --stock CSV");
         }
-        let mut store = super::stock::open_store(ctx)?;
+        let mut store = super::stock::open_for_writing(ctx)?;
         let items: Vec<(i64, i64)> = answer
             .takes
             .iter()
@@ -558,20 +560,22 @@ fn offers_as_parts(
 }
 
 /// Write a CSV list for a spreadsheet, neutralising every cell a spreadsheet would run as a
-/// formula (see `store::neutralise_cell`).
+/// formula (see `store::neutralise_cell`), through the one safe writer (`ctx.files()`).
 fn write_safe_csv(
+    ctx: &Context,
     path: &Path,
     header: &[&str],
     rows: impl Iterator<Item = Vec<String>>,
 ) -> Result<()> {
-    let mut w =
-        csv::Writer::from_path(path).with_context(|| format!("writing {}", path.display()))?;
+    let mut w = csv::Writer::from_writer(Vec::new());
     w.write_record(header)?;
     for cells in rows {
         w.write_record(cells.iter().map(|c| crate::store::neutralise_cell(c)))?;
     }
-    w.flush()?;
-    Ok(())
+    let bytes = w
+        .into_inner()
+        .map_err(|e| anyhow::anyhow!("building {}: {e}", path.display()))?;
+    ctx.files().write(path, &bytes)
 }
 
 fn money(cents: u64) -> String {
@@ -654,7 +658,7 @@ fn run_reorder(args: ReorderArgs, ctx: &Context, out: &mut dyn Write) -> Result<
                 pack_size: o.pack,
                 pieces_needed: used,
                 price_per_pack: money(o.price_cents),
-                cost: money(o.price_cents * u64::from(packs)),
+                cost: money(o.price_cents.saturating_mul(u64::from(packs))),
                 serves: serves.join("; "),
             }
         })
@@ -676,6 +680,7 @@ fn run_reorder(args: ReorderArgs, ctx: &Context, out: &mut dyn Write) -> Result<
             ]
         });
         write_safe_csv(
+            ctx,
             path,
             &[
                 "kind",
@@ -849,6 +854,7 @@ fn low_list(args: &ReorderArgs, ctx: &Context, out: &mut dyn Write) -> Result<St
             ]
         });
         write_safe_csv(
+            ctx,
             path,
             &[
                 "id",

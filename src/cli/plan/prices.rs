@@ -38,6 +38,12 @@ pub struct Offer {
 #[error("{0}")]
 pub struct PriceError(pub String);
 
+/// The most pieces in one pack (a sanity cap of ours: a reel of a million).
+const MAX_PACK: u32 = 1_000_000;
+/// The highest price of one pack, in cents (a sanity cap of ours: a million), so that a price
+/// times any number of packs a plan buys stays exact.
+const MAX_PRICE_CENTS: u64 = 100_000_000;
+
 fn cents(text: &str) -> Option<u64> {
     let t = text.trim();
     let (int, frac) = t.split_once('.').unwrap_or((t, ""));
@@ -112,14 +118,31 @@ pub fn parse_prices(text: &str, only: Option<&[Series]>) -> Result<Vec<Offer>, P
             .parse()
             .map_err(|e: crate::store::part::UnknownName| bad(2, e.to_string()))?;
         let tolerance = units::parse_tolerance(cell(3)).map_err(|e| bad(3, e.to_string()))?;
-        let pack: u32 = cell(6).parse().ok().filter(|p| *p > 0).ok_or_else(|| {
-            bad(
-                6,
-                format!("{:?} is not a whole number of pieces above zero", cell(6)),
-            )
-        })?;
+        let pack: u32 = cell(6)
+            .parse()
+            .ok()
+            .filter(|p| (1..=MAX_PACK).contains(p))
+            .ok_or_else(|| {
+                bad(
+                    6,
+                    format!(
+                        "{} is not a whole number of pieces from 1 to {MAX_PACK}",
+                        crate::store::text::excerpt(cell(6))
+                    ),
+                )
+            })?;
         let price = cents(cell(7))
-            .ok_or_else(|| bad(7, format!("{:?} is not a price such as 1.80", cell(7))))?;
+            .filter(|c| *c <= MAX_PRICE_CENTS)
+            .ok_or_else(|| {
+                bad(
+                    7,
+                    format!(
+                        "{} is not a price such as 1.80 (at most {} per pack)",
+                        crate::store::text::excerpt(cell(7)),
+                        MAX_PRICE_CENTS / 100
+                    ),
+                )
+            })?;
         let values: Vec<Value> = match kind {
             Kind::Resistor => {
                 let lo: Ohms =

@@ -1,6 +1,6 @@
 //! `onhand add`: put parts into stock.
 
-use super::{Context, Status, describe, open_store};
+use super::{Context, Status, describe};
 use crate::store::{PartText, spec::FieldError};
 use anyhow::bail;
 use std::io::Write;
@@ -88,15 +88,10 @@ pub fn run(a: AddArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Result<Sta
         Ok(s) => s,
         Err(errs) => bail!("{}", field_errors(&errs)),
     };
-    if a.qty < 0 {
-        bail!(
-            "--qty must be 0 or more (got {}); use `onhand take` to remove parts",
-            a.qty
-        );
-    }
-    let mut store = open_store(ctx)?;
-    let why = a.why.unwrap_or_else(|| "add".to_string());
-    let change = store.add(&spec, a.qty, &ctx.user, &why)?;
+    let qty = super::pieces("--qty", a.qty, 0, "use `onhand take` to remove parts")?;
+    let why = super::reason(a.why, "add")?;
+    let mut store = super::open_for_writing(ctx)?;
+    let change = store.add(&spec, qty, &ctx.user, &why)?;
     if ctx.json {
         writeln!(out, "{}", serde_json::to_string(&change)?)?;
         return Ok(Status::Success);

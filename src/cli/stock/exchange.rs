@@ -1,6 +1,6 @@
 //! `onhand import` and `onhand export`: stock to and from CSV or JSON files.
 
-use super::{Context, Status, describe, open_store};
+use super::{Context, Status, describe, open_for_writing, open_store};
 use crate::store::{ExportFormat, export, read_csv, read_json};
 use anyhow::{Context as _, bail};
 use std::io::Write;
@@ -57,6 +57,64 @@ pub struct ExportArgs {
     pub out: Option<PathBuf>,
 }
 
+/// The largest import file read (our cap: a 200 000-row stock is about 15 MB). A bigger file is
+/// refused before it is read, so a runaway cell cannot fill the memory.
+const MAX_IMPORT_BYTES: u64 = 64 * 1024 * 1024;
+
+/// Read an import file of at most [`MAX_IMPORT_BYTES`], never more than that into memory.
+/// Standard input, with the same size cap as a file.
+fn read_capped_stdin() -> anyhow::Result<String> {
+    use std::io::Read as _;
+    let mut bytes = Vec::new();
+    std::io::stdin()
+        .take(MAX_IMPORT_BYTES + 1)
+        .read_to_end(&mut bytes)
+        .context("reading standard input")?;
+    if bytes.len() as u64 > MAX_IMPORT_BYTES {
+        anyhow::bail!(
+            "standard input is larger than {} MB, more than onhand imports at once; split it into \
+             smaller files",
+            MAX_IMPORT_BYTES / (1024 * 1024)
+        );
+    }
+    String::from_utf8(bytes).map_err(|e| {
+        anyhow::anyhow!(
+            "standard input is not UTF-8 text (byte {} is not valid); save it as UTF-8 CSV or JSON",
+            e.utf8_error().valid_up_to() + 1
+        )
+    })
+}
+
+fn read_capped(path: &std::path::Path) -> anyhow::Result<String> {
+    use std::io::Read as _;
+    let too_big = || {
+        anyhow::anyhow!(
+            "{} is larger than {} MB, more than onhand imports at once; split it into smaller \
+             files",
+            path.display(),
+            MAX_IMPORT_BYTES / (1024 * 1024)
+        )
+    };
+    let file = std::fs::File::open(path).with_context(|| format!("reading {}", path.display()))?;
+    if file.metadata().is_ok_and(|m| m.len() > MAX_IMPORT_BYTES) {
+        return Err(too_big());
+    }
+    let mut bytes = Vec::new();
+    file.take(MAX_IMPORT_BYTES + 1)
+        .read_to_end(&mut bytes)
+        .with_context(|| format!("reading {}", path.display()))?;
+    if bytes.len() as u64 > MAX_IMPORT_BYTES {
+        return Err(too_big());
+    }
+    String::from_utf8(bytes).map_err(|e| {
+        anyhow::anyhow!(
+            "{} is not UTF-8 text (byte {} is not valid); save it as UTF-8 CSV or JSON",
+            path.display(),
+            e.utf8_error().valid_up_to() + 1
+        )
+    })
+}
+
 /// At most this many per-row lines are printed; the rest are summarised.
 const SHOWN_LINES: usize = 40;
 
@@ -65,9 +123,9 @@ pub fn run_import(a: ImportArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::
     // `-` is standard input (CSV unless --format json), as in most tools.
     let stdin = a.file.as_os_str() == "-";
     let data = if stdin {
-        std::io::read_to_string(std::io::stdin()).context("reading standard input")?
+        read_capped_stdin()?
     } else {
-        std::fs::read_to_string(&a.file).with_context(|| format!("reading {}", a.file.display()))?
+        read_capped(&a.file)?
     };
     let format = a.format.unwrap_or_else(|| {
         let is_json = a
@@ -92,7 +150,13 @@ pub fn run_import(a: ImportArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::
     if records.is_empty() {
         bail!("{} has no data rows", a.file.display());
     }
-    let mut store = open_store(ctx)?;
+    // A dry run only reads (the store copies itself under a read lock); a real import checks
+    // the file's consistency before writing.
+    let mut store = if a.dry_run {
+        open_store(ctx)?
+    } else {
+        open_for_writing(ctx)?
+    };
     let report = store
         .import(&records, &name, &ctx.user, a.dry_run)
         .with_context(|| format!("importing {}", a.file.display()))?;
@@ -160,7 +224,7 @@ pub fn run_export(a: ExportArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::
     let (text, n) = export(&store, format)?;
     match &a.out {
         Some(path) => {
-            std::fs::write(path, &text).with_context(|| format!("writing {}", path.display()))?;
+            ctx.files().write(path, text.as_bytes())?;
             if ctx.json {
                 let v = serde_json::json!({
                     "schema": crate::report::style::JSON_SCHEMA,

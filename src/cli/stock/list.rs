@@ -110,16 +110,22 @@ pub fn table(parts: &[Part]) -> Table {
             crate::model::read::tolerance_cell(p.kind, p.tolerance),
             p.technology.label().to_string(),
             rating(p),
-            p.package.clone(),
-            p.bin.clone(),
+            safe(&p.package),
+            safe(&p.bin),
             p.quantity.to_string(),
             p.held.to_string(),
             p.available().to_string(),
             low,
-            p.note.clone(),
+            safe(&p.note),
         ]);
     }
     t
+}
+
+/// Stored text as it may reach a terminal: control characters shown as escapes (rows stored
+/// before they were refused on input, or written by other tools, cannot act on the screen).
+fn safe(s: &str) -> String {
+    text::for_terminal(s).into_owned()
 }
 
 /// Run `list`.
@@ -154,8 +160,9 @@ pub fn run_list(a: ListArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resu
         return Ok(Status::Success);
     }
     writeln!(out, "{}", table(&parts).render(ctx.style))?;
-    let pieces: i64 = parts.iter().map(|p| p.quantity).sum();
-    let held: i64 = parts.iter().map(|p| p.held).sum();
+    // Summed wide: two rows near the largest count must never wrap to a negative total.
+    let pieces: i128 = parts.iter().map(|p| i128::from(p.quantity)).sum();
+    let held: i128 = parts.iter().map(|p| i128::from(p.held)).sum();
     let rows = count(parts.len(), "row", "rows");
     let pieces_text = count(pieces, "piece", "pieces");
     if held == 0 {
@@ -194,9 +201,9 @@ pub fn run_show(a: ShowArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resu
     if !rating(&part).is_empty() {
         writeln!(out, "  rating      {}", rating(&part))?;
     }
-    writeln!(out, "  package     {}", part.package)?;
+    writeln!(out, "  package     {}", safe(&part.package))?;
     if !part.bin.is_empty() {
-        writeln!(out, "  bin         {}", part.bin)?;
+        writeln!(out, "  bin         {}", safe(&part.bin))?;
     }
     writeln!(out, "  on hand     {}", part.quantity)?;
     if part.held > 0 {
@@ -208,9 +215,14 @@ pub fn run_show(a: ShowArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resu
             .iter()
             .map(|h| {
                 if h.member.is_empty() {
-                    format!("{} for plan {:?}", h.quantity, h.plan)
+                    format!("{} for plan \"{}\"", h.quantity, safe(&h.plan))
                 } else {
-                    format!("{} for plan {:?} [{}]", h.quantity, h.plan, h.member)
+                    format!(
+                        "{} for plan \"{}\" [{}]",
+                        h.quantity,
+                        safe(&h.plan),
+                        safe(&h.member)
+                    )
                 }
             })
             .collect();
@@ -223,7 +235,7 @@ pub fn run_show(a: ShowArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resu
         writeln!(out, "  low level   {l}")?;
     }
     if !part.note.is_empty() {
-        writeln!(out, "  note        {}", part.note)?;
+        writeln!(out, "  note        {}", safe(&part.note))?;
     }
     if let Some(w) = low_warning(&part) {
         writeln!(out, "{w}")?;
@@ -239,13 +251,13 @@ pub fn run_show(a: ShowArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resu
     ]);
     for e in &ledger {
         let held = match (&e.plan, e.held_delta) {
-            (Some(plan), d) => format!("{d:+} {plan}"),
+            (Some(plan), d) => format!("{d:+} {}", safe(plan)),
             (None, 0) => String::new(),
             (None, d) => format!("{d:+}"),
         };
         t.row([
             e.at.clone(),
-            e.who.clone(),
+            safe(&e.who),
             if e.delta == 0 && e.plan.is_some() {
                 String::new()
             } else {
@@ -254,7 +266,7 @@ pub fn run_show(a: ShowArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resu
             e.quantity_after.to_string(),
             held,
             e.held_after.to_string(),
-            e.why.clone(),
+            safe(&e.why),
         ]);
     }
     writeln!(

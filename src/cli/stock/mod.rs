@@ -72,6 +72,14 @@ pub fn open_store(ctx: &Context) -> anyhow::Result<Store> {
     Store::open(&path).with_context(|| format!("opening the stock database {}", path.display()))
 }
 
+/// Open the store for a command that changes it: the same as [`open_store`], then SQLite's quick
+/// consistency check, so a damaged file is refused before anything is written to it.
+pub fn open_for_writing(ctx: &Context) -> anyhow::Result<Store> {
+    let path = store_path(ctx)?;
+    Store::open_for_writing(&path)
+        .with_context(|| format!("opening the stock database {}", path.display()))
+}
+
 fn init(ctx: &Context, out: &mut dyn Write) -> anyhow::Result<Status> {
     let path = store_path(ctx)?;
     let existed = path.exists();
@@ -125,15 +133,15 @@ fn parse_tech(text: Option<&str>) -> anyhow::Result<Option<Technology>> {
 
 /// One line about a row: `#3 4.7 kΩ 1% metal film, axial, bin A3`.
 pub fn describe(p: &Part) -> String {
-    let mut s = format!("#{} {}", p.id, p.label());
+    let mut s = format!("#{} {}", p.id, text::for_terminal(&p.label()));
     if p.kind != Kind::Diode && !p.package.is_empty() {
-        s.push_str(&format!(", {}", p.package));
+        s.push_str(&format!(", {}", text::for_terminal(&p.package)));
     }
     if let Some(v) = p.voltage_rating {
         s.push_str(&format!(", {}", text::volts_text(v)));
     }
     if !p.bin.is_empty() {
-        s.push_str(&format!(", bin {}", p.bin));
+        s.push_str(&format!(", bin {}", text::for_terminal(&p.bin)));
     }
     s
 }
@@ -143,15 +151,16 @@ pub fn describe(p: &Part) -> String {
 /// candidates.
 pub fn resolve_part(store: &Store, text: &str, narrow: &Narrow) -> anyhow::Result<Part> {
     let t = text.trim();
+    text::check_field("the part", t, text::MAX_VALUE).map_err(anyhow::Error::msg)?;
     let id_text = t.strip_prefix('#').unwrap_or(t);
     if !id_text.is_empty() && id_text.chars().all(|c| c.is_ascii_digit()) {
         let id: i64 = id_text
             .parse()
-            .with_context(|| format!("row id {t:?} is too large"))?;
+            .with_context(|| format!("row id {} is too large", text::excerpt(t)))?;
         return Ok(store.part(id)?);
     }
     if t.starts_with('#') {
-        bail!("{t:?} is not a row id (write #12 or 12)");
+        bail!("{} is not a row id (write #12 or 12)", text::excerpt(t));
     }
     let kind = parse_kind(narrow.kind.as_deref())?.unwrap_or_else(|| text::infer_kind(t));
     let technology = parse_tech(narrow.technology.as_deref())?;
@@ -196,7 +205,7 @@ pub fn resolve_part(store: &Store, text: &str, narrow: &Narrow) -> anyhow::Resul
             if let Some(tech) = technology {
                 msg.push_str(&format!(" of technology {tech}"));
             }
-            bail!("{msg}; see `onhand list`")
+            bail!("{}; see `onhand list`", text::for_terminal(&msg))
         }
         [one] => Ok(one.clone()),
         many => {
@@ -211,6 +220,35 @@ pub fn resolve_part(store: &Store, text: &str, narrow: &Narrow) -> anyhow::Resul
             bail!("{msg}")
         }
     }
+}
+
+/// The ledger reason from `--why` (or `default`), refused when it holds control characters (a
+/// newline would forge a row in `show`) or is longer than `text::MAX_REASON`.
+pub fn reason(why: Option<String>, default: &str) -> anyhow::Result<String> {
+    let why = why.unwrap_or_else(|| default.to_string());
+    text::check_field("--why", &why, text::MAX_REASON).map_err(anyhow::Error::msg)?;
+    Ok(why)
+}
+
+/// A count of pieces from an option, within `min ..= store::MAX_PIECES`.
+pub fn pieces(option: &str, n: i64, min: i64, advice: &str) -> anyhow::Result<i64> {
+    if n < min {
+        bail!(
+            "{option} must be {min} or more (got {n}){}",
+            if advice.is_empty() {
+                String::new()
+            } else {
+                format!("; {advice}")
+            }
+        );
+    }
+    if n > crate::store::MAX_PIECES {
+        bail!(
+            "{option} {n} is more than onhand counts in one row (at most {})",
+            crate::store::MAX_PIECES
+        );
+    }
+    Ok(n)
 }
 
 /// A warning line when a row is at or below its low-stock level.

@@ -1,6 +1,8 @@
 //! `onhand take` and `onhand recount`: draw parts, and set a row to a fresh count.
 
-use super::{Context, Narrow, Status, describe, low_warning, open_store, resolve_part};
+use super::{
+    Context, Narrow, Status, describe, low_warning, open_for_writing, pieces, reason, resolve_part,
+};
 use crate::store::Change;
 use std::io::Write;
 
@@ -78,20 +80,22 @@ fn print(change: &Change, verb: &str, ctx: &Context, out: &mut dyn Write) -> any
 
 /// Run `take`.
 pub fn run_take(a: TakeArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Result<Status> {
-    let mut store = open_store(ctx)?;
+    let qty = pieces("--qty", a.qty, 1, "take at least one piece")?;
+    let why = reason(a.why, "take")?;
+    let mut store = open_for_writing(ctx)?;
     let part = resolve_part(&store, &a.part, &a.narrow)?;
-    let why = a.why.unwrap_or_else(|| "take".to_string());
-    let change = store.take(part.id, a.qty, &ctx.user, &why)?;
+    let change = store.take(part.id, qty, &ctx.user, &why)?;
     print(&change, &format!("took {} from", a.qty), ctx, out)?;
     Ok(Status::Success)
 }
 
 /// Run `recount`.
 pub fn run_recount(a: RecountArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Result<Status> {
-    let mut store = open_store(ctx)?;
+    let counted = pieces("the counted quantity", a.counted, 0, "")?;
+    let why = reason(a.why, "recount")?;
+    let mut store = open_for_writing(ctx)?;
     let part = resolve_part(&store, &a.part, &a.narrow)?;
-    let why = a.why.unwrap_or_else(|| "recount".to_string());
-    let change = store.recount(part.id, a.counted, &ctx.user, &why)?;
+    let change = store.recount(part.id, counted, &ctx.user, &why)?;
     print(&change, "recounted", ctx, out)?;
     Ok(Status::Success)
 }
