@@ -375,12 +375,15 @@ fn a_database_from_before_holds_upgrades_and_keeps_its_counts() {
         )
         .expect("seed v1");
     }
-    b.run(&["init"]).ok().stdout_has("schema version 2");
+    b.run(&["init"]).ok().stdout_has("schema version 3");
     assert_eq!(counts(&b), vec![(1, 7, 0)]);
     b.run(&["hold", "--plan", "amp", "#1=7"]).ok();
     b.run(&["take", "#1"]).code(2).stderr_has("only 0 free");
     b.run(&["use", "--plan", "amp", "#1=3"]).ok();
     assert_eq!(counts(&b), vec![(1, 4, 4)]);
+    // An entry from before changes were grouped is a change of its own: undo reverts just it.
+    b.run(&["undo", "2"]).ok().stdout_has("(take): 1 entry");
+    assert_eq!(counts(&b), vec![(1, 6, 4)]);
     assert_ledger_re_derives(&b);
 }
 

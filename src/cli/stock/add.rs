@@ -11,6 +11,7 @@ Examples:
   onhand add 100n --qty 20 --tech film --bin C2
   onhand add 10u --qty 5 --volts 25 --low 2    an electrolytic, warn at 2 left
   onhand add 1N4148 --kind diode --qty 30
+  onhand add '#7' --qty 3                      refill row 7 (e.g. after a mistaken take)
 
 The kind follows the value: a farad unit or a p/n/u/µ multiplier means a capacitor, anything
 else a resistor; --kind overrides. Unstated details take the usual defaults (common practice):
@@ -58,6 +59,43 @@ pub struct AddArgs {
     pub why: Option<String>,
 }
 
+/// `add '#7' --qty 3`: refill an existing row by its number.
+fn add_to_row(a: AddArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Result<Status> {
+    let digits = a.value.trim().trim_start_matches('#');
+    let Ok(id) = digits.parse::<i64>() else {
+        bail!("{:?} is not a row number: write #7", a.value.trim());
+    };
+    let described = [&a.kind, &a.tolerance, &a.technology, &a.volts, &a.watts, &a.package]
+        .iter()
+        .chain([&a.bin, &a.low, &a.note].iter())
+        .any(|o| o.is_some());
+    if described {
+        bail!("a row number names the part already: give only --qty (and --why)");
+    }
+    if a.qty <= 0 {
+        bail!("--qty must be 1 or more when adding to row #{id} (got {})", a.qty);
+    }
+    let mut store = open_store(ctx)?;
+    let why = a.why.unwrap_or_else(|| "add".to_string());
+    let change = store.add_to_row(id, a.qty, &ctx.user, &why)?;
+    if ctx.json {
+        writeln!(out, "{}", serde_json::to_string(&change)?)?;
+        return Ok(Status::Success);
+    }
+    writeln!(
+        out,
+        "added {} to {}: {} → {}",
+        change.delta,
+        describe(&change.part),
+        change.before,
+        change.part.quantity
+    )?;
+    for u in &change.updated {
+        writeln!(out, "  also: {u}")?;
+    }
+    Ok(Status::Success)
+}
+
 /// Render field problems as one message, naming the options.
 pub fn field_errors(errs: &[FieldError]) -> String {
     errs.iter()
@@ -68,6 +106,9 @@ pub fn field_errors(errs: &[FieldError]) -> String {
 
 /// Run `add`.
 pub fn run(a: AddArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Result<Status> {
+    if a.value.trim().starts_with('#') {
+        return add_to_row(a, ctx, out);
+    }
     let text = PartText {
         kind: a.kind,
         value: a.value,
