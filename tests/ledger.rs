@@ -39,7 +39,11 @@ fn cabinet() -> (Bench, String) {
 /// `onhand --db <bench db> --user WHO ARGS…`.
 fn run_as(b: &Bench, who: &str, args: &[&str]) -> crate::util::Run {
     let mut cmd = onhand();
-    cmd.arg("--db").arg(b.db()).arg("--user").arg(who).args(args);
+    cmd.arg("--db")
+        .arg(b.db())
+        .arg("--user")
+        .arg(who)
+        .args(args);
     crate::util::Run::from(cmd)
 }
 
@@ -75,10 +79,17 @@ fn unit_holds(b: &Bench, plan: &str) -> BTreeMap<String, i64> {
     out
 }
 
+/// Counts re-derived from a ledger: part id → (on the shelf, held), hold id → pieces.
+#[derive(Debug, PartialEq, Eq)]
+pub struct Derived {
+    pub parts: BTreeMap<i64, (i64, i64)>,
+    pub holds: BTreeMap<i64, i64>,
+}
+
 /// Every count re-derives from the ledger, read straight from a database file (removed rows
-/// included): each part's shelf and held counts are the running sums of its entries, and each
-/// hold is the sum of the held deltas that name it. Returns (part id → shelf count).
-fn re_derive(db: &std::path::Path) -> BTreeMap<i64, i64> {
+/// included): each part's shelf and held counts are the running sums of its entries (matching
+/// every `*_after`), and each hold is the sum of the held deltas that name it.
+pub fn re_derive(db: &std::path::Path) -> Derived {
     let conn = rusqlite::Connection::open(db).expect("open db");
     let mut parts: BTreeMap<i64, (i64, i64)> = BTreeMap::new();
     let mut holds: BTreeMap<i64, i64> = BTreeMap::new();
@@ -124,7 +135,9 @@ fn re_derive(db: &std::path::Path) -> BTreeMap<i64, i64> {
     for (id, q, h) in &stored {
         assert_eq!(parts.get(id).copied().unwrap_or((0, 0)), (*q, *h), "#{id}");
     }
-    let mut stmt = conn.prepare("SELECT id, quantity FROM hold").expect("prepare");
+    let mut stmt = conn
+        .prepare("SELECT id, quantity FROM hold")
+        .expect("prepare");
     let stored_holds: Vec<(i64, i64)> = stmt
         .query_map([], |r| Ok((r.get(0)?, r.get(1)?)))
         .expect("query")
@@ -133,17 +146,20 @@ fn re_derive(db: &std::path::Path) -> BTreeMap<i64, i64> {
     for (id, q) in stored_holds {
         assert_eq!(holds.get(&id).copied().unwrap_or(0), q, "hold #{id}");
     }
-    stored.into_iter().map(|(id, q, _)| (id, q)).collect()
+    Derived { parts, holds }
 }
 
 #[test]
 fn plan_hold_twice_holds_one_kit_set_and_use_takes_exactly_it() {
-    // Failed before: the second `plan --hold` counted the plan's own holds as gone, said
-    // "can build 6 of 24" and held 12 more pieces; `use` then took 36 pieces for 18 kits.
+    // Failed before: the second `plan --hold` counted the plan's own holds as taken, said
+    // "can build 12 of 18" and held 24 more pieces; `use` then took 60 pieces for 18 kits.
     let (b, kit) = cabinet();
     b.run(&["plan", &kit, "--units", "18", "--hold"]).ok();
     assert_eq!(counts_in(&b, "A1"), (30, 18));
-    let again = b.run(&["--json", "plan", &kit, "--units", "18", "--hold"]).ok().json();
+    let again = b
+        .run(&["--json", "plan", &kit, "--units", "18", "--hold"])
+        .ok()
+        .json();
     assert_eq!(again["built"], 18, "the plan sees its own holds: {again}");
     assert_eq!(counts_in(&b, "A1"), (30, 18), "nothing held twice");
     b.run(&["plan", &kit, "--units", "18", "--hold"])
@@ -153,14 +169,20 @@ fn plan_hold_twice_holds_one_kit_set_and_use_takes_exactly_it() {
     run_as(&b, "ben", &["plan", &kit, "--units", "18", "--hold"]).ok();
     assert_eq!(counts_in(&b, "C1"), (30, 18));
     // Growing the plan holds only the missing units.
-    let grown = b.run(&["--json", "plan", &kit, "--units", "20", "--hold"]).ok().json();
+    let grown = b
+        .run(&["--json", "plan", &kit, "--units", "20", "--hold"])
+        .ok()
+        .json();
     let moved: i64 = grown["held"]["lines"]
         .as_array()
         .expect("lines")
         .iter()
         .map(|l| l["held_delta"].as_i64().expect("delta"))
         .sum();
-    assert_eq!(moved, 4, "units 19 and 20: one resistor and one capacitor each");
+    assert_eq!(
+        moved, 4,
+        "units 19 and 20: one resistor and one capacitor each"
+    );
     let used = b.run(&["--json", "use", "--plan", "class kit"]).ok().json();
     let pieces: i64 = used["lines"]
         .as_array()
@@ -179,7 +201,11 @@ fn a_held_plan_is_used_and_released_unit_by_unit_and_the_ledger_names_the_units(
     b.run(&["plan", &kit, "--units", "6", "--hold"]).ok();
     let units = unit_holds(&b, "class kit");
     assert_eq!(units.len(), 6, "{units:?}");
-    assert_eq!(units.get("unit 1"), Some(&2), "one resistor and one capacitor");
+    assert_eq!(
+        units.get("unit 1"),
+        Some(&2),
+        "one resistor and one capacitor"
+    );
     b.run(&["use", "--plan", "class kit", "--units", "2"])
         .ok()
         .stdout_has("built units 1–2 of plan \"class kit\"");
@@ -256,10 +282,24 @@ fn old_holds_are_listed_as_stale() {
 fn log_filters_formats_and_local_time() {
     let (b, _) = cabinet();
     let r = row_in(&b, "A1");
-    run_as(&b, "ana", &["take", "100k", "--qty", "2", "--why", "repair: organ"]).ok();
-    run_as(&b, "ben", &["take", "1u", "--qty", "1", "--why", "=HYPERLINK(\"x\")"]).ok();
+    run_as(
+        &b,
+        "ana",
+        &["take", "100k", "--qty", "2", "--why", "repair: organ"],
+    )
+    .ok();
+    run_as(
+        &b,
+        "ben",
+        &["take", "1u", "--qty", "1", "--why", "=HYPERLINK(\"x\")"],
+    )
+    .ok();
     let all = b.run(&["--json", "log"]).ok().json();
-    assert_eq!(all.as_array().map(Vec::len), Some(5), "3 import rows + 2 takes");
+    assert_eq!(
+        all.as_array().map(Vec::len),
+        Some(5),
+        "3 import rows + 2 takes"
+    );
     let ana = b.run(&["--json", "log", "--who", "ana"]).ok().json();
     assert_eq!(ana.as_array().map(Vec::len), Some(1));
     assert_eq!(ana[0]["delta"], -2);
@@ -283,7 +323,10 @@ fn log_filters_formats_and_local_time() {
         .ok()
         .json();
     assert_eq!(past.as_array().map(Vec::len), Some(0));
-    let today = b.run(&["--json", "log", "--since", "1h", "--last", "1"]).ok().json();
+    let today = b
+        .run(&["--json", "log", "--since", "1h", "--last", "1"])
+        .ok()
+        .json();
     assert_eq!(today[0]["who"], "ben");
     // Stored in UTC, shown in local time: a zone 9 h east of UTC (POSIX TZ, no tz database
     // needed) shows the same entry 9 hours later.
@@ -303,15 +346,26 @@ fn log_filters_formats_and_local_time() {
     let (utc_b, in_east) = at("XST-9");
     assert_eq!(utc_a, utc_b, "the stored time does not move");
     let hours = |t: &str| -> i64 { t[11..13].parse().expect("hour") };
-    assert_eq!((hours(&in_utc) + 9) % 24, hours(&in_east), "{in_utc} / {in_east}");
-    assert_eq!(in_utc, utc_a[..19].replace('T', " "), "in UTC, local time is the stored time");
+    assert_eq!(
+        (hours(&in_utc) + 9) % 24,
+        hours(&in_east),
+        "{in_utc} / {in_east}"
+    );
+    assert_eq!(
+        in_utc,
+        utc_a[..19].replace('T', " "),
+        "in UTC, local time is the stored time"
+    );
     // Text and CSV.
     b.run(&["log", "--who", "ana"])
         .ok()
         .stdout_has("repair: organ")
         .stdout_has("-2 → 28")
         .stdout_has("1 entry: 0 pieces in, 2 out");
-    let csv = b.run(&["log", "--format", "csv", "--who", "ben"]).ok().stdout;
+    let csv = b
+        .run(&["log", "--format", "csv", "--who", "ben"])
+        .ok()
+        .stdout;
     let mut lines = csv.lines();
     assert!(
         lines
@@ -321,10 +375,19 @@ fn log_filters_formats_and_local_time() {
     let row = lines.next().expect("one row");
     assert!(row.contains("'=HYPERLINK"), "formula neutralised: {row}");
     let out = b.path("log.csv");
-    b.run(&["log", "--format", "csv", "--out", out.to_str().expect("utf-8")])
-        .ok()
-        .stdout_has("wrote 5 ledger entries");
-    assert_eq!(std::fs::read_to_string(&out).expect("csv").lines().count(), 6);
+    b.run(&[
+        "log",
+        "--format",
+        "csv",
+        "--out",
+        out.to_str().expect("utf-8"),
+    ])
+    .ok()
+    .stdout_has("wrote 5 ledger entries");
+    assert_eq!(
+        std::fs::read_to_string(&out).expect("csv").lines().count(),
+        6
+    );
     // The shared writer never writes onto the database.
     b.run(&["log", "--out", b.db().to_str().expect("utf-8")])
         .code(2)
@@ -347,7 +410,11 @@ fn undo_reverts_a_mistaken_take_and_add_by_row_number_refills_that_row() {
     assert_eq!(counts_in(&b, "A1"), (26, 0), "dry run writes nothing");
     let u = run_as(&b, "ben", &["--json", "undo"]).ok().json();
     assert_eq!(u["why"], "oops");
-    assert_eq!(counts_in(&b, "A1"), (29, 0), "ben's take is back, ana's is not");
+    assert_eq!(
+        counts_in(&b, "A1"),
+        (29, 0),
+        "ben's take is back, ana's is not"
+    );
     run_as(&b, "ben", &["undo"])
         .code(2)
         .stderr_has("ben has no change left to undo");
@@ -372,7 +439,11 @@ fn undo_reverts_a_mistaken_take_and_add_by_row_number_refills_that_row() {
         .stdout_has("added 2 to");
     assert_eq!(counts_in(&b, "A1"), (29, 0));
     assert_eq!(
-        b.run(&["--json", "list"]).ok().json().as_array().map(Vec::len),
+        b.run(&["--json", "list"])
+            .ok()
+            .json()
+            .as_array()
+            .map(Vec::len),
         Some(3),
         "no new row"
     );
@@ -418,7 +489,14 @@ fn rows_are_removed_only_when_empty_and_merged_with_their_history() {
     b.run(&["remove", &format!("#{b1}")])
         .ok()
         .stdout_has("removed row");
-    assert_eq!(b.run(&["--json", "list"]).ok().json().as_array().map(Vec::len), Some(1));
+    assert_eq!(
+        b.run(&["--json", "list"])
+            .ok()
+            .json()
+            .as_array()
+            .map(Vec::len),
+        Some(1)
+    );
     b.run(&["add", "10n", "--qty", "1", "--bin", "C1"]).ok();
     let c1 = row_in(&b, "C1");
     b.run(&["merge", &format!("#{c1}"), "--into", &format!("#{a3}")])
@@ -473,8 +551,11 @@ fn backup_during_concurrent_takes_is_consistent_and_restores() {
         )
         .expect("count");
     drop(conn);
-    assert_eq!(in_copy.get(&k), Some(&(100 - takes)));
-    assert!(!b.path("copy.db-wal").exists(), "a single self-contained file");
+    assert_eq!(in_copy.parts.get(&k), Some(&(100 - takes, 0)));
+    assert!(
+        !b.path("copy.db-wal").exists(),
+        "a single self-contained file"
+    );
     // Never over an existing file, never onto the database.
     b.run(&["backup", file.to_str().expect("utf-8")])
         .code(2)
@@ -498,7 +579,11 @@ fn backup_during_concurrent_takes_is_consistent_and_restores() {
 #[test]
 fn bad_backups_are_refused_and_change_nothing() {
     let (b, _) = cabinet();
-    let before = b.run(&["--json", "backup", b.path("first.json").to_str().expect("utf-8")]);
+    let before = b.run(&[
+        "--json",
+        "backup",
+        b.path("first.json").to_str().expect("utf-8"),
+    ]);
     before.ok();
     let junk = b.write("junk.db", "this is not a database at all, just text");
     b.run(&["restore", junk.to_str().expect("utf-8")])
@@ -518,8 +603,11 @@ fn bad_backups_are_refused_and_change_nothing() {
     b.run(&["backup", tampered.to_str().expect("utf-8")]).ok();
     {
         let c = rusqlite::Connection::open(&tampered).expect("c");
-        c.execute("UPDATE part SET quantity = quantity + 5 WHERE bin = 'A1'", [])
-            .expect("tamper");
+        c.execute(
+            "UPDATE part SET quantity = quantity + 5 WHERE bin = 'A1'",
+            [],
+        )
+        .expect("tamper");
     }
     b.run(&["restore", tampered.to_str().expect("utf-8")])
         .code(2)
@@ -541,7 +629,11 @@ fn full_json_export_carries_parts_holds_and_ledger_and_imports_to_the_same_state
         serde_json::from_str(&std::fs::read_to_string(&json).expect("read")).expect("json");
     assert_eq!(full["format"], "onhand full export");
     assert_eq!(full["parts"].as_array().map(Vec::len), Some(3));
-    assert_eq!(full["holds"].as_array().map(Vec::len), Some(6), "3 units × 2 parts");
+    assert_eq!(
+        full["holds"].as_array().map(Vec::len),
+        Some(6),
+        "3 units × 2 parts"
+    );
     let state = |b: &Bench| {
         (
             b.run(&["--json", "list"]).ok().stdout,
@@ -561,9 +653,7 @@ fn full_json_export_carries_parts_holds_and_ledger_and_imports_to_the_same_state
     // And into a fresh store: the same state again.
     let other = Bench::new();
     other.run(&["init"]).ok();
-    other
-        .run(&["restore", json.to_str().expect("utf-8")])
-        .ok();
+    other.run(&["restore", json.to_str().expect("utf-8")]).ok();
     assert_eq!(state(&other).0, before.0);
     assert_eq!(state(&other).2, before.2);
 }
@@ -613,11 +703,18 @@ fn class_scenario_hold_use_release_undo_backup_restore_agree_with_hand_counts() 
     // The log agrees: for the kit rows, uses took 5 and ben's take and its undo cancel.
     let log = b.run(&["--json", "log", "--part", "100k"]).ok().json();
     let entries = log.as_array().expect("entries");
-    let sum: i64 = entries.iter().map(|e| e["delta"].as_i64().expect("d")).sum();
+    let sum: i64 = entries
+        .iter()
+        .map(|e| e["delta"].as_i64().expect("d"))
+        .sum();
     assert_eq!(sum, 25);
     let used: i64 = entries
         .iter()
-        .filter(|e| e["why"].as_str().is_some_and(|w| w.starts_with("built for")))
+        .filter(|e| {
+            e["why"]
+                .as_str()
+                .is_some_and(|w| w.starts_with("built for"))
+        })
         .map(|e| -e["delta"].as_i64().expect("d"))
         .sum();
     assert_eq!(used, 5);
@@ -636,4 +733,16 @@ fn class_scenario_hold_use_release_undo_backup_restore_agree_with_hand_counts() 
     assert!(taken_1k <= 12);
     assert_eq!(counts_in(&b, "A2"), (100 - taken_1k, 0));
     re_derive(&b.db());
+}
+
+#[test]
+fn every_ledger_command_has_help_with_an_example() {
+    for cmd in ["log", "undo", "remove", "merge", "backup", "restore"] {
+        onhand()
+            .args([cmd, "--help"])
+            .assert()
+            .success()
+            .stdout(predicates::str::contains("Examples:"))
+            .stdout(predicates::str::contains(format!("onhand {cmd}")));
+    }
 }

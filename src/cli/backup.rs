@@ -135,7 +135,8 @@ pub fn run_backup(a: BackupArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::
                     .map_err(|e| crate::store::StoreError::Invalid(e.to_string()))
             });
             let _ = std::fs::remove_file(&tmp);
-            let (c, bytes) = result.with_context(|| format!("backing up to {}", a.file.display()))?;
+            let (c, bytes) =
+                result.with_context(|| format!("backing up to {}", a.file.display()))?;
             files.write(&a.file, &bytes)?;
             c
         }
@@ -162,7 +163,7 @@ pub fn run_backup(a: BackupArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::
 /// Run `restore`.
 pub fn run_restore(a: RestoreArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Result<Status> {
     let db = store_path(ctx)?;
-    if same_file(&a.file, &db) {
+    if super::safe_write::same_file(&a.file, &db) {
         bail!(
             "{} is the stock database itself; restore from a backup file",
             a.file.display()
@@ -218,23 +219,4 @@ pub fn run_restore(a: RestoreArgs, ctx: &Context, out: &mut dyn Write) -> anyhow
         writeln!(out, "before the restore it held {}", summary(&before))?;
     }
     Ok(Status::Success)
-}
-
-/// Whether two paths name the same file (device and inode on Unix).
-fn same_file(a: &Path, b: &Path) -> bool {
-    #[cfg(unix)]
-    {
-        use std::os::unix::fs::MetadataExt as _;
-        match (std::fs::metadata(a), std::fs::metadata(b)) {
-            (Ok(x), Ok(y)) => x.dev() == y.dev() && x.ino() == y.ino(),
-            _ => false,
-        }
-    }
-    #[cfg(not(unix))]
-    {
-        match (std::fs::canonicalize(a), std::fs::canonicalize(b)) {
-            (Ok(x), Ok(y)) => x == y,
-            _ => false,
-        }
-    }
 }

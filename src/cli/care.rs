@@ -194,11 +194,7 @@ fn run_remove(a: RemoveArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resu
     let part = resolve_part(&store, &a.part, &a.narrow)?;
     let removed = store.remove_row(part.id)?;
     if ctx.json {
-        writeln!(
-            out,
-            "{}",
-            serde_json::json!({ "removed": removed })
-        )?;
+        writeln!(out, "{}", serde_json::json!({ "removed": removed }))?;
     } else {
         writeln!(
             out,

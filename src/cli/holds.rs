@@ -351,9 +351,7 @@ const SHOWN_HOLD_LINES: usize = 12;
 fn print_summary(change: &HoldChange, verb: &str, out: &mut dyn Write) -> anyhow::Result<()> {
     let mut per: BTreeMap<i64, (i64, i64, Vec<u32>, &Part)> = BTreeMap::new();
     for l in &change.lines {
-        let e = per
-            .entry(l.part.id)
-            .or_insert((0, 0, Vec::new(), &l.part));
+        let e = per.entry(l.part.id).or_insert((0, 0, Vec::new(), &l.part));
         if l.held_delta > 0 {
             e.0 += l.held_delta;
         } else {
@@ -424,7 +422,12 @@ fn print_units(
     } else {
         "released"
     };
-    writeln!(out, "{verb} {} of plan {:?}", units_text(units), change.plan)?;
+    writeln!(
+        out,
+        "{verb} {} of plan {:?}",
+        units_text(units),
+        change.plan
+    )?;
     print_change(change, ctx, out)
 }
 

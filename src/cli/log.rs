@@ -1,9 +1,9 @@
 //! `onhand log`: the ledger across the whole store, filtered, as a table, JSON or CSV. Times are
 //! stored in UTC and shown in local time (`TZ` is honoured); JSON and CSV carry both.
 
-use super::stock::{describe, open_store};
+use super::stock::{Narrow, describe, open_store, rows_of_value};
 use super::{Context, Status};
-use crate::store::{Kind, LogEntry, LogFilter, PartFilter, PartText, Store, text};
+use crate::store::{LogEntry, LogFilter, Store};
 use anyhow::{Context as _, bail};
 use comfy_table::{CellAlignment, Table, presets};
 use std::io::Write;
@@ -78,43 +78,11 @@ fn part_ids(store: &Store, text: &str) -> anyhow::Result<Vec<i64>> {
         store.part(id)?;
         return Ok(vec![id]);
     }
-    let kind = text::infer_kind(t);
-    let ids: Vec<i64> = if kind == Kind::Diode {
-        let want = t.to_lowercase();
-        store
-            .parts(&PartFilter {
-                kind: Some(Kind::Diode),
-                ..Default::default()
-            })?
-            .into_iter()
-            .filter(|p| p.package.to_lowercase().starts_with(&want))
-            .map(|p| p.id)
-            .collect()
-    } else {
-        let spec = PartText {
-            kind: Some(kind.as_str().to_string()),
-            value: t.to_string(),
-            ..Default::default()
-        }
-        .resolve()
-        .map_err(|errs| {
-            anyhow::anyhow!(
-                "--part {t:?}: {}",
-                errs.iter()
-                    .map(|e| e.message.clone())
-                    .collect::<Vec<_>>()
-                    .join("; ")
-            )
-        })?;
-        store
-            .parts(&PartFilter {
-                value: Some(spec.value),
-                ..Default::default()
-            })?
-            .into_iter()
-            .map(|p| p.id)
-            .collect()
-    };
+    let ids: Vec<i64> = rows_of_value(store, t, &Narrow::default())
+        .with_context(|| format!("--part {t:?}"))?
+        .into_iter()
+        .map(|p| p.id)
+        .collect();
     if ids.is_empty() {
         bail!("--part {t:?}: no such row in stock; see `onhand list`");
     }
@@ -172,7 +140,11 @@ fn to_csv(entries: &[LogEntry]) -> anyhow::Result<Vec<u8>> {
     let mut w = csv::Writer::from_writer(Vec::new());
     w.write_record(CSV_COLUMNS)?;
     for e in entries {
-        w.write_record(csv_cells(e).iter().map(|c| crate::store::neutralise_cell(c)))?;
+        w.write_record(
+            csv_cells(e)
+                .iter()
+                .map(|c| crate::store::neutralise_cell(c)),
+        )?;
     }
     w.into_inner().context("writing CSV")
 }
@@ -194,7 +166,14 @@ fn to_table(entries: &[LogEntry], store: &Store) -> anyhow::Result<String> {
     let mut t = Table::new();
     t.load_style(presets::UTF8_FULL_CONDENSED);
     t.set_header(vec![
-        "entry", "when (local)", "who", "part", "shelf", "held", "plan", "why",
+        "entry",
+        "when (local)",
+        "who",
+        "part",
+        "shelf",
+        "held",
+        "plan",
+        "why",
     ]);
     for e in entries {
         let l = &e.entry;

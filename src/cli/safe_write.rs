@@ -133,7 +133,7 @@ impl FileWriter {
 }
 
 /// Whether two paths name the same file on disk (device and inode on Unix).
-fn same_file(a: &Path, b: &Path) -> bool {
+pub(crate) fn same_file(a: &Path, b: &Path) -> bool {
     #[cfg(unix)]
     {
         use std::os::unix::fs::MetadataExt as _;

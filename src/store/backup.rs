@@ -239,8 +239,8 @@ fn open_checked(path: &Path) -> Result<Connection, StoreError> {
     let mut head = [0u8; 16];
     {
         use std::io::Read as _;
-        let mut f = std::fs::File::open(path)
-            .map_err(|e| refuse(format!("cannot read it ({e})")))?;
+        let mut f =
+            std::fs::File::open(path).map_err(|e| refuse(format!("cannot read it ({e})")))?;
         f.read_exact(&mut head)
             .map_err(|_| refuse("it is too short to be a database".into()))?;
     }
@@ -500,7 +500,8 @@ impl Store {
             }
             tx.commit()?;
         }
-        verify(&mem).map_err(|e| StoreError::Invalid(format!("the export is inconsistent: {e}")))?;
+        verify(&mem)
+            .map_err(|e| StoreError::Invalid(format!("the export is inconsistent: {e}")))?;
         if !apply {
             return contents_of(&mem);
         }

@@ -222,6 +222,26 @@ pub(crate) fn holders(conn: &Connection, id: i64) -> Result<Vec<(String, i64)>, 
     Ok(rows.collect::<Result<_, _>>()?)
 }
 
+/// Every (part row, pieces) asked for that is more than the part has free, with its counts.
+fn free_shortfalls(conn: &Connection, asks: &[(i64, i64)]) -> Result<Vec<Shortfall>, StoreError> {
+    let mut short = Vec::new();
+    for &(id, qty) in asks {
+        let part = part_by_id(conn, id)?;
+        if qty > part.available() {
+            short.push(Shortfall {
+                part_id: id,
+                part: words(&part),
+                want: qty,
+                on_hand: part.quantity,
+                held: part.held,
+                can: part.available(),
+                holders: holders(conn, id)?,
+            });
+        }
+    }
+    Ok(short)
+}
+
 /// Live holds of `plan` (and `member`, and `part`), oldest first.
 fn live_holds(
     conn: &Connection,
@@ -386,21 +406,7 @@ impl Store {
             .conn
             .transaction_with_behavior(TransactionBehavior::Immediate)?;
         begin_change(&tx, None)?;
-        let mut short = Vec::new();
-        for &(id, qty) in &per_part {
-            let part = part_by_id(&tx, id)?;
-            if qty > part.available() {
-                short.push(Shortfall {
-                    part_id: id,
-                    part: words(&part),
-                    want: qty,
-                    on_hand: part.quantity,
-                    held: part.held,
-                    can: part.available(),
-                    holders: holders(&tx, id)?,
-                });
-            }
-        }
+        let short = free_shortfalls(&tx, &per_part)?;
         if !short.is_empty() {
             return Err(StoreError::NotFree { plan, short });
         }
@@ -653,24 +659,13 @@ impl Store {
             }
         }
         let per_part = merge_items(
-            &missing.iter().map(|&(_, id, n)| (id, n)).collect::<Vec<_>>(),
+            &missing
+                .iter()
+                .map(|&(_, id, n)| (id, n))
+                .collect::<Vec<_>>(),
             "the quantity to hold",
         )?;
-        let mut short = Vec::new();
-        for &(id, qty) in &per_part {
-            let part = part_by_id(&tx, id)?;
-            if qty > part.available() {
-                short.push(Shortfall {
-                    part_id: id,
-                    part: words(&part),
-                    want: qty,
-                    on_hand: part.quantity,
-                    held: part.held,
-                    can: part.available(),
-                    holders: holders(&tx, id)?,
-                });
-            }
-        }
+        let short = free_shortfalls(&tx, &per_part)?;
         if !short.is_empty() {
             return Err(StoreError::NotFree { plan, short });
         }
@@ -856,6 +851,22 @@ mod tests {
                 .sum();
             assert_eq!(sum, h.quantity, "hold #{}", h.id);
         }
+    }
+
+    #[test]
+    fn unit_members_read_back_and_spans_are_written_plainly() {
+        for (n, name) in [(1, "unit 1"), (24, "unit 24")] {
+            assert_eq!(unit_member(n), name);
+            assert_eq!(unit_of(name), Some(n));
+        }
+        for not_a_unit in [
+            "", "unit", "unit ", "unit 0", "unit 07", "unit 3a", "Unit 3", "ana",
+        ] {
+            assert_eq!(unit_of(not_a_unit), None, "{not_a_unit:?}");
+        }
+        assert_eq!(units_text(&[3]), "unit 3");
+        assert_eq!(units_text(&[5, 1, 2, 3, 9, 10]), "units 1–3, 5, 9–10");
+        assert_eq!(units_text(&[2, 2, 1]), "units 1–2");
     }
 
     #[test]

@@ -74,10 +74,13 @@ fn bound_sql(text: &str, end: bool) -> Option<(String, Vec<String>)> {
     let b = t.as_bytes();
     let date_only = b.len() == 10;
     let shape_ok = b.len() >= 10
-        && b[..10]
-            .iter()
-            .enumerate()
-            .all(|(i, c)| if i == 4 || i == 7 { *c == b'-' } else { c.is_ascii_digit() })
+        && b[..10].iter().enumerate().all(|(i, c)| {
+            if i == 4 || i == 7 {
+                *c == b'-'
+            } else {
+                c.is_ascii_digit()
+            }
+        })
         && (date_only
             || ((b[10] == b' ' || b[10] == b'T')
                 && (b.len() == 16 || b.len() == 19)
@@ -110,11 +113,11 @@ impl Store {
             ))
         };
         let (sql, params) = bound_sql(text, end).ok_or_else(bad)?;
-        let got: Option<String> = self.conn.query_row(
-            &sql,
-            rusqlite::params_from_iter(params.iter()),
-            |r| r.get(0),
-        )?;
+        let got: Option<String> =
+            self.conn
+                .query_row(&sql, rusqlite::params_from_iter(params.iter()), |r| {
+                    r.get(0)
+                })?;
         got.ok_or_else(bad)
     }
 
@@ -267,7 +270,9 @@ mod tests {
             })
             .expect("log");
         assert_eq!(
-            last.iter().map(|e| e.entry.who.as_str()).collect::<Vec<_>>(),
+            last.iter()
+                .map(|e| e.entry.who.as_str())
+                .collect::<Vec<_>>(),
             vec!["ben", "ana"]
         );
         // Nothing is in the future; everything is after an hour ago.

@@ -22,18 +22,20 @@ pub mod spec;
 pub use crate::model::text;
 pub mod undo;
 
+pub use backup::{Contents, FullExport};
+pub use care::Merge;
 pub use change::{Change, LedgerEntry};
 pub use error::{RowError, Shortfall, StoreError};
 pub use exchange::{COLUMNS, ExportFormat, Record, export, neutralise_cell, read_csv, read_json};
-pub use backup::{Contents, FullExport};
-pub use care::Merge;
-pub use holds::{Hold, HoldAction, HoldChange, HoldFilter, HoldLine, unit_member, unit_of, units_text};
-pub use log::{LogEntry, LogFilter};
-pub use undo::{Undo, UndoLine, UndoTarget};
+pub use holds::{
+    Hold, HoldAction, HoldChange, HoldFilter, HoldLine, unit_member, unit_of, units_text,
+};
 pub use import::{ImportLine, ImportReport};
+pub use log::{LogEntry, LogFilter};
 pub use part::{Kind, Part, Technology, UnknownName, Value};
 pub use query::PartFilter;
 pub use spec::{PartSpec, PartText};
+pub use undo::{Undo, UndoLine, UndoTarget};
 
 use rusqlite::Connection;
 use std::path::{Path, PathBuf};

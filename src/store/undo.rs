@@ -166,10 +166,12 @@ impl Store {
                             part.available()
                         )));
                     }
-                    let after = part
-                        .quantity
-                        .checked_add(delta)
-                        .ok_or_else(|| StoreError::Overflow { label: part.label() })?;
+                    let after =
+                        part.quantity
+                            .checked_add(delta)
+                            .ok_or_else(|| StoreError::Overflow {
+                                label: part.label(),
+                            })?;
                     set_count(&tx, part.id, delta, after, who, &undo_why)?;
                 }
             }

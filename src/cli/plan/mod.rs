@@ -102,7 +102,9 @@ pub struct PlanSource {
 pub struct PlanArgs {
     #[command(flatten)]
     source: PlanSource,
-    /// Hold the parts of the buildable units for this plan, under your name (--user).
+    /// Hold the parts of the buildable units for this plan, unit by unit (members "unit 1",
+    /// "unit 2", …); what the plan already holds counts, so repeating it holds only what is
+    /// missing.
     #[arg(long)]
     hold: bool,
 }

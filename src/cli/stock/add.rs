@@ -65,15 +65,25 @@ fn add_to_row(a: AddArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Result<
     let Ok(id) = digits.parse::<i64>() else {
         bail!("{:?} is not a row number: write #7", a.value.trim());
     };
-    let described = [&a.kind, &a.tolerance, &a.technology, &a.volts, &a.watts, &a.package]
-        .iter()
-        .chain([&a.bin, &a.low, &a.note].iter())
-        .any(|o| o.is_some());
+    let described = [
+        &a.kind,
+        &a.tolerance,
+        &a.technology,
+        &a.volts,
+        &a.watts,
+        &a.package,
+    ]
+    .iter()
+    .chain([&a.bin, &a.low, &a.note].iter())
+    .any(|o| o.is_some());
     if described {
         bail!("a row number names the part already: give only --qty (and --why)");
     }
     if a.qty <= 0 {
-        bail!("--qty must be 1 or more when adding to row #{id} (got {})", a.qty);
+        bail!(
+            "--qty must be 1 or more when adding to row #{id} (got {})",
+            a.qty
+        );
     }
     let mut store = open_store(ctx)?;
     let why = a.why.unwrap_or_else(|| "add".to_string());
