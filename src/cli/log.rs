@@ -197,7 +197,7 @@ fn to_table(entries: &[LogEntry], store: &Store) -> anyhow::Result<String> {
             _ => String::new(),
         };
         let mut why = l.why.clone();
-        if let Some(u) = l.undoes {
+        if let Some(u) = l.undoes.filter(|_| !why.starts_with("undo of change")) {
             why.push_str(&format!(" (undoes change #{u})"));
         }
         let entry = if l.change_id == l.id {
