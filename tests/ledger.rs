@@ -746,3 +746,15 @@ fn every_ledger_command_has_help_with_an_example() {
             .stdout(predicates::str::contains(format!("onhand {cmd}")));
     }
 }
+
+#[test]
+fn undo_reverts_a_whole_import_as_one_change() {
+    let (b, _) = cabinet();
+    b.run(&["undo"])
+        .ok()
+        .stdout_has("(import cabinet.csv row 1): 3 entries");
+    for bin in ["A1", "C1", "A2"] {
+        assert_eq!(counts_in(&b, bin), (0, 0), "bin {bin}");
+    }
+    re_derive(&b.db());
+}
