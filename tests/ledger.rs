@@ -758,3 +758,40 @@ fn undo_reverts_a_whole_import_as_one_change() {
     }
     re_derive(&b.db());
 }
+
+#[test]
+fn a_backup_from_an_older_schema_is_upgraded_on_the_way_in() {
+    // A store file as the first schema wrote it (before holds), used as a backup.
+    let (b, _) = cabinet();
+    let old = b.path("old.db");
+    {
+        let conn = rusqlite::Connection::open(&old).expect("old db");
+        let v1 = std::fs::read_to_string(crate::util::repo_path(
+            "migrations/0001_parts_and_ledger.sql",
+        ))
+        .expect("0001");
+        conn.execute_batch(&v1).expect("apply 0001");
+        conn.execute_batch(
+            "PRAGMA user_version = 1;
+             INSERT INTO part (kind, value, tol_minus_ppb, tol_plus_ppb, technology, bin, quantity)
+               VALUES ('resistor', 4700000, 10000000, 10000000, 'metal_film', 'Z9', 7);
+             INSERT INTO ledger (part_id, who, why, delta, quantity_after)
+               VALUES (1, 'old', 'add', 9, 9), (1, 'old', 'take', -2, 7);",
+        )
+        .expect("seed v1");
+    }
+    b.run(&["restore", old.to_str().expect("utf-8")])
+        .ok()
+        .stdout_has("(schema version 3)");
+    assert_eq!(counts_in(&b, "Z9"), (7, 0));
+    assert_eq!(
+        b.run(&["--json", "list"])
+            .ok()
+            .json()
+            .as_array()
+            .map(Vec::len),
+        Some(1)
+    );
+    b.run(&["hold", "--plan", "amp", "4.7k=2"]).ok();
+    re_derive(&b.db());
+}
