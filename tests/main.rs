@@ -10,6 +10,7 @@ mod external_ngspice;
 mod external_ode;
 mod find;
 mod holds;
+mod ledger;
 mod pictures;
 mod plan;
 mod reach;

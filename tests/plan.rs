@@ -86,32 +86,43 @@ fn plan_hold_reserves_and_the_next_plan_sees_less() {
         .sum();
     // Two units of two stages: 2 × (3 astable pieces + 2 one-shot pieces) = 10 pieces.
     assert_eq!(held, 10, "{holds}");
-    // Held pieces are invisible to the next plan: 4 units were possible, 2 are held, so at most 2 more.
+    // The plan itself counts its own held pieces: still 4 units possible.
     let j = b.run(&["--json", "plan", &plan]).code(1).json();
+    assert_eq!(j["built"], 4, "{j}");
+    // Held pieces are invisible to another plan: 4 units were possible, 2 are held, so at most 2 more.
+    let other = b.write("other.toml", &PLAN.replace("class clock", "other clock"));
+    let other = other.to_str().expect("utf-8");
+    let j = b.run(&["--json", "plan", other]).code(1).json();
     assert_eq!(j["built"], 2, "{j}");
     // Releasing gives them back.
     b.run(&["release", "--plan", "class clock"]).ok();
-    let j = b.run(&["--json", "plan", &plan]).code(1).json();
+    let j = b.run(&["--json", "plan", other]).code(1).json();
     assert_eq!(j["built"], 4);
 }
 
 #[test]
 fn two_members_planning_for_the_last_parts_one_wins() {
-    // Each round: a fresh store where exactly one unit of the plan can be built; two members
-    // run `plan --hold` at the same moment (released by a barrier file). Exactly one gets the
-    // parts; the other is refused clearly and nothing is double-counted.
+    // Each round: a fresh store where exactly one unit can be built; two members run
+    // `plan --hold` for their own plans at the same moment (released by a barrier file).
+    // Exactly one gets the parts; the other is refused clearly and nothing is double-counted.
+    // (Two members holding the *same* plan share its holds: see
+    // `ledger::plan_hold_twice_holds_one_kit_set_and_use_takes_exactly_it`.)
     for round in 0..8 {
         let b = Bench::new();
         let csv = b.write("one.csv", "kind,value,tolerance,technology,volts,bin,quantity\nresistor,100k,1%,metal_film,,A1,1\ncapacitor,1u,5%,film,63,C1,1\n");
         b.run(&["import", csv.to_str().expect("utf-8")]).ok();
-        let plan = b.write(
-            "p.toml",
-            "name = \"last one\"\n[[stage]]\nform = \"pulse\"\nwidth = \"109.86ms\"\n",
-        );
-        let plan = plan.to_str().expect("utf-8").to_string();
         let runs: Vec<(&str, Vec<String>)> = ["ana", "ben"]
             .into_iter()
-            .map(|who| (who, vec!["plan".into(), "--hold".into(), plan.clone()]))
+            .map(|who| {
+                let plan = b.write(
+                    &format!("{who}.toml"),
+                    &format!(
+                        "name = \"last one for {who}\"\n[[stage]]\nform = \"pulse\"\nwidth = \"109.86ms\"\n"
+                    ),
+                );
+                let plan = plan.to_str().expect("utf-8").to_string();
+                (who, vec!["plan".into(), "--hold".into(), plan])
+            })
             .collect();
         let outs = b.race("go", &runs);
         let won = outs.iter().filter(|o| o.status.success()).count();

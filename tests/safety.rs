@@ -303,7 +303,7 @@ fn control_characters_are_refused_on_input() {
     let csv = b.write("esc.csv", "value,quantity,note\n1k,1,\"a\u{1b}[2Jb\"\n");
     b.run(&["import", text(&csv)])
         .code(2)
-        .stderr_has("row 1, column \"note\"");
+        .stderr_has("row 2, column \"note\"");
     let plan = b.write(
         "esc.toml",
         "name = \"kit\"\n[[stage]]\nname = \"tick\\u001b[2J\"\nform = \"pulse\"\nwidth = \"1ms\"\n",
@@ -503,8 +503,8 @@ fn imports_are_consistent_between_csv_and_json() {
     );
     b.run(&["import", text(&wrong)])
         .code(2)
-        .stderr_has("row 1, column \"value\"")
-        .stderr_has("row 2, column \"value\"");
+        .stderr_has("row 2, column \"value\"")
+        .stderr_has("row 3, column \"value\"");
     b.run(&["add", "4k7", "--qty", "1", "--kind", "capacitor"])
         .code(2)
         .stderr_has("resistor value");

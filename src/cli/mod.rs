@@ -5,11 +5,14 @@
 //! renderer in `report`. Exit codes: 0 success or design found, 1 nothing feasible or an electrical
 //! check failed, 2 error (bad input, store trouble). A closed output pipe is not an error.
 
+mod backup;
+mod care;
 mod check;
 mod context;
 mod demo;
 mod find;
 mod holds;
+mod log;
 mod output;
 mod plan;
 mod reach;
@@ -84,6 +87,8 @@ pub enum Command {
     Stock(stock::StockCommand),
     #[command(flatten)]
     Holds(holds::HoldsCommand),
+    #[command(flatten)]
+    Care(care::CareCommand),
     /// Evaluate a design you hand it: times, frequency, duty, worst case, Monte Carlo, warnings.
     Check(Box<check::CheckArgs>),
     /// Find a design from the parts in stock, with the fewest pieces.
@@ -259,6 +264,7 @@ pub(crate) fn dispatch_with(
         Command::Demo(args) => demo::run(args, &ctx, out),
         Command::Stock(cmd) => stock::run(cmd, &ctx, out),
         Command::Holds(cmd) => holds::run(cmd, &ctx, out),
+        Command::Care(cmd) => care::run(cmd, &ctx, out),
         Command::Check(args) => check::run(*args, &ctx, out),
         Command::Find(args) => find::run(args, &ctx, out),
         Command::Plan(cmd) => plan::run(cmd, &ctx, out),

@@ -260,7 +260,7 @@ fn resolve(p: &Path) -> Option<PathBuf> {
 }
 
 /// Whether two paths name the same existing file on disk (device and inode on Unix).
-fn same_file(a: &Path, b: &Path) -> bool {
+pub(crate) fn same_file(a: &Path, b: &Path) -> bool {
     #[cfg(unix)]
     {
         use std::os::unix::fs::MetadataExt as _;

@@ -52,6 +52,93 @@ pub struct LedgerEntry {
     pub plan: Option<String>,
     /// The hold row that moved.
     pub hold_id: Option<i64>,
+    /// The change this entry belongs to: the id of the change's first entry (one command's
+    /// transaction). Entries written before changes were grouped are their own change.
+    pub change_id: i64,
+    /// The change this entry compensates, for entries written by an undo.
+    pub undoes: Option<i64>,
+}
+
+/// Start a change: every ledger entry written in the caller's transaction from now on carries
+/// the same change id (and `undoes`, for an undo), so the change can be read back and undone as
+/// a whole. Call it right after beginning the write transaction. The marker lives in a
+/// per-connection temporary table and rolls back with the transaction.
+pub(crate) fn begin_change(conn: &Connection, undoes: Option<i64>) -> Result<(), StoreError> {
+    ensure_marker(conn)?;
+    conn.prepare_cached("DELETE FROM temp.open_change")?
+        .execute([])?;
+    conn.prepare_cached(
+        "INSERT INTO temp.open_change (id, undoes) \
+         SELECT COALESCE(MAX(id), 0) + 1, ?1 FROM main.ledger",
+    )?
+    .execute([undoes])?;
+    Ok(())
+}
+
+fn ensure_marker(conn: &Connection) -> Result<(), StoreError> {
+    conn.execute_batch(
+        "CREATE TEMP TABLE IF NOT EXISTS open_change (id INTEGER NOT NULL, undoes INTEGER)",
+    )?;
+    Ok(())
+}
+
+/// One ledger entry to append; the change id and `undoes` come from [`begin_change`].
+pub(crate) struct NewEntry<'a> {
+    pub part_id: i64,
+    pub who: &'a str,
+    pub why: &'a str,
+    pub delta: i64,
+    pub quantity_after: i64,
+    pub held_delta: i64,
+    pub held_after: i64,
+    pub plan: Option<&'a str>,
+    pub hold_id: Option<i64>,
+}
+
+/// Append one ledger entry inside the caller's write transaction.
+pub(crate) fn append_entry(conn: &Connection, e: &NewEntry<'_>) -> Result<(), StoreError> {
+    ensure_marker(conn)?;
+    conn.prepare_cached(
+        "INSERT INTO ledger (part_id, who, why, delta, quantity_after, held_delta, held_after, \
+         plan, hold_id, change_id, undoes) VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, \
+         (SELECT id FROM temp.open_change), (SELECT undoes FROM temp.open_change))",
+    )?
+    .execute(params![
+        e.part_id,
+        e.who,
+        e.why,
+        e.delta,
+        e.quantity_after,
+        e.held_delta,
+        e.held_after,
+        e.plan,
+        e.hold_id
+    ])?;
+    Ok(())
+}
+
+/// The columns [`entry_from_row`] reads, in order.
+pub(crate) const ENTRY_COLUMNS: &str = "ledger.id, ledger.part_id, ledger.at, ledger.who, \
+     ledger.why, ledger.delta, ledger.quantity_after, ledger.held_delta, ledger.held_after, \
+     ledger.plan, ledger.hold_id, COALESCE(ledger.change_id, ledger.id), ledger.undoes";
+
+/// Map one row selected with [`ENTRY_COLUMNS`].
+pub(crate) fn entry_from_row(r: &rusqlite::Row<'_>) -> rusqlite::Result<LedgerEntry> {
+    Ok(LedgerEntry {
+        id: r.get(0)?,
+        part_id: r.get(1)?,
+        at: r.get(2)?,
+        who: r.get(3)?,
+        why: r.get(4)?,
+        delta: r.get(5)?,
+        quantity_after: r.get(6)?,
+        held_delta: r.get(7)?,
+        held_after: r.get(8)?,
+        plan: r.get(9)?,
+        hold_id: r.get(10)?,
+        change_id: r.get(11)?,
+        undoes: r.get(12)?,
+    })
 }
 
 /// The row with exactly this identity, if any.
@@ -102,7 +189,7 @@ fn insert(conn: &Connection, spec: &PartSpec) -> Result<i64, StoreError> {
 
 /// Set a row's count and append the ledger entry. The caller holds the write transaction and
 /// has checked `after >= 0`.
-fn set_count(
+pub(crate) fn set_count(
     conn: &Connection,
     id: i64,
     delta: i64,
@@ -112,13 +199,23 @@ fn set_count(
 ) -> Result<(), StoreError> {
     conn.prepare_cached("UPDATE part SET quantity = ?2 WHERE id = ?1")?
         .execute(params![id, after])?;
-    conn.prepare_cached(
-        "INSERT INTO ledger (part_id, who, why, delta, quantity_after, held_after) \
-         VALUES (?1, ?2, ?3, ?4, ?5, \
-                 (SELECT COALESCE(SUM(quantity), 0) FROM hold WHERE part_id = ?1))",
-    )?
-    .execute(params![id, who, why, delta, after])?;
-    Ok(())
+    let held: i64 = conn
+        .prepare_cached("SELECT COALESCE(SUM(quantity), 0) FROM hold WHERE part_id = ?1")?
+        .query_row([id], |r| r.get(0))?;
+    append_entry(
+        conn,
+        &NewEntry {
+            part_id: id,
+            who,
+            why,
+            delta,
+            quantity_after: after,
+            held_delta: 0,
+            held_after: held,
+            plan: None,
+            hold_id: None,
+        },
+    )
 }
 
 fn opt_text<T>(v: Option<T>, f: impl Fn(T) -> String) -> String {
@@ -190,7 +287,10 @@ pub(crate) fn add_in(
     }
     let (id, created, before, updated) = match find_same(conn, spec)? {
         Some(part) => {
-            let updated = update_attributes(conn, &part, spec)?;
+            let mut updated = update_attributes(conn, &part, spec)?;
+            if super::care::revive(conn, part.id)? {
+                updated.push("row brought back (it had been removed)".to_string());
+            }
             (part.id, false, part.quantity, updated)
         }
         None => (insert(conn, spec)?, true, 0, Vec::new()),
@@ -225,9 +325,54 @@ impl Store {
         let tx = self
             .conn
             .transaction_with_behavior(TransactionBehavior::Immediate)?;
+        begin_change(&tx, None)?;
         let change = add_in(&tx, spec, qty, who, why)?;
         tx.commit()?;
         Ok(change)
+    }
+
+    /// Add `qty` pieces (1 or more) to the existing row `id` (`add '#7' --qty 3`): refills the
+    /// very row a mistaken take came from, whatever its bin or technology. A removed (retired)
+    /// row is brought back.
+    pub fn add_to_row(
+        &mut self,
+        id: i64,
+        qty: i64,
+        who: &str,
+        why: &str,
+    ) -> Result<Change, StoreError> {
+        if qty <= 0 {
+            return Err(StoreError::BadCount {
+                what: "the quantity to add to a row",
+                got: qty,
+            });
+        }
+        let tx = self
+            .conn
+            .transaction_with_behavior(TransactionBehavior::Immediate)?;
+        begin_change(&tx, None)?;
+        let part = part_by_id(&tx, id)?;
+        let mut updated = Vec::new();
+        if super::care::revive(&tx, id)? {
+            updated.push("row brought back (it had been removed)".to_string());
+        }
+        let after = part
+            .quantity
+            .checked_add(qty)
+            .ok_or_else(|| StoreError::Overflow {
+                label: text::value_text(part.value),
+            })?;
+        set_count(&tx, id, qty, after, who, why)?;
+        let now = part_by_id(&tx, id)?;
+        tx.commit()?;
+        Ok(Change {
+            before: part.quantity,
+            part: now,
+            created: false,
+            delta: qty,
+            updated,
+            why: why.to_string(),
+        })
     }
 
     /// Take `qty` pieces (1 or more) from row `id`. Refused, with nothing written, when the
@@ -242,6 +387,7 @@ impl Store {
         let tx = self
             .conn
             .transaction_with_behavior(TransactionBehavior::Immediate)?;
+        begin_change(&tx, None)?;
         let part = part_by_id(&tx, id)?;
         if qty > part.quantity {
             return Err(StoreError::NotEnough {
@@ -293,6 +439,7 @@ impl Store {
         let tx = self
             .conn
             .transaction_with_behavior(TransactionBehavior::Immediate)?;
+        begin_change(&tx, None)?;
         let part = part_by_id(&tx, id)?;
         // A count below the held pieces would break the plans' holds: refuse, and say which.
         if counted < part.held {
@@ -320,25 +467,11 @@ impl Store {
 
     /// The ledger, oldest first: of one part, or of the whole store.
     pub fn ledger(&self, part: Option<i64>) -> Result<Vec<LedgerEntry>, StoreError> {
-        let mut stmt = self.conn.prepare_cached(
-            "SELECT id, part_id, at, who, why, delta, quantity_after, held_delta, held_after, \
-             plan, hold_id FROM ledger WHERE ?1 IS NULL OR part_id = ?1 ORDER BY id",
-        )?;
-        let rows = stmt.query_map([part], |r| {
-            Ok(LedgerEntry {
-                id: r.get(0)?,
-                part_id: r.get(1)?,
-                at: r.get(2)?,
-                who: r.get(3)?,
-                why: r.get(4)?,
-                delta: r.get(5)?,
-                quantity_after: r.get(6)?,
-                held_delta: r.get(7)?,
-                held_after: r.get(8)?,
-                plan: r.get(9)?,
-                hold_id: r.get(10)?,
-            })
-        })?;
+        let sql = format!(
+            "SELECT {ENTRY_COLUMNS} FROM ledger WHERE ?1 IS NULL OR part_id = ?1 ORDER BY id"
+        );
+        let mut stmt = self.conn.prepare_cached(&sql)?;
+        let rows = stmt.query_map([part], entry_from_row)?;
         Ok(rows.collect::<Result<_, _>>()?)
     }
 }

@@ -427,7 +427,8 @@ fn cells(p: &Part) -> [String; 11] {
 /// Write every part in `format`, in stable content order (so two stores with the same stock
 /// export byte for byte the same). Returns the text and the number of parts.
 pub fn export(store: &Store, format: ExportFormat) -> Result<(String, usize), StoreError> {
-    let sql = format!("SELECT {PART_COLUMNS} FROM part ORDER BY {PART_ORDER}");
+    let sql =
+        format!("SELECT {PART_COLUMNS} FROM part WHERE retired_at IS NULL ORDER BY {PART_ORDER}");
     let parts = query_parts(&store.conn, &sql, &[])?;
     let n = parts.len();
     let text = match format {

@@ -10,6 +10,7 @@
 //! takes held pieces and `recount` never goes below them (both refuse with a message naming the
 //! plans); held pieces leave the shelf only through [`Store::use_held`].
 
+use super::change::{NewEntry, append_entry, begin_change};
 use super::part::Part;
 use super::query::part_by_id;
 use super::{Shortfall, Store, StoreError};
@@ -38,6 +39,11 @@ pub struct Hold {
     pub who: String,
     /// The reason given when it was first made.
     pub note: String,
+    /// Seconds since the hold was first made (0 for a hold made in the future by a skewed
+    /// clock). Not serialised, so that listings stay the same from one second to the next;
+    /// `holds --json` says `stale` instead.
+    #[serde(skip_serializing)]
+    pub age_seconds: i64,
 }
 
 /// Which holds to list. Empty fields match everything.
@@ -51,6 +57,46 @@ pub struct HoldFilter {
     pub part: Option<i64>,
     /// Also holds that are down to 0 (released or used).
     pub closed: bool,
+    /// Only holds first made at least this many seconds ago (stale holds).
+    pub older_than: Option<i64>,
+}
+
+/// The member name that holds unit `n` of a plan: `unit 7`. `plan --hold` files each unit's
+/// kit under its own member so that units can be used and released one by one.
+pub fn unit_member(n: u32) -> String {
+    format!("unit {n}")
+}
+
+/// The unit number of a member named like [`unit_member`], if it is one.
+pub fn unit_of(member: &str) -> Option<u32> {
+    let n = member.strip_prefix("unit ")?;
+    if n.is_empty() || !n.chars().all(|c| c.is_ascii_digit()) || n.starts_with('0') {
+        return None;
+    }
+    n.parse().ok()
+}
+
+/// "units 1–5, 9" for messages and ledger reasons.
+pub fn units_text(units: &[u32]) -> String {
+    let mut sorted = units.to_vec();
+    sorted.sort_unstable();
+    sorted.dedup();
+    let mut spans: Vec<String> = Vec::new();
+    let mut i = 0;
+    while i < sorted.len() {
+        let mut j = i;
+        while j + 1 < sorted.len() && sorted[j + 1] == sorted[j] + 1 {
+            j += 1;
+        }
+        spans.push(if i == j {
+            sorted[i].to_string()
+        } else {
+            format!("{}–{}", sorted[i], sorted[j])
+        });
+        i = j + 1;
+    }
+    let word = if sorted.len() == 1 { "unit" } else { "units" };
+    format!("{word} {}", spans.join(", "))
 }
 
 /// What a change did to holds.
@@ -100,7 +146,8 @@ impl HoldChange {
     }
 }
 
-const HOLD_COLUMNS: &str = "id, plan, member, part_id, quantity, created_at, who, note";
+const HOLD_COLUMNS: &str = "id, plan, member, part_id, quantity, created_at, who, note, \
+     MAX(0, CAST(ROUND((julianday('now') - julianday(created_at)) * 86400) AS INTEGER))";
 
 fn hold_from_row(r: &Row<'_>) -> rusqlite::Result<Hold> {
     Ok(Hold {
@@ -112,6 +159,7 @@ fn hold_from_row(r: &Row<'_>) -> rusqlite::Result<Hold> {
         created_at: r.get(5)?,
         who: r.get(6)?,
         note: r.get(7)?,
+        age_seconds: r.get(8)?,
     })
 }
 
@@ -174,6 +222,26 @@ pub(crate) fn holders(conn: &Connection, id: i64) -> Result<Vec<(String, i64)>, 
     Ok(rows.collect::<Result<_, _>>()?)
 }
 
+/// Every (part row, pieces) asked for that is more than the part has free, with its counts.
+fn free_shortfalls(conn: &Connection, asks: &[(i64, i64)]) -> Result<Vec<Shortfall>, StoreError> {
+    let mut short = Vec::new();
+    for &(id, qty) in asks {
+        let part = part_by_id(conn, id)?;
+        if qty > part.available() {
+            short.push(Shortfall {
+                part_id: id,
+                part: words(&part),
+                want: qty,
+                on_hand: part.quantity,
+                held: part.held,
+                can: part.available(),
+                holders: holders(conn, id)?,
+            });
+        }
+    }
+    Ok(short)
+}
+
 /// Live holds of `plan` (and `member`, and `part`), oldest first.
 fn live_holds(
     conn: &Connection,
@@ -193,7 +261,7 @@ fn live_holds(
 /// Move one hold by `held_delta` and the shelf by `quantity_delta`, and append the ledger
 /// entry. The caller holds the write transaction and has checked the counts; the triggers of
 /// migration 0002 refuse anything that would leave holds above the shelf.
-fn move_hold(
+pub(crate) fn move_hold(
     conn: &Connection,
     hold: &Hold,
     held_delta: i64,
@@ -201,28 +269,36 @@ fn move_hold(
     who: &str,
     why: &str,
 ) -> Result<HoldLine, StoreError> {
-    conn.prepare_cached("UPDATE hold SET quantity = quantity + ?2 WHERE id = ?1")?
-        .execute(params![hold.id, held_delta])?;
-    if quantity_delta != 0 {
+    // Pieces coming back to the shelf (an undone use) arrive before the hold grows, pieces
+    // leaving it go after the hold shrinks: the triggers see holds within the shelf throughout.
+    let shelf = |conn: &Connection| -> Result<(), StoreError> {
         conn.prepare_cached("UPDATE part SET quantity = quantity + ?2 WHERE id = ?1")?
             .execute(params![hold.part_id, quantity_delta])?;
+        Ok(())
+    };
+    if quantity_delta > 0 {
+        shelf(conn)?;
+    }
+    conn.prepare_cached("UPDATE hold SET quantity = quantity + ?2 WHERE id = ?1")?
+        .execute(params![hold.id, held_delta])?;
+    if quantity_delta < 0 {
+        shelf(conn)?;
     }
     let part = part_by_id(conn, hold.part_id)?;
-    conn.prepare_cached(
-        "INSERT INTO ledger (part_id, who, why, delta, quantity_after, held_delta, held_after, \
-         plan, hold_id) VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9)",
-    )?
-    .execute(params![
-        part.id,
-        who,
-        why,
-        quantity_delta,
-        part.quantity,
-        held_delta,
-        part.held,
-        hold.plan,
-        hold.id
-    ])?;
+    append_entry(
+        conn,
+        &NewEntry {
+            part_id: part.id,
+            who,
+            why,
+            delta: quantity_delta,
+            quantity_after: part.quantity,
+            held_delta,
+            held_after: part.held,
+            plan: Some(&hold.plan),
+            hold_id: Some(hold.id),
+        },
+    )?;
     let hold = hold_by_id(conn, hold.id)?;
     Ok(HoldLine {
         hold,
@@ -232,13 +308,13 @@ fn move_hold(
     })
 }
 
-fn hold_by_id(conn: &Connection, id: i64) -> Result<Hold, StoreError> {
+pub(crate) fn hold_by_id(conn: &Connection, id: i64) -> Result<Hold, StoreError> {
     let sql = format!("SELECT {HOLD_COLUMNS} FROM hold WHERE id = ?1");
     Ok(conn.prepare_cached(&sql)?.query_row([id], hold_from_row)?)
 }
 
 /// The hold row of (plan, member, part), created at 0 if there is none yet.
-fn hold_row(
+pub(crate) fn hold_row(
     conn: &Connection,
     plan: &str,
     member: &str,
@@ -329,21 +405,8 @@ impl Store {
         let tx = self
             .conn
             .transaction_with_behavior(TransactionBehavior::Immediate)?;
-        let mut short = Vec::new();
-        for &(id, qty) in &per_part {
-            let part = part_by_id(&tx, id)?;
-            if qty > part.available() {
-                short.push(Shortfall {
-                    part_id: id,
-                    part: words(&part),
-                    want: qty,
-                    on_hand: part.quantity,
-                    held: part.held,
-                    can: part.available(),
-                    holders: holders(&tx, id)?,
-                });
-            }
-        }
+        begin_change(&tx, None)?;
+        let short = free_shortfalls(&tx, &per_part)?;
         if !short.is_empty() {
             return Err(StoreError::NotFree { plan, short });
         }
@@ -378,6 +441,7 @@ impl Store {
         let tx = self
             .conn
             .transaction_with_behavior(TransactionBehavior::Immediate)?;
+        begin_change(&tx, None)?;
         let mut holds = Vec::new();
         if parts.is_empty() {
             holds = live_holds(&tx, &plan, member.as_deref(), None)?;
@@ -447,6 +511,7 @@ impl Store {
         let tx = self
             .conn
             .transaction_with_behavior(TransactionBehavior::Immediate)?;
+        begin_change(&tx, None)?;
         // (hold, pieces to use from it)
         let mut draws: Vec<(Hold, i64)> = Vec::new();
         match &items {
@@ -513,16 +578,228 @@ impl Store {
         let sql = format!(
             "SELECT {HOLD_COLUMNS} FROM hold WHERE (?1 IS NULL OR plan = ?1) \
              AND (?2 IS NULL OR member = ?2) AND (?3 IS NULL OR part_id = ?3) \
-             AND (?4 OR quantity > 0) ORDER BY plan, member, id"
+             AND (?4 OR quantity > 0) \
+             AND (?5 IS NULL OR julianday(created_at) <= julianday('now') - ?5 / 86400.0) \
+             ORDER BY plan, member, id"
         );
         let plan = filter.plan.as_deref().map(str::trim);
         let member = filter.member.as_deref().map(str::trim);
         let mut stmt = self.conn.prepare_cached(&sql)?;
         let rows = stmt.query_map(
-            params![plan, member, filter.part, filter.closed],
+            params![plan, member, filter.part, filter.closed, filter.older_than],
             hold_from_row,
         )?;
         Ok(rows.collect::<Result<_, _>>()?)
+    }
+}
+
+/// The live holds of `plan` filed under unit members, as (unit, hold), by unit then part.
+fn unit_holds(conn: &Connection, plan: &str) -> Result<Vec<(u32, Hold)>, StoreError> {
+    let mut out: Vec<(u32, Hold)> = live_holds(conn, plan, None, None)?
+        .into_iter()
+        .filter_map(|h| unit_of(&h.member).map(|u| (u, h)))
+        .collect();
+    out.sort_by_key(|(u, h)| (*u, h.part_id, h.id));
+    Ok(out)
+}
+
+impl Store {
+    /// Make the unit holds of `plan` exactly `kits`: each kit is (unit number, [(part row id,
+    /// pieces)]), filed under the member [`unit_member`]. What the plan already holds counts:
+    /// only missing pieces are held, surplus pieces (a unit whose design changed, a unit no
+    /// longer in the list) are released, and holding the same kits again changes nothing. So
+    /// `plan --hold` is idempotent, for the member who held first and for anyone planning the
+    /// same plan later. Holds of other members (not `unit N`) are left alone. One transaction,
+    /// all or nothing: [`StoreError::NotFree`] lists every part whose free pieces cannot cover
+    /// what is missing, and nothing changes.
+    pub fn set_unit_holds(
+        &mut self,
+        plan: &str,
+        kits: &[(u32, Vec<(i64, i64)>)],
+        who: &str,
+        why: &str,
+    ) -> Result<HoldChange, StoreError> {
+        let plan = clean_name(plan, "plan", false)?;
+        // Target pieces per (unit, part).
+        let mut target: std::collections::BTreeMap<(u32, i64), i64> = Default::default();
+        for (unit, items) in kits {
+            if *unit == 0 {
+                return Err(StoreError::Invalid("units are numbered from 1".into()));
+            }
+            for &(id, qty) in &merge_items(items, "the quantity to hold")? {
+                let slot = target.entry((*unit, id)).or_insert(0);
+                *slot = slot.checked_add(qty).ok_or_else(|| StoreError::Overflow {
+                    label: format!("part #{id}"),
+                })?;
+            }
+        }
+        let tx = self
+            .conn
+            .transaction_with_behavior(TransactionBehavior::Immediate)?;
+        begin_change(&tx, None)?;
+        let current = unit_holds(&tx, &plan)?;
+        let mut lines = Vec::new();
+        // Surplus first, so the pieces it frees can serve what is missing elsewhere.
+        for (unit, h) in &current {
+            let want = target.get(&(*unit, h.part_id)).copied().unwrap_or(0);
+            if h.quantity > want {
+                let why = format!("{why}: unit {unit}");
+                lines.push(move_hold(&tx, h, want - h.quantity, 0, who, &why)?);
+            }
+        }
+        let mut missing: Vec<(u32, i64, i64)> = Vec::new();
+        for (&(unit, id), &want) in &target {
+            let has: i64 = current
+                .iter()
+                .filter(|(u, h)| *u == unit && h.part_id == id)
+                .map(|(_, h)| h.quantity)
+                .sum();
+            if want > has {
+                missing.push((unit, id, want - has));
+            }
+        }
+        let per_part = merge_items(
+            &missing
+                .iter()
+                .map(|&(_, id, n)| (id, n))
+                .collect::<Vec<_>>(),
+            "the quantity to hold",
+        )?;
+        let short = free_shortfalls(&tx, &per_part)?;
+        if !short.is_empty() {
+            return Err(StoreError::NotFree { plan, short });
+        }
+        for &(unit, id, n) in &missing {
+            let why = format!("{why}: unit {unit}");
+            let hold = hold_row(&tx, &plan, &unit_member(unit), id, who, &why)?;
+            lines.push(move_hold(&tx, &hold, n, 0, who, &why)?);
+        }
+        tx.commit()?;
+        Ok(HoldChange {
+            action: HoldAction::Hold,
+            plan,
+            member: None,
+            why: why.to_string(),
+            lines,
+        })
+    }
+
+    /// The units of `plan` that hold pieces now, in order.
+    pub fn held_units(&self, plan: &str) -> Result<Vec<u32>, StoreError> {
+        let plan = clean_name(plan, "plan", false)?;
+        let mut units: Vec<u32> = unit_holds(&self.conn, &plan)?
+            .into_iter()
+            .map(|(u, _)| u)
+            .collect();
+        units.dedup();
+        Ok(units)
+    }
+
+    /// The units of `plan` whose held pieces were built in (used), in order.
+    pub fn built_units(&self, plan: &str) -> Result<Vec<u32>, StoreError> {
+        let plan = clean_name(plan, "plan", false)?;
+        let mut stmt = self.conn.prepare_cached(
+            "SELECT DISTINCT h.member FROM ledger l JOIN hold h ON h.id = l.hold_id \
+             WHERE h.plan = ?1 AND l.delta < 0 AND l.held_delta < 0",
+        )?;
+        let members: Vec<String> = stmt
+            .query_map([&plan], |r| r.get(0))?
+            .collect::<Result<_, _>>()?;
+        let mut units: Vec<u32> = members.iter().filter_map(|m| unit_of(m)).collect();
+        units.sort_unstable();
+        Ok(units)
+    }
+
+    /// Build `count` units of `plan`: every piece the lowest-numbered `count` units hold leaves
+    /// the shelf and the hold together (one ledger entry per hold, naming its unit through the
+    /// hold). Refused with nothing changed when the plan holds fewer units.
+    pub fn use_units(
+        &mut self,
+        plan: &str,
+        count: u32,
+        who: &str,
+        why: &str,
+    ) -> Result<(HoldChange, Vec<u32>), StoreError> {
+        self.move_units(plan, count, true, who, why)
+    }
+
+    /// Give back `count` units of `plan` (the highest-numbered first; `None`: every unit):
+    /// their held pieces return to free stock.
+    pub fn release_units(
+        &mut self,
+        plan: &str,
+        count: Option<u32>,
+        who: &str,
+        why: &str,
+    ) -> Result<(HoldChange, Vec<u32>), StoreError> {
+        self.move_units(plan, count.unwrap_or(u32::MAX), false, who, why)
+    }
+
+    fn move_units(
+        &mut self,
+        plan: &str,
+        count: u32,
+        build: bool,
+        who: &str,
+        why: &str,
+    ) -> Result<(HoldChange, Vec<u32>), StoreError> {
+        let plan = clean_name(plan, "plan", false)?;
+        if count == 0 {
+            return Err(StoreError::BadCount {
+                what: "the number of units",
+                got: 0,
+            });
+        }
+        let tx = self
+            .conn
+            .transaction_with_behavior(TransactionBehavior::Immediate)?;
+        begin_change(&tx, None)?;
+        let holds = unit_holds(&tx, &plan)?;
+        let mut units: Vec<u32> = holds.iter().map(|(u, _)| *u).collect();
+        units.dedup();
+        if units.is_empty() {
+            return Err(StoreError::NothingHeld {
+                plan,
+                scope: " for any unit (`plan --hold` holds kits unit by unit)".into(),
+            });
+        }
+        let n = usize::try_from(count).unwrap_or(usize::MAX);
+        if build && n > units.len() {
+            return Err(StoreError::Invalid(format!(
+                "plan {plan:?} holds {} ({}), cannot use {count}",
+                units.len(),
+                units_text(&units)
+            )));
+        }
+        let chosen: Vec<u32> = if build {
+            units[..n].to_vec()
+        } else {
+            let keep = units.len().saturating_sub(n);
+            units[keep..].to_vec()
+        };
+        let mut lines = Vec::new();
+        for (u, h) in &holds {
+            if chosen.contains(u) {
+                let q = if build { -h.quantity } else { 0 };
+                let why = format!("{why}: unit {u}");
+                lines.push(move_hold(&tx, h, -h.quantity, q, who, &why)?);
+            }
+        }
+        tx.commit()?;
+        Ok((
+            HoldChange {
+                action: if build {
+                    HoldAction::Use
+                } else {
+                    HoldAction::Release
+                },
+                plan,
+                member: None,
+                why: why.to_string(),
+                lines,
+            },
+            chosen,
+        ))
     }
 }
 
@@ -574,6 +851,22 @@ mod tests {
                 .sum();
             assert_eq!(sum, h.quantity, "hold #{}", h.id);
         }
+    }
+
+    #[test]
+    fn unit_members_read_back_and_spans_are_written_plainly() {
+        for (n, name) in [(1, "unit 1"), (24, "unit 24")] {
+            assert_eq!(unit_member(n), name);
+            assert_eq!(unit_of(name), Some(n));
+        }
+        for not_a_unit in [
+            "", "unit", "unit ", "unit 0", "unit 07", "unit 3a", "Unit 3", "ana",
+        ] {
+            assert_eq!(unit_of(not_a_unit), None, "{not_a_unit:?}");
+        }
+        assert_eq!(units_text(&[3]), "unit 3");
+        assert_eq!(units_text(&[5, 1, 2, 3, 9, 10]), "units 1–3, 5, 9–10");
+        assert_eq!(units_text(&[2, 2, 1]), "units 1–2");
     }
 
     #[test]

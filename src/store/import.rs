@@ -125,6 +125,7 @@ impl Store {
         let tx = self
             .conn
             .transaction_with_behavior(TransactionBehavior::Immediate)?;
+        super::change::begin_change(&tx, None)?;
         let mut report = ImportReport {
             dry_run,
             source: source.to_string(),

@@ -28,6 +28,11 @@ pub const MIGRATIONS: &[Migration] = &[
         name: "0002_holds.sql",
         sql: include_str!("../../migrations/0002_holds.sql"),
     },
+    Migration {
+        version: 3,
+        name: "0003_changes_and_retired_rows.sql",
+        sql: include_str!("../../migrations/0003_changes_and_retired_rows.sql"),
+    },
 ];
 
 /// The schema version this binary writes.

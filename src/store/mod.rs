@@ -7,25 +7,35 @@
 //! re-derived from the ledger. Holds (reservations for a plan) live in `holds.rs`: a part's
 //! `held` is the sum of its holds, and held pieces are left out of what new designs may use.
 
+pub mod backup;
+mod care;
 mod change;
 mod error;
 mod exchange;
 pub mod holds;
 mod import;
+pub mod log;
 mod migrate;
 pub use crate::model::part;
 mod query;
 pub mod spec;
 pub use crate::model::text;
+pub mod undo;
 
+pub use backup::{Contents, FullExport};
+pub use care::Merge;
 pub use change::{Change, LedgerEntry};
 pub use error::{RowError, Shortfall, StoreError};
 pub use exchange::{COLUMNS, ExportFormat, Record, export, neutralise_cell, read_csv, read_json};
-pub use holds::{Hold, HoldAction, HoldChange, HoldFilter, HoldLine};
+pub use holds::{
+    Hold, HoldAction, HoldChange, HoldFilter, HoldLine, unit_member, unit_of, units_text,
+};
 pub use import::{ImportLine, ImportReport};
+pub use log::{LogEntry, LogFilter};
 pub use part::{Kind, Part, Technology, UnknownName, Value};
 pub use query::PartFilter;
 pub use spec::{PartSpec, PartText};
+pub use undo::{Undo, UndoLine, UndoTarget};
 
 use rusqlite::Connection;
 use std::path::{Path, PathBuf};

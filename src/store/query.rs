@@ -115,7 +115,8 @@ fn kinds_of(value: Value) -> &'static str {
 impl PartFilter {
     /// The WHERE clause and its parameters.
     fn sql(&self) -> (String, Vec<SqlValue>) {
-        let mut clauses: Vec<String> = Vec::new();
+        // Retired rows (emptied and put away, see `remove_row`) leave every list.
+        let mut clauses: Vec<String> = vec!["retired_at IS NULL".to_string()];
         let mut params: Vec<SqlValue> = Vec::new();
         let mut push = |clause: String, param: Option<SqlValue>| {
             if let Some(p) = param {
@@ -202,7 +203,7 @@ impl Store {
     /// this plan may use. `None` is the same as [`Store::available_parts`].
     pub fn available_parts_including(&self, plan: Option<&str>) -> Result<Vec<Part>, StoreError> {
         let sql = format!(
-            "SELECT {PART_COLUMNS_FOR_PLAN} FROM part WHERE quantity > \
+            "SELECT {PART_COLUMNS_FOR_PLAN} FROM part WHERE retired_at IS NULL AND quantity > \
              (SELECT COALESCE(SUM(h.quantity), 0) FROM hold h WHERE h.part_id = part.id \
               AND h.plan IS NOT ?1) ORDER BY {PART_ORDER}"
         );

@@ -102,7 +102,9 @@ pub struct PlanSource {
 pub struct PlanArgs {
     #[command(flatten)]
     source: PlanSource,
-    /// Hold the parts of the buildable units for this plan, under your name (--user).
+    /// Hold the parts of the buildable units for this plan, unit by unit (members "unit 1",
+    /// "unit 2", …); what the plan already holds counts, so repeating it holds only what is
+    /// missing.
     #[arg(long)]
     hold: bool,
 }
@@ -308,7 +310,7 @@ fn run_plan(args: PlanArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status
         .iter()
         .map(|s| stage_plan(&spec, s))
         .collect::<Result<_>>()?;
-    let parts = load_stock(ctx, args.source.stock.as_deref())?;
+    let parts = super::holds::stock_for_plan(ctx, args.source.stock.as_deref(), &spec.name)?;
     let answer = plan::buildable(
         &parts,
         &stages,
@@ -322,17 +324,7 @@ fn run_plan(args: PlanArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status
         if args.source.stock.is_some() {
             bail!("--hold needs the stock database: holds cannot be kept in a --stock CSV");
         }
-        let mut store = super::stock::open_for_writing(ctx)?;
-        let items: Vec<(i64, i64)> = answer
-            .takes
-            .iter()
-            .map(|&(row, n)| (parts[row].id, i64::try_from(n).unwrap_or(i64::MAX)))
-            .collect();
-        let why = format!("plan {:?}: {} units", spec.name, answer.built);
-        let change = store.hold(&spec.name, &ctx.user, &items, &ctx.user, &why).with_context(|| {
-            format!("holding the parts for {:?} (the stock may have changed since it was read: run the plan again)", spec.name)
-        })?;
-        held = Some(change);
+        held = Some(super::holds::hold_plan(ctx, &spec.name, &parts, &answer)?);
     }
     if ctx.json {
         #[derive(Serialize)]
@@ -610,7 +602,7 @@ fn run_reorder(args: ReorderArgs, ctx: &Context, out: &mut dyn Write) -> Result<
     if offers.is_empty() {
         bail!("the price list offers nothing (check --buy)");
     }
-    let mut parts = load_stock(ctx, args.source.stock.as_deref())?;
+    let mut parts = super::holds::stock_for_plan(ctx, args.source.stock.as_deref(), &spec.name)?;
     let stock_rows = parts.len();
     let (extra, buyable) = offers_as_parts(&offers, stock_rows, spec.units);
     parts.extend(extra);

@@ -12,6 +12,7 @@ Examples:
   onhand add 10u --qty 5 --volts 25 --low 2    an electrolytic, warn at 2 left
   onhand add 1N4148 --qty 30                   a diode, known by its type number
   onhand add marking:472 --qty 100             a chip resistor printed 472: 4.7 kΩ
+  onhand add '#7' --qty 3                      refill row 7 (e.g. after a mistaken take)
 
 The kind follows the value: a diode type number (1N4148, BAT85) means a diode, a farad unit or
 a p/n/u/µ multiplier a capacitor, anything else a resistor; --kind overrides. A bare 472 is
@@ -62,6 +63,48 @@ pub struct AddArgs {
     pub why: Option<String>,
 }
 
+/// `add '#7' --qty 3`: refill an existing row by its number.
+fn add_to_row(a: AddArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Result<Status> {
+    let digits = a.value.trim().trim_start_matches('#');
+    let Ok(id) = digits.parse::<i64>() else {
+        bail!("{:?} is not a row number: write #7", a.value.trim());
+    };
+    let described = [
+        &a.kind,
+        &a.tolerance,
+        &a.technology,
+        &a.volts,
+        &a.watts,
+        &a.package,
+    ]
+    .iter()
+    .chain([&a.bin, &a.low, &a.note].iter())
+    .any(|o| o.is_some());
+    if described {
+        bail!("a row number names the part already: give only --qty (and --why)");
+    }
+    let qty = super::pieces("--qty", a.qty, 1, "")?;
+    let mut store = super::open_for_writing(ctx)?;
+    let why = super::reason(a.why, "add")?;
+    let change = store.add_to_row(id, qty, &ctx.user, &why)?;
+    if ctx.json {
+        writeln!(out, "{}", serde_json::to_string(&change)?)?;
+        return Ok(Status::Success);
+    }
+    writeln!(
+        out,
+        "added {} to {}: {} → {}",
+        change.delta,
+        describe(&change.part),
+        change.before,
+        change.part.quantity
+    )?;
+    for u in &change.updated {
+        writeln!(out, "  also: {u}")?;
+    }
+    Ok(Status::Success)
+}
+
 /// Render field problems as one message, naming the options.
 pub fn field_errors(errs: &[FieldError]) -> String {
     errs.iter()
@@ -72,6 +115,9 @@ pub fn field_errors(errs: &[FieldError]) -> String {
 
 /// Run `add`.
 pub fn run(a: AddArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Result<Status> {
+    if a.value.trim().starts_with('#') {
+        return add_to_row(a, ctx, out);
+    }
     let text = PartText {
         kind: a.kind,
         value: a.value,

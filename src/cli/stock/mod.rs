@@ -146,22 +146,9 @@ pub fn describe(p: &Part) -> String {
     s
 }
 
-/// Find the one row a PART argument means: `#12` or `12` is a row id; anything else is a value
-/// (with `--kind`, `--bin`, `--tech` to narrow it down). Ambiguity is an error listing the
-/// candidates.
-pub fn resolve_part(store: &Store, text: &str, narrow: &Narrow) -> anyhow::Result<Part> {
-    let t = text.trim();
-    text::check_field("the part", t, text::MAX_VALUE).map_err(anyhow::Error::msg)?;
-    let id_text = t.strip_prefix('#').unwrap_or(t);
-    if !id_text.is_empty() && id_text.chars().all(|c| c.is_ascii_digit()) {
-        let id: i64 = id_text
-            .parse()
-            .with_context(|| format!("row id {} is too large", text::excerpt(t)))?;
-        return Ok(store.part(id)?);
-    }
-    if t.starts_with('#') {
-        bail!("{} is not a row id (write #12 or 12)", text::excerpt(t));
-    }
+/// Every stock row a value means (`4.7k`, `100n`, a diode type), narrowed by `--kind`, `--bin`,
+/// `--tech`; removed rows are left out. Used by [`resolve_part`] and by `log --part`.
+pub fn rows_of_value(store: &Store, t: &str, narrow: &Narrow) -> anyhow::Result<Vec<Part>> {
     let kind = parse_kind(narrow.kind.as_deref())?.unwrap_or_else(|| text::infer_kind(t));
     let technology = parse_tech(narrow.technology.as_deref())?;
     let mut filter = PartFilter {
@@ -196,6 +183,28 @@ pub fn resolve_part(store: &Store, text: &str, narrow: &Narrow) -> anyhow::Resul
         filter.value = Some(spec.value);
         store.parts(&filter)?
     };
+    Ok(candidates)
+}
+
+/// Find the one row a PART argument means: `#12` or `12` is a row id; anything else is a value
+/// (with `--kind`, `--bin`, `--tech` to narrow it down). Ambiguity is an error listing the
+/// candidates.
+pub fn resolve_part(store: &Store, text: &str, narrow: &Narrow) -> anyhow::Result<Part> {
+    let t = text.trim();
+    text::check_field("the part", t, text::MAX_VALUE).map_err(anyhow::Error::msg)?;
+    let id_text = t.strip_prefix('#').unwrap_or(t);
+    if !id_text.is_empty() && id_text.chars().all(|c| c.is_ascii_digit()) {
+        let id: i64 = id_text
+            .parse()
+            .with_context(|| format!("row id {} is too large", text::excerpt(t)))?;
+        return Ok(store.part(id)?);
+    }
+    if t.starts_with('#') {
+        bail!("{} is not a row id (write #12 or 12)", text::excerpt(t));
+    }
+    let candidates = rows_of_value(store, t, narrow)?;
+    let kind = parse_kind(narrow.kind.as_deref())?.unwrap_or_else(|| text::infer_kind(t));
+    let technology = parse_tech(narrow.technology.as_deref())?;
     match candidates.as_slice() {
         [] => {
             let mut msg = format!("no {kind} {t} in stock");
