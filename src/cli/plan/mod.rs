@@ -16,7 +16,7 @@ use super::find::{load_stock, stage_of, techs};
 use super::{Context, Status};
 use crate::report::find::{describe_goal, jdesign, write_design};
 use crate::solve::allocate::{Limits, Proof};
-use crate::solve::plan::{self, Buildable, PlanStage};
+use crate::solve::plan::{self, Bound, Buildable, Cover, Mix, PlanStage};
 use crate::solve::{Duty, Goal, Rank, Settings, StageGoal, family_by_name};
 use crate::store::Part;
 use crate::timing::Conditions;
@@ -32,6 +32,8 @@ const PLAN_EXAMPLES: &str = "\
 Examples:
   onhand plan sample-stock/blinker-kit.toml              how many kits the stock can build
   onhand plan kit.toml --units 30 --hold                 ...and hold the parts for you
+  onhand plan kit.toml --identical                       every kit the same design per stage
+  onhand plan kit.toml --variants 2                      at most two designs per stage
   onhand plan --stage astable:2Hz:55..70% --stage pulse:20ms --units 12 --name clocks
 
 A plan file is TOML: name, units, family, supply, tolerance, then one [[stage]] per timer
@@ -94,6 +96,12 @@ pub struct PlanArgs {
     /// Hold the parts of the buildable units for this plan, under your name (--user).
     #[arg(long)]
     hold: bool,
+    /// Every unit the same: one design per stage for all units (overrides the file).
+    #[arg(long, conflicts_with = "variants")]
+    identical: bool,
+    /// At most N designs per stage across all units (overrides the file).
+    #[arg(long, value_name = "N", value_parser = clap::value_parser!(u32).range(1..=100))]
+    variants: Option<u32>,
 }
 
 /// Run a plan command.
@@ -156,6 +164,7 @@ pub(super) fn load_plan(src: &PlanSource) -> Result<PlanSpec> {
                 family: src.family.clone(),
                 supply,
                 stages,
+                variants: None,
             }
         }
     };
@@ -260,6 +269,42 @@ pub(super) fn unit_span(first: u32, n: u32) -> String {
     }
 }
 
+/// What the proof covers: the whole design space, or the candidate lists offered (and which
+/// stages had more designs than were offered). `bound` says why the unit count is the most
+/// possible even so, when it is; `rest` names what is only proven over the candidates
+/// ("fewest pieces", "least cost").
+pub(super) fn claim_text(p: Proof, cover: &[Cover], bound: Option<&Bound>, rest: &str) -> String {
+    let base = proof_text(p);
+    if p != Proof::Optimal {
+        return base.to_string();
+    }
+    let cut: Vec<&Cover> = cover.iter().filter(|c| !c.complete).collect();
+    if cut.is_empty() {
+        return format!("{base} over every design that meets the targets");
+    }
+    let offered: Vec<String> = cover.iter().map(|c| c.offered.to_string()).collect();
+    let names: Vec<String> = cut.iter().map(|c| format!("{:?}", c.stage)).collect();
+    let most = cover.iter().map(|c| c.offered).max().unwrap_or(0);
+    let left_out = format!(
+        "{} {} more designs that were left out — `--candidates {}` offers more",
+        names.join(", "),
+        if cut.len() == 1 { "has" } else { "have" },
+        most.saturating_mul(2).max(1)
+    );
+    let offered = offered.join(", ");
+    match bound {
+        Some(Bound::EveryUnit) => format!(
+            "every unit is built; {rest} proven only over the {offered} candidate designs offered per stage: {left_out}"
+        ),
+        Some(Bound::Stage(s)) => format!(
+            "no plan can build more: stage {s:?} alone cannot, from the whole stock, over every design it has; {rest} proven only over the {offered} candidate designs offered per stage: {left_out}"
+        ),
+        None => format!(
+            "{base} only over the {offered} candidate designs offered per stage, so a better plan may exist: {left_out}"
+        ),
+    }
+}
+
 pub(super) fn proof_text(p: Proof) -> &'static str {
     match p {
         Proof::Optimal => "proven optimal",
@@ -277,11 +322,18 @@ fn run_plan(args: PlanArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status
         .map(|s| stage_plan(&spec, s))
         .collect::<Result<_>>()?;
     let parts = load_stock(ctx, args.source.stock.as_deref())?;
-    let answer = plan::buildable(
+    let variants = if args.identical {
+        Some(1)
+    } else {
+        args.variants.or(spec.variants)
+    };
+    let mix = variants.map_or(Mix::Mixed, |variants| Mix::Kits { variants });
+    let answer = plan::plan_units(
         &parts,
         &stages,
         spec.units,
         args.source.candidates,
+        mix,
         limits(&args.source)?,
     )
     .context("planning")?;
@@ -321,6 +373,12 @@ fn run_plan(args: PlanArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status
             "wanted": answer.wanted,
             "built": answer.built,
             "proof": answer.proof,
+            "optimal_over": if answer.cover.iter().all(|c| c.complete) { "every design" } else { "the candidates offered" },
+            "cover": answer.cover,
+            "units_bound_by": answer.units_bound_by,
+            "mix": answer.mix,
+            "mixed_built": answer.mixed_built,
+            "classes": answer.classes,
             "integer_program": answer.size,
             "pieces": answer.pieces,
             "stages": answer.stages.iter().zip(&stages).map(|(sh, st)| {
@@ -387,15 +445,42 @@ fn write_plan(
         spec.supply
     )?;
     writeln!(out)?;
+    if let Mix::Kits { variants } = a.mix {
+        let how = if variants == 1 {
+            "identical kits: one design per stage for every unit".to_string()
+        } else {
+            format!("kits with at most {variants} designs per stage across all units")
+        };
+        writeln!(out, "Planned as {how}.")?;
+    }
     writeln!(
         out,
         "The stock can build {} of {} units ({}; integer program of {} variables and {} constraints).",
         a.built,
         a.wanted,
-        proof_text(a.proof),
+        claim_text(
+            a.proof,
+            &a.cover,
+            a.units_bound_by.as_ref(),
+            "fewest pieces"
+        ),
         a.size.variables,
         a.size.constraints
     )?;
+    if let Some(mixed) = a.mixed_built {
+        let cmp = match mixed.cmp(&a.built) {
+            std::cmp::Ordering::Greater => format!(
+                "{} more than these kits; drop --identical/--variants to build them",
+                mixed - a.built
+            ),
+            _ => "no more than these kits".to_string(),
+        };
+        writeln!(
+            out,
+            "A mixed plan (any design for any unit) from the same candidates builds {mixed} of {} units: {cmp}.",
+            a.wanted
+        )?;
+    }
     for (share, st) in a.stages.iter().zip(stages) {
         writeln!(out)?;
         writeln!(

@@ -3,7 +3,7 @@
 //! through the parent module.
 
 use super::{
-    PlanSource, PlanSpec, StageCount, limits, load_plan, prices, proof_text, stage_plan, unit_span,
+    PlanSource, PlanSpec, StageCount, claim_text, limits, load_plan, prices, stage_plan, unit_span,
 };
 use crate::cli::find::load_stock;
 use crate::cli::{Context, Status};
@@ -322,7 +322,7 @@ fn write_order(
         out,
         "Total {} ({}; integer program of {} variables and {} constraints).",
         money(order.cost_cents),
-        proof_text(order.proof),
+        claim_text(order.proof, &order.cover, None, "least cost"),
         order.size.variables,
         order.size.constraints
     )?;
