@@ -12,5 +12,6 @@ mod holds;
 mod pictures;
 mod plan;
 mod reach;
+mod sheet;
 mod stock;
 mod store_safety;

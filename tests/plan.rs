@@ -357,3 +357,49 @@ fn identical_kits_can_build_fewer_units_than_mixed_ones() {
         .json();
     assert_eq!(two["built"], 4, "{two}");
 }
+
+#[test]
+fn the_same_parts_wired_two_ways_are_said_loudly_and_in_words() {
+    // Invented drawer of two capacitor values. 47 nF in parallel with 470 nF is 517 nF
+    // (parallel capacitors add, common practice); in series they give
+    // 1 / (1/47 + 1/470) = 42.73 nF. A plan that needs both values wires the same two parts
+    // two ways, and must say so.
+    let b = Bench::new();
+    let csv = b.write(
+        "caps.csv",
+        "kind,value,tolerance,technology,volts,bin,quantity\n\
+         capacitor,47n,5%,film,63,K1,4\n\
+         capacitor,470n,5%,film,63,K2,4\n",
+    );
+    b.run(&["import", csv.to_str().expect("utf-8")]).ok();
+    let plan = b.write(
+        "two-ways.toml",
+        "name = \"two ways\"\nunits = 2\ntolerance = \"1%\"\n\
+         [[stage]]\nname = \"big\"\nform = \"value\"\nvalue = \"517n\"\n\
+         [[stage]]\nname = \"small\"\nform = \"value\"\nvalue = \"42.73n\"\n",
+    );
+    let plan = plan.to_str().expect("utf-8");
+    let r = b.run(&["plan", plan]).ok();
+    let text = &r.stdout;
+    assert!(text.contains("47 nF in parallel with 470 nF"), "{text}");
+    assert!(text.contains("47 nF in series with 470 nF"), "{text}");
+    assert!(!text.contains("47 nF + 470 nF"), "{text}");
+    assert!(text.contains("CAUTION: the same parts"), "{text}");
+    let j = b.run(&["--json", "plan", plan]).ok().json();
+    assert_eq!(
+        j["wiring_warnings"].as_array().map(Vec::len),
+        Some(1),
+        "{j}"
+    );
+    let wiring: Vec<&str> = j["stages"]
+        .as_array()
+        .expect("stages")
+        .iter()
+        .map(|s| {
+            s["designs"][0]["design"]["positions"][0]["wiring"]
+                .as_str()
+                .expect("wiring")
+        })
+        .collect();
+    assert_eq!(wiring, ["2 in parallel", "2 in series"], "{j}");
+}

@@ -5,4 +5,5 @@ pub mod find;
 pub mod netlist;
 pub mod pictures;
 pub mod schematic;
+pub mod sheet;
 pub mod svg;

@@ -8,6 +8,9 @@
 pub mod file;
 pub mod prices;
 mod reorder;
+mod sheet;
+
+pub(crate) use sheet::write_find_sheet;
 
 pub use reorder::ReorderArgs;
 use reorder::{REORDER_EXAMPLES, run_reorder};
@@ -16,7 +19,7 @@ use super::find::{load_stock, stage_of, techs};
 use super::{Context, Status};
 use crate::report::find::{describe_goal, jdesign, write_design};
 use crate::solve::allocate::{Limits, Proof};
-use crate::solve::plan::{self, Bound, Buildable, Cover, Mix, PlanStage};
+use crate::solve::plan::{self, Bound, Buildable, Cover, Mix, PlanStage, StageShare};
 use crate::solve::{Duty, Goal, Rank, Settings, StageGoal, family_by_name};
 use crate::store::Part;
 use crate::timing::Conditions;
@@ -34,6 +37,7 @@ Examples:
   onhand plan kit.toml --units 30 --hold                 ...and hold the parts for you
   onhand plan kit.toml --identical                       every kit the same design per stage
   onhand plan kit.toml --variants 2                      at most two designs per stage
+  onhand plan kit.toml --identical --sheet sheets/       printable build sheets and a pick list
   onhand plan --stage astable:2Hz:55..70% --stage pulse:20ms --units 12 --name clocks
 
 A plan file is TOML: name, units, family, supply, tolerance, then one [[stage]] per timer
@@ -102,6 +106,9 @@ pub struct PlanArgs {
     /// At most N designs per stage across all units (overrides the file).
     #[arg(long, value_name = "N", value_parser = clap::value_parser!(u32).range(1..=100))]
     variants: Option<u32>,
+    /// Write a printable build sheet (HTML) per design variant, and a pick list by bin, here.
+    #[arg(long, value_name = "DIR")]
+    sheet: Option<PathBuf>,
 }
 
 /// Run a plan command.
@@ -305,6 +312,53 @@ pub(super) fn claim_text(p: Proof, cover: &[Cover], bound: Option<&Bound>, rest:
     }
 }
 
+/// Positions of the plan that use the same parts wired in different ways (series in one place,
+/// parallel in another), as loud warnings: a builder following one unit's list may wire
+/// another unit's parts the wrong way.
+pub(super) fn wiring_clashes(parts: &[Part], shares: &[StageShare]) -> Vec<String> {
+    use std::collections::BTreeMap;
+    // parts (by label, sorted) → [(network in words, where)]
+    let mut seen: BTreeMap<Vec<String>, Vec<(String, String)>> = BTreeMap::new();
+    for share in shares {
+        let mut first = 1;
+        for (d, n) in &share.uses {
+            for p in d.positions.iter().filter(|p| p.rows.len() > 1) {
+                let label = |i: usize| {
+                    p.rows
+                        .get(i)
+                        .and_then(|&r| parts.get(r))
+                        .map(Part::label)
+                        .unwrap_or_default()
+                };
+                let mut key: Vec<String> = (0..p.rows.len()).map(label).collect();
+                key.sort();
+                let how = p.net.describe(&label);
+                let at = format!("stage {:?} {} {}", share.name, unit_span(first, *n), p.name);
+                let list = seen.entry(key).or_default();
+                if !list.iter().any(|(h, _)| *h == how) {
+                    list.push((how, at));
+                }
+            }
+            first += n;
+        }
+    }
+    seen.into_iter()
+        .filter(|(_, ways)| ways.len() > 1)
+        .map(|(key, ways)| {
+            let ways: Vec<String> = ways
+                .iter()
+                .map(|(how, at)| format!("{at}: {how}"))
+                .collect();
+            format!(
+                "CAUTION: the same parts ({}) are wired {} different ways in this plan — {}. Check each unit against its own list before soldering.",
+                key.join(", "),
+                ways.len(),
+                ways.join("; ")
+            )
+        })
+        .collect()
+}
+
 pub(super) fn proof_text(p: Proof) -> &'static str {
     match p {
         Proof::Optimal => "proven optimal",
@@ -354,6 +408,20 @@ fn run_plan(args: PlanArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status
         })?;
         held = Some(change);
     }
+    let sheets = match &args.sheet {
+        Some(dir) if answer.built > 0 => sheet::write_sheets(
+            ctx,
+            dir,
+            &spec.name,
+            &format!("{} family at {}", spec.family, spec.supply),
+            &spec.supply.to_string(),
+            &stages,
+            &parts,
+            &answer,
+        )
+        .context("writing the build sheets")?,
+        _ => Vec::new(),
+    };
     if ctx.json {
         #[derive(Serialize)]
         struct JUse<'a> {
@@ -376,6 +444,7 @@ fn run_plan(args: PlanArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status
             "optimal_over": if answer.cover.iter().all(|c| c.complete) { "every design" } else { "the candidates offered" },
             "cover": answer.cover,
             "units_bound_by": answer.units_bound_by,
+            "wiring_warnings": wiring_clashes(&parts, &answer.stages),
             "mix": answer.mix,
             "mixed_built": answer.mixed_built,
             "classes": answer.classes,
@@ -404,10 +473,26 @@ fn run_plan(args: PlanArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status
                 "bin": parts[s.row].bin, "need": s.need, "left": s.left,
             })).collect::<Vec<_>>(),
             "held": held,
+            "sheets": sheets,
         });
         writeln!(out, "{j}")?;
     } else {
         write_plan(out, &spec, &stages, &parts, &answer)?;
+        if let Some(dir) = &args.sheet {
+            if sheets.is_empty() {
+                writeln!(out, "\nNo build sheets: no unit can be built.")?;
+            } else {
+                writeln!(
+                    out,
+                    "\nBuild sheets and pick list written to {} ({} files):",
+                    dir.display(),
+                    sheets.len()
+                )?;
+                for f in &sheets {
+                    writeln!(out, "  {}", f.display())?;
+                }
+            }
+        }
         if let Some(change) = &held {
             writeln!(out)?;
             super::holds::print_change(change, ctx, out)?;
@@ -498,6 +583,13 @@ fn write_plan(
             writeln!(out, "  {}:", unit_span(first, *n))?;
             write_design(out, parts, d, st.goal_stages())?;
             first += n;
+        }
+    }
+    let clashes = wiring_clashes(parts, &a.stages);
+    if !clashes.is_empty() {
+        writeln!(out)?;
+        for c in &clashes {
+            writeln!(out, "{c}")?;
         }
     }
     if !a.takes.is_empty() {
