@@ -88,7 +88,7 @@ th, td { border: 0.3mm solid #555; padding: 1mm 1.5mm; text-align: left; vertica
 th { background: #e8e8e8; }
 td.n { text-align: right; white-space: nowrap; }
 td.check { width: 9mm; }
-pre { font-family: monospace; font-size: 8pt; line-height: 1.2; white-space: pre; overflow: hidden;
+pre { font-family: monospace; font-size: 7pt; line-height: 1.2; white-space: pre; overflow: hidden;
   border: 0.3mm solid #999; padding: 2mm; margin: 1mm 0 3mm; }
 figure { margin: 1mm 0 3mm; }
 figure svg { width: 100%; height: auto; max-height: 95mm; }
