@@ -231,7 +231,13 @@ pub struct Cover {
     /// Whether the list holds every design that meets the stage's target within its piece limit
     /// (the search ran to the end and found fewer designs than were asked for).
     pub complete: bool,
+    /// Whether the search's time limit stopped it (a longer list would not help then).
+    pub timed_out: bool,
 }
+
+/// A stage's candidates, whether they are every design there is, and whether the search's time
+/// limit stopped it.
+type Listed = (Vec<Design>, bool, bool);
 
 /// The candidates of one stage: the best `count` designs from each parts list in `pools`
 /// (indices are into the full parts slice `parts`; each pool is a subset of it), de-duplicated
@@ -241,12 +247,13 @@ fn stage_candidates(
     pools: &[Vec<usize>],
     stage: &PlanStage,
     count: usize,
-) -> Result<(Vec<Design>, bool), PlanError> {
+) -> Result<Listed, PlanError> {
     let mut settings = stage.settings.clone();
     settings.alternatives = count;
     let mut seen: BTreeSet<Vec<(usize, u32)>> = BTreeSet::new();
     let mut out = Vec::new();
     let mut complete = true;
+    let mut timed_out = false;
     for pool in pools {
         let subset: Vec<Part> = pool.iter().map(|&i| parts[i].clone()).collect();
         let outcome =
@@ -255,6 +262,7 @@ fn stage_candidates(
                 source,
             })?;
         complete &= outcome.complete && outcome.designs.len() < count;
+        timed_out |= !outcome.complete;
         for mut d in outcome.designs {
             for p in &mut d.positions {
                 for r in &mut p.rows {
@@ -267,7 +275,7 @@ fn stage_candidates(
         }
     }
     out.sort_by(|a, b| a.pieces.cmp(&b.pieces).then(a.error.total_cmp(&b.error)));
-    Ok((out, complete))
+    Ok((out, complete, timed_out))
 }
 
 fn resource_of(p: &Part) -> Resource {
@@ -381,7 +389,7 @@ pub fn plan_units(
     let resources: Vec<Resource> = cparts.iter().map(resource_of).collect();
     let count = count.max(1);
     let mut counts = vec![count; stages.len()];
-    let mut lists: Vec<(Vec<Design>, bool)> = stages
+    let mut lists: Vec<Listed> = stages
         .iter()
         .map(|s| stage_candidates(cparts, std::slice::from_ref(&all), s, count))
         .collect::<Result<_, _>>()?;
@@ -443,7 +451,9 @@ pub fn plan_units(
             .unwrap_or(units)
             .min(units);
         let widen: Vec<usize> = (0..stages.len())
-            .filter(|&s| !lists[s].1 && counts[s] < count.saturating_mul(WIDEN_UP_TO))
+            .filter(|&s| {
+                !lists[s].1 && !lists[s].2 && counts[s] < count.saturating_mul(WIDEN_UP_TO)
+            })
             .collect();
         if impossible || alloc.units >= bound || widen.is_empty() {
             break (per_stage, cands, origin, alloc, mixed);
@@ -477,6 +487,7 @@ pub fn plan_units(
             stage: s.name.clone(),
             offered: l.0.len(),
             complete: l.1,
+            timed_out: l.2,
         })
         .collect();
     let used = allocate::usage(&cands, &alloc.counts, cparts.len());
@@ -593,7 +604,7 @@ pub fn reorder(
     let is_offer = |c: usize| offer_rows.contains(&cls.row(c));
     let stock: Vec<usize> = (0..cparts.len()).filter(|&c| !is_offer(c)).collect();
     let all: Vec<usize> = (0..cparts.len()).collect();
-    let lists: Vec<(Vec<Design>, bool)> = stages
+    let lists: Vec<Listed> = stages
         .iter()
         .map(|s| stage_candidates(cparts, &[stock.clone(), all.clone()], s, count))
         .collect::<Result<_, _>>()?;
@@ -633,6 +644,7 @@ pub fn reorder(
                 stage: s.name.clone(),
                 offered: l.0.len(),
                 complete: l.1,
+                timed_out: l.2,
             })
             .collect(),
         size: p.size,
@@ -732,5 +744,20 @@ mod tests {
                 &format!("X{extra}"),
             ));
         }
+    }
+
+    #[test]
+    fn a_search_stopped_by_its_time_limit_is_reported_and_not_widened() {
+        let parts = vec![
+            part(1, Kind::Resistor, 100e3, 2, "A"),
+            part(2, Kind::Capacitor, 1e-6, 9, "D"),
+        ];
+        let mut st = shot();
+        st.settings.time_limit = Some(std::time::Duration::ZERO);
+        let b = buildable(&parts, &[st], 9, 1, Limits::default()).expect("plan");
+        assert!(b.cover[0].timed_out, "{:?}", b.cover);
+        assert!(!b.cover[0].complete);
+        assert!(b.cover[0].offered <= 1, "{:?}", b.cover);
+        assert_eq!(b.units_bound_by, None);
     }
 }

@@ -292,12 +292,23 @@ pub(super) fn claim_text(p: Proof, cover: &[Cover], bound: Option<&Bound>, rest:
     let offered: Vec<String> = cover.iter().map(|c| c.offered.to_string()).collect();
     let names: Vec<String> = cut.iter().map(|c| format!("{:?}", c.stage)).collect();
     let most = cover.iter().map(|c| c.offered).max().unwrap_or(0);
-    let left_out = format!(
+    let stopped: Vec<String> = cut
+        .iter()
+        .filter(|c| c.timed_out)
+        .map(|c| format!("{:?}", c.stage))
+        .collect();
+    let mut left_out = format!(
         "{} {} more designs that were left out — `--candidates {}` offers more",
         names.join(", "),
         if cut.len() == 1 { "has" } else { "have" },
         most.saturating_mul(2).max(1)
     );
+    if !stopped.is_empty() {
+        left_out += &format!(
+            " (the search for {} stopped at its time limit)",
+            stopped.join(", ")
+        );
+    }
     let offered = offered.join(", ");
     match bound {
         Some(Bound::EveryUnit) => format!(
