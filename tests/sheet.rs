@@ -164,3 +164,40 @@ fn find_writes_the_build_sheet_of_its_best_design() {
     let pick = std::fs::read_to_string(dir.join("found-design-pick-list.html")).expect("pick");
     assert!(pick.contains("2 pieces from 2 bin rows"), "{pick}");
 }
+
+#[test]
+fn a_sheet_names_every_bin_a_part_is_taken_from() {
+    // Invented drawer: the same 100 kΩ part in three bins, two pieces each; five one-shots
+    // (100 kΩ with 1 µF, t = ln 3 · R · C = 109.86 ms, common practice) take from all three.
+    let b = Bench::new();
+    let csv = b.write(
+        "d.csv",
+        "kind,value,tolerance,technology,volts,bin,quantity\n\
+         resistor,100k,1%,metal_film,,A1,2\n\
+         resistor,100k,1%,metal_film,,A2,2\n\
+         resistor,100k,1%,metal_film,,A3,2\n\
+         capacitor,1u,5%,film,63,C1,9\n",
+    );
+    b.run(&["import", csv.to_str().expect("utf-8")]).ok();
+    let plan = b.write(
+        "p.toml",
+        "name = \"shots\"\nunits = 5\ntolerance = \"2%\"\n[[stage]]\nname = \"shot\"\nform = \"pulse\"\nwidth = \"109.86ms\"\n",
+    );
+    let dir = b.path("s");
+    let j = b
+        .run(&[
+            "--json",
+            "plan",
+            plan.to_str().expect("utf-8"),
+            "--sheet",
+            dir.to_str().expect("utf-8"),
+        ])
+        .ok()
+        .json();
+    assert_eq!(j["built"], 5, "{j}");
+    assert_eq!(j["takes"].as_array().map(Vec::len), Some(4), "{j}");
+    let html = std::fs::read_to_string(dir.join("shots-shot-design-1.html")).expect("sheet");
+    for bin in ["bin A1", "bin A2", "bin A3", "bin C1"] {
+        assert!(html.contains(bin), "{bin} missing from the sheet");
+    }
+}

@@ -28,8 +28,11 @@ fn circuit(form: Form) -> Circuit {
     }
 }
 
+/// Where a part's pieces come from, in words ("bin C7", or "bins C7, Z12 — see the pick list").
+type BinsOf<'f> = dyn Fn(&Part) -> String + 'f;
+
 /// The positions of stage `i` of a design as sheet rows.
-fn positions(parts: &[Part], d: &Design, i: usize) -> Vec<SheetPosition> {
+fn positions(parts: &[Part], d: &Design, i: usize, bins: &BinsOf<'_>) -> Vec<SheetPosition> {
     d.positions
         .iter()
         .filter(|p| p.stage == i)
@@ -58,7 +61,7 @@ fn positions(parts: &[Part], d: &Design, i: usize) -> Vec<SheetPosition> {
                     .filter_map(|&r| parts.get(r))
                     .map(|pt| SheetPiece {
                         part: pt.label(),
-                        bin: pt.place(),
+                        bin: bins(pt),
                     })
                     .collect(),
             }
@@ -103,7 +106,7 @@ fn schematic_of(parts: &[Part], d: &Design, supply: &str) -> Option<String> {
     let stage_parts = |i: usize| -> Option<StageParts> {
         Some(StageParts {
             circuit: circuit(d.stages.get(i)?.form?),
-            parts: positions(parts, d, i)
+            parts: positions(parts, d, i, &Part::place)
                 .into_iter()
                 .map(|p| (p.name, p.network))
                 .collect(),
@@ -135,6 +138,7 @@ fn variant_of(
     d: &Design,
     units: String,
     variant: (usize, usize),
+    bins: &BinsOf<'_>,
 ) -> Variant {
     let n_stages = d.stages.len();
     let mut expected = Vec::new();
@@ -153,7 +157,7 @@ fn variant_of(
                 .map(|q| format!("{tag}{}", quantity_line(q))),
         );
         notes.extend(rep.findings.iter().map(|f| format!("{tag}{}", f.message)));
-        all_positions.extend(positions(parts, d, i).into_iter().map(|mut p| {
+        all_positions.extend(positions(parts, d, i, bins).into_iter().map(|mut p| {
             if n_stages > 1 {
                 p.name = format!("{tag}{}", p.name);
             }
@@ -196,6 +200,24 @@ pub(super) fn write_sheets(
     let files = ctx.files();
     let base = sheet::slug(plan_name);
     let mut written = Vec::new();
+    // The plan takes a part's pieces from every row of its class (fullest bin first): a sheet
+    // names all of those bins, not only the one the design is shown by.
+    let mut bins_by_part: std::collections::BTreeMap<String, Vec<String>> = Default::default();
+    for &(row, _) in &a.takes {
+        let p = &parts[row];
+        bins_by_part.entry(p.label()).or_default().push(p.place());
+    }
+    let bins = |p: &Part| -> String {
+        match bins_by_part.get(&p.label()) {
+            Some(list) if list.len() > 4 => format!(
+                "{} and {} more bins (see the pick list)",
+                list[..4].join(", "),
+                list.len() - 4
+            ),
+            Some(list) if list.len() > 1 => format!("{} (see the pick list)", list.join(", ")),
+            _ => p.place(),
+        }
+    };
     for (share, st) in a.stages.iter().zip(stages) {
         let mut first = 1;
         let total = share.uses.len();
@@ -210,6 +232,7 @@ pub(super) fn write_sheets(
                 d,
                 unit_span(first, *n),
                 (k + 1, total),
+                &bins,
             );
             let path = dir.join(format!(
                 "{base}-{}-design-{}.html",
@@ -289,6 +312,7 @@ pub(crate) fn write_find_sheet(
         d,
         "one unit".into(),
         (1, 1),
+        &Part::place,
     );
     let files = ctx.files();
     let sheet_path = dir.join("found-design.html");
