@@ -36,7 +36,10 @@ fn value_substitute_in_series() {
     assert_eq!(d["pieces"], 2);
     assert!(d["error"].as_f64().expect("error") < 1e-9);
     let net = d["positions"][0]["network"].as_str().expect("network");
-    assert!(net == "10 kΩ + 22 kΩ" || net == "22 kΩ + 10 kΩ", "{net}");
+    assert!(
+        net == "10 kΩ in series with 22 kΩ" || net == "22 kΩ in series with 10 kΩ",
+        "{net}"
+    );
 }
 
 #[test]
@@ -77,11 +80,15 @@ fn held_stock_is_left_alone_unless_asked() {
             })
             .collect()
     };
-    assert!(!nets(&[]).iter().any(|n| n == "22 kΩ ∥ 22 kΩ"));
+    assert!(
+        !nets(&[])
+            .iter()
+            .any(|n| n == "22 kΩ in parallel with 22 kΩ")
+    );
     assert!(
         nets(&["--include-held"])
             .iter()
-            .any(|n| n == "22 kΩ ∥ 22 kΩ")
+            .any(|n| n == "22 kΩ in parallel with 22 kΩ")
     );
 }
 

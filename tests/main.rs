@@ -15,5 +15,6 @@ mod pictures;
 mod plan;
 mod reach;
 mod safety;
+mod sheet;
 mod stock;
 mod store_safety;

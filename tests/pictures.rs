@@ -385,8 +385,14 @@ fn schematic_is_in_the_report_with_networks_written_plainly() {
     );
     assert_eq!(run.status, 0);
     let s = json["schematic"].as_str().expect("schematic string");
-    assert!(s.contains("R1  = 33 kΩ + 2.2 kΩ (35.2 kΩ)"), "{s}");
-    assert!(s.contains("C   = 10 nF ∥ 2.2 nF (12.2 nF)"), "{s}");
+    assert!(
+        s.contains("R1  = 33 kΩ in series with 2.2 kΩ (35.2 kΩ)"),
+        "{s}"
+    );
+    assert!(
+        s.contains("C   = 10 nF in parallel with 2.2 nF (12.2 nF)"),
+        "{s}"
+    );
     assert!(s.contains("timer"), "{s}");
     bench
         .run(&[

@@ -216,3 +216,201 @@ fn plan_report_snapshot() {
     let r = b.run(&["plan", &plan]).code(1);
     insta::assert_snapshot!("plan_text", r.stdout);
 }
+
+/// The makerspace cabinet (invented demo stock) with `extra` more rows: copies of its own rows,
+/// one piece each, in new bins — the same values scattered over many bins, as a real cabinet
+/// gets after years of donations (invented scenario).
+fn cabinet_with_extra_rows(b: &Bench, extra: usize) -> String {
+    let cabinet = crate::util::repo_path("sample-stock/makerspace-cabinet.csv");
+    let mut r = csv::Reader::from_path(&cabinet).expect("cabinet csv");
+    let header = r.headers().expect("header").clone();
+    let rows: Vec<csv::StringRecord> = r.records().map(|x| x.expect("row")).collect();
+    let bin = header.iter().position(|h| h == "bin").expect("bin column");
+    let qty = header
+        .iter()
+        .position(|h| h == "quantity")
+        .expect("quantity column");
+    let mut w = csv::Writer::from_writer(Vec::new());
+    w.write_record(&header).expect("write");
+    for row in &rows {
+        w.write_record(row).expect("write");
+    }
+    for i in 0..extra {
+        let mut cells: Vec<String> = rows[i % rows.len()].iter().map(str::to_string).collect();
+        cells[bin] = format!("Z{i}");
+        cells[qty] = "1".to_string();
+        w.write_record(&cells).expect("write");
+    }
+    let text = String::from_utf8(w.into_inner().expect("flush")).expect("utf-8");
+    b.write("big-cabinet.csv", &text)
+        .to_str()
+        .expect("utf-8")
+        .to_string()
+}
+
+#[test]
+fn more_rows_of_the_same_values_never_give_a_worse_plan() {
+    // The cabinet alone builds all 25 blinker kits (sample-stock/blinker-kit.toml); adding
+    // 5 000 one-piece rows of values it already holds only adds stock, so the plan must still
+    // build all 25, and the report must not claim a proof over designs it never looked at.
+    let b = Bench::new();
+    let kit = crate::util::repo_path("sample-stock/blinker-kit.toml");
+    let kit = kit.to_str().expect("utf-8");
+    let alone = crate::util::repo_path("sample-stock/makerspace-cabinet.csv");
+    let j0 = b
+        .run(&[
+            "--json",
+            "plan",
+            kit,
+            "--stock",
+            alone.to_str().expect("utf-8"),
+        ])
+        .ok()
+        .json();
+    assert_eq!(j0["built"], 25, "{j0}");
+    let big = cabinet_with_extra_rows(&b, 5_000);
+    let j = b.run(&["--json", "plan", kit, "--stock", &big]).ok().json();
+    assert!(j["built"].as_u64() >= j0["built"].as_u64(), "{j}");
+    assert_eq!(j["built"], 25, "{j}");
+    // Rows that no design can tell apart are one class: the extra rows add no classes.
+    assert_eq!(j["classes"], j0["classes"], "{j}");
+    for t in j["takes"].as_array().expect("takes") {
+        assert!(t["pieces"].as_u64() <= t["free"].as_u64(), "{t}");
+    }
+    // The claim says over what it holds.
+    let cut = j["cover"]
+        .as_array()
+        .expect("cover")
+        .iter()
+        .any(|c| c["complete"] == false);
+    assert_eq!(
+        j["optimal_over"],
+        if cut {
+            "the candidates offered"
+        } else {
+            "every design"
+        }
+    );
+    let text = b.run(&["plan", kit, "--stock", &big]).ok();
+    if cut {
+        assert!(
+            text.stdout.contains("proven only over the"),
+            "{}",
+            text.stdout
+        );
+        assert!(text.stdout.contains("left out"), "{}", text.stdout);
+    }
+}
+
+#[test]
+fn the_sample_kit_in_identical_mode_builds_every_unit_with_one_design_per_stage() {
+    let b = Bench::new().with_sample("makerspace-cabinet.csv");
+    let kit = crate::util::repo_path("sample-stock/blinker-kit.toml");
+    let j = b
+        .run(&[
+            "--json",
+            "plan",
+            kit.to_str().expect("utf-8"),
+            "--identical",
+        ])
+        .ok()
+        .json();
+    assert_eq!(j["built"], 25, "{j}");
+    assert_eq!(j["mix"]["mode"], "kits");
+    assert_eq!(j["mix"]["variants"], 1);
+    assert_eq!(j["mixed_built"], 25, "{j}");
+    for st in j["stages"].as_array().expect("stages") {
+        let designs = st["designs"].as_array().expect("designs");
+        assert_eq!(designs.len(), 1, "{st}");
+        assert_eq!(designs[0]["units"], 25, "{st}");
+    }
+    // The text says which mode, and how the mixed plan compares.
+    b.run(&["plan", kit.to_str().expect("utf-8"), "--identical"])
+        .ok()
+        .stdout_has("Planned as identical kits")
+        .stdout_has("A mixed plan (any design for any unit) from the same candidates builds 25");
+}
+
+#[test]
+fn identical_kits_can_build_fewer_units_than_mixed_ones() {
+    // An invented drawer: the one-shot is 100 kΩ with 1 µF (t = ln 3 · R · C = 109.86 ms,
+    // common practice), and the 1 µF comes from two different parts (5 % and 10 %), two
+    // pieces each, with plenty of 100 kΩ. Mixed: 2 + 2 = 4 units; identical kits: one
+    // capacitor part for all, so 2 units; two variants allowed: 4 again.
+    let b = Bench::new();
+    let csv = b.write(
+        "d.csv",
+        "kind,value,tolerance,technology,volts,bin,quantity\n\
+         resistor,100k,1%,metal_film,,A1,10\n\
+         capacitor,1u,5%,film,63,C1,2\n\
+         capacitor,1u,10%,film,100,C2,2\n",
+    );
+    b.run(&["import", csv.to_str().expect("utf-8")]).ok();
+    let plan = b.write(
+        "p.toml",
+        "name = \"shots\"\nunits = 4\ntolerance = \"2%\"\n[[stage]]\nform = \"pulse\"\nwidth = \"109.86ms\"\n",
+    );
+    let plan = plan.to_str().expect("utf-8");
+    let mixed = b.run(&["--json", "plan", plan]).ok().json();
+    assert_eq!(mixed["built"], 4, "{mixed}");
+    let one = b
+        .run(&["--json", "plan", plan, "--identical"])
+        .code(1)
+        .json();
+    assert_eq!(one["built"], 2, "{one}");
+    assert_eq!(one["mixed_built"], 4, "{one}");
+    b.run(&["plan", plan, "--identical"])
+        .code(1)
+        .stdout_has("builds 4 of 4 units: 2 more than these kits");
+    let two = b
+        .run(&["--json", "plan", plan, "--variants", "2"])
+        .ok()
+        .json();
+    assert_eq!(two["built"], 4, "{two}");
+}
+
+#[test]
+fn the_same_parts_wired_two_ways_are_said_loudly_and_in_words() {
+    // Invented drawer of two capacitor values. 47 nF in parallel with 470 nF is 517 nF
+    // (parallel capacitors add, common practice); in series they give
+    // 1 / (1/47 + 1/470) = 42.73 nF. A plan that needs both values wires the same two parts
+    // two ways, and must say so.
+    let b = Bench::new();
+    let csv = b.write(
+        "caps.csv",
+        "kind,value,tolerance,technology,volts,bin,quantity\n\
+         capacitor,47n,5%,film,63,K1,4\n\
+         capacitor,470n,5%,film,63,K2,4\n",
+    );
+    b.run(&["import", csv.to_str().expect("utf-8")]).ok();
+    let plan = b.write(
+        "two-ways.toml",
+        "name = \"two ways\"\nunits = 2\ntolerance = \"1%\"\n\
+         [[stage]]\nname = \"big\"\nform = \"value\"\nvalue = \"517n\"\n\
+         [[stage]]\nname = \"small\"\nform = \"value\"\nvalue = \"42.73n\"\n",
+    );
+    let plan = plan.to_str().expect("utf-8");
+    let r = b.run(&["plan", plan]).ok();
+    let text = &r.stdout;
+    assert!(text.contains("47 nF in parallel with 470 nF"), "{text}");
+    assert!(text.contains("47 nF in series with 470 nF"), "{text}");
+    assert!(!text.contains("47 nF + 470 nF"), "{text}");
+    assert!(text.contains("CAUTION: the same parts"), "{text}");
+    let j = b.run(&["--json", "plan", plan]).ok().json();
+    assert_eq!(
+        j["wiring_warnings"].as_array().map(Vec::len),
+        Some(1),
+        "{j}"
+    );
+    let wiring: Vec<&str> = j["stages"]
+        .as_array()
+        .expect("stages")
+        .iter()
+        .map(|s| {
+            s["designs"][0]["design"]["positions"][0]["wiring"]
+                .as_str()
+                .expect("wiring")
+        })
+        .collect();
+    assert_eq!(wiring, ["2 in parallel", "2 in series"], "{j}");
+}

@@ -86,6 +86,9 @@ struct FindOptions {
     /// `ngspice -b FILE`.
     #[arg(long, global = true, value_name = "FILE")]
     netlist: Option<PathBuf>,
+    /// Write a printable build sheet (HTML) of the best design, and its pick list, here.
+    #[arg(long, global = true, value_name = "DIR")]
+    sheet: Option<PathBuf>,
 }
 
 const FIND_EXAMPLES: &str = "\
@@ -260,6 +263,12 @@ pub fn run(args: FindArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status>
     } else {
         files::Written::default()
     };
+    let sheets = match (&args.sheet, outcome.designs.first()) {
+        (Some(dir), Some(best)) => {
+            super::plan::write_find_sheet(ctx, dir, &goal, &settings, &parts, best)?
+        }
+        _ => Vec::new(),
+    };
     if ctx.json {
         let mut buf = Vec::new();
         render::json(&mut buf, &view)?;
@@ -269,11 +278,15 @@ pub fn run(args: FindArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status>
             obj.insert("files".into(), serde_json::to_value(&written.files)?);
             obj.insert("netlist".into(), serde_json::to_value(&written.netlist)?);
             obj.insert("notes".into(), serde_json::to_value(&written.notes)?);
+            obj.insert("sheets".into(), serde_json::to_value(&sheets)?);
         }
         writeln!(out, "{}", serde_json::to_string_pretty(&j)?)?;
     } else {
         render::text(out, &view)?;
         written.text(out)?;
+        for f in &sheets {
+            writeln!(out, "Build sheet written: {}", f.display())?;
+        }
     }
     Ok(if outcome.designs.is_empty() {
         Status::NotMet

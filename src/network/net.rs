@@ -70,8 +70,10 @@ impl Net {
         }
     }
 
-    /// Write the network plainly, naming each piece with `name(index)`: `33 kΩ + 2.2 kΩ`,
-    /// `10 nF ∥ 2.2 nF`, `(10 kΩ ∥ 10 kΩ) + 1 kΩ`.
+    /// Write the network in words, naming each piece with `name(index)`:
+    /// `33 kΩ in series with 2.2 kΩ`, `10 nF in parallel with 2.2 nF`,
+    /// `(10 kΩ in parallel with 10 kΩ) in series with 1 kΩ`. Never a bare `+` or `∥`: readers
+    /// take `47 nF + 470 nF` for capacitors in parallel, and wire the wrong one.
     pub fn describe(&self, name: &dyn Fn(usize) -> String) -> String {
         self.describe_inner(name, true)
     }
@@ -79,8 +81,8 @@ impl Net {
     fn describe_inner(&self, name: &dyn Fn(usize) -> String, top: bool) -> String {
         let (parts, sep) = match self {
             Net::Piece(i) => return name(*i),
-            Net::Series(ch) => (ch, " + "),
-            Net::Parallel(ch) => (ch, " ∥ "),
+            Net::Series(ch) => (ch, " in series with "),
+            Net::Parallel(ch) => (ch, " in parallel with "),
         };
         let inner: Vec<String> = parts
             .iter()
@@ -88,6 +90,26 @@ impl Net {
             .collect();
         let joined = inner.join(sep);
         if top { joined } else { format!("({joined})") }
+    }
+
+    /// How the pieces are wired, without their values: "single", "2 in series",
+    /// "2 in parallel", "(2 in parallel) in series with 1", …
+    pub fn wiring(&self) -> String {
+        match self {
+            Net::Piece(_) => "single".to_string(),
+            Net::Series(ch) | Net::Parallel(ch) => {
+                let how = if matches!(self, Net::Series(_)) {
+                    "series"
+                } else {
+                    "parallel"
+                };
+                if ch.iter().all(|c| matches!(c, Net::Piece(_))) {
+                    format!("{} in {how}", ch.len())
+                } else {
+                    self.describe(&|_| "1".to_string())
+                }
+            }
+        }
     }
 }
 
@@ -245,12 +267,35 @@ mod tests {
     }
 
     #[test]
-    fn describe_round_trips_structure() {
+    fn describe_says_series_and_parallel_in_words() {
         let (net, vals) = parse_net("(1||2)+3", &mut num).expect("parse");
         let text = net.describe(&|i| vals[i].to_string());
-        assert_eq!(text, "(1 ∥ 2) + 3");
-        let (again, _) = parse_net(&text, &mut num).expect("reparse");
-        assert_eq!(again, net);
+        assert_eq!(text, "(1 in parallel with 2) in series with 3");
+        for (expr, want) in [
+            ("47+470", "47 in series with 470"),
+            ("47||470", "47 in parallel with 470"),
+            ("(1+2)||3", "(1 in series with 2) in parallel with 3"),
+            ("1+2+3", "1 in series with 2 in series with 3"),
+            ("5", "5"),
+        ] {
+            let (net, vals) = parse_net(expr, &mut num).expect("parse");
+            let text = net.describe(&|i| vals[i].to_string());
+            assert_eq!(text, want, "{expr}");
+            assert!(!text.contains('+') && !text.contains('∥'), "{text}");
+        }
+    }
+
+    #[test]
+    fn wiring_names_the_shape_without_values() {
+        for (expr, want) in [
+            ("1", "single"),
+            ("1+2", "2 in series"),
+            ("1||2||3", "3 in parallel"),
+            ("(1||2)+3", "(1 in parallel with 1) in series with 1"),
+        ] {
+            let (net, _) = parse_net(expr, &mut num).expect("parse");
+            assert_eq!(net.wiring(), want, "{expr}");
+        }
     }
 
     #[test]

@@ -44,7 +44,7 @@ fn pct(x: f64) -> String {
 }
 
 /// A part as written in a network: `33 kΩ`.
-fn part_label(p: &Part) -> String {
+pub(crate) fn part_label(p: &Part) -> String {
     format_sig(si(p), 3, unit(p.kind))
 }
 
@@ -95,7 +95,7 @@ pub(crate) fn describe_goal(goal: &Goal, s: &Settings) -> String {
     )
 }
 
-fn quantity_line(q: &Quantity) -> String {
+pub(crate) fn quantity_line(q: &Quantity) -> String {
     let v = |x: f64| {
         if q.unit.is_empty() {
             format!("{:.2} %", x * 100.0)
@@ -344,6 +344,8 @@ struct JPosition<'a> {
     name: &'a str,
     kind: Kind,
     network: String,
+    /// How the pieces are wired, in words ("2 in parallel").
+    wiring: String,
     value: f64,
     worst_lo: f64,
     worst_hi: f64,
@@ -384,6 +386,7 @@ pub(crate) fn jdesign<'a>(parts: &'a [Part], rank: usize, d: &'a Design) -> JDes
                         .map(part_label)
                         .unwrap_or_else(|| "(to buy)".into())
                 }),
+                wiring: p.net.wiring(),
                 value: p.value,
                 worst_lo: p.lo,
                 worst_hi: p.hi,

@@ -5,6 +5,7 @@ pub mod find;
 pub mod netlist;
 pub mod pictures;
 pub mod schematic;
+pub mod sheet;
 pub mod style;
 pub mod svg;
 pub mod table;

@@ -982,7 +982,9 @@ mod tests {
         // The title and the comment carry the equivalent values (R1 = 6 kΩ, C = 12.2 nF).
         assert!(text.starts_with("onhand timer design: classic astable, R1 6k, R2 47k, C 12.2n"));
         assert!(
-            text.contains("* R1 = (R1a ∥ R1b) + R1c: 3 pieces, equivalent 6k"),
+            text.contains(
+                "* R1 = (R1a in parallel with R1b) in series with R1c: 3 pieces, equivalent 6k"
+            ),
             "{text}"
         );
     }

@@ -144,7 +144,7 @@ impl Default for Limits {
 }
 
 /// A solved phase as plain numbers: the status and the value of each requested variable.
-type Solved = (SolutionStatus, Vec<f64>);
+pub(super) type Solved = (SolutionStatus, Vec<f64>);
 
 /// Add the constraints to a backend's model, solve it and read the variables in `read`.
 fn run_model<M>(
@@ -163,7 +163,7 @@ where
 }
 
 /// Solve `problem` with the chosen backend under the time limit.
-fn run_backend(
+pub(super) fn run_backend(
     problem: UnsolvedProblem,
     constraints: Vec<good_lp::Constraint>,
     read: &[Variable],

@@ -6,7 +6,9 @@
 //! For a reorder, the catalogue's offers join the stock as extra rows that cost money, and the
 //! candidates come from both the stock alone and stock-plus-catalogue. Pure: no I/O.
 
-use super::allocate::{self, AllocateError, Candidate, Limits, ModelSize, Proof, Resource};
+use super::allocate::{
+    self, AllocateError, Allocation, Candidate, Limits, ModelSize, Proof, Resource,
+};
 use super::{Design, Goal, Settings, SolveError, solve};
 use crate::model::Part;
 use std::collections::BTreeSet;
@@ -71,6 +73,11 @@ pub struct Buildable {
     pub wanted: u32,
     /// Complete units the stock can build.
     pub built: u32,
+    /// How designs were chosen for the units.
+    pub mix: Mix,
+    /// In kit mode: the units a mixed plan (any design per unit) builds from the same
+    /// candidates, for comparison.
+    pub mixed_built: Option<u32>,
     /// Per stage, the designs in use.
     pub stages: Vec<StageShare>,
     /// Pieces per row that the built units take (index into parts, pieces).
@@ -82,8 +89,16 @@ pub struct Buildable {
     pub short: Vec<Short>,
     /// Total pieces of the built units.
     pub pieces: u64,
-    /// Whether the integer program proved its answer optimal.
+    /// Whether the integer program proved its answer optimal (over the candidates offered).
     pub proof: Proof,
+    /// Per stage, what the candidate list covers: the proof holds over the whole design space
+    /// only where every list is complete.
+    pub cover: Vec<Cover>,
+    /// Why the unit count is the most possible over the whole design space, when it is proven
+    /// so (even where some candidate lists were cut short).
+    pub units_bound_by: Option<Bound>,
+    /// Distinct part classes the stock rows were merged into.
+    pub classes: usize,
     /// Size of the integer program.
     pub size: ModelSize,
 }
@@ -106,19 +121,139 @@ fn uses_of(d: &Design) -> Vec<(usize, u32)> {
     out
 }
 
+/// Stock rows that no design can tell apart (same kind, value, tolerance, technology, ratings
+/// and package; only the bin, the count and the notes differ), merged into one class with the
+/// rows' free pieces summed. The search and the integer programs work over classes, so a
+/// cabinet with the same value in many bins offers distinct designs, not the same design once
+/// per bin; pieces are assigned back to rows only for the answer.
+#[derive(Debug, Clone)]
+struct Classes {
+    /// One part per class: its first member with the free pieces of all members, none held.
+    parts: Vec<Part>,
+    /// Rows of each class, in the order pieces are taken: most free first, then row order.
+    members: Vec<Vec<usize>>,
+}
+
+impl Classes {
+    /// Group `parts`; rows with different `tag`s never share a class (offers to buy and stock).
+    fn new(parts: &[Part], tag: &dyn Fn(usize) -> usize) -> Self {
+        let mut by_key: std::collections::BTreeMap<(usize, String), usize> =
+            std::collections::BTreeMap::new();
+        let mut members: Vec<Vec<usize>> = Vec::new();
+        for (i, p) in parts.iter().enumerate() {
+            let key = (
+                tag(i),
+                format!(
+                    "{:?}|{:?}|{:?}|{:?}|{:?}|{:?}|{}",
+                    p.kind,
+                    p.value,
+                    p.tolerance,
+                    p.technology,
+                    p.voltage_rating,
+                    p.power_rating,
+                    p.package
+                ),
+            );
+            let c = *by_key.entry(key).or_insert_with(|| {
+                members.push(Vec::new());
+                members.len() - 1
+            });
+            members[c].push(i);
+        }
+        for m in &mut members {
+            m.sort_by_key(|&r| (std::cmp::Reverse(parts[r].available()), r));
+        }
+        let classes = members
+            .iter()
+            .map(|m| {
+                let mut p = parts[m[0]].clone();
+                p.quantity = m
+                    .iter()
+                    .fold(0i64, |a, &r| a.saturating_add(parts[r].available()));
+                p.held = 0;
+                p
+            })
+            .collect();
+        Self {
+            parts: classes,
+            members,
+        }
+    }
+
+    /// The row a class is shown by (its member with the most free pieces).
+    fn row(&self, class: usize) -> usize {
+        self.members[class][0]
+    }
+
+    /// A class-level design with each leaf shown by its class's first row.
+    fn to_rows(&self, d: &Design) -> Design {
+        let mut d = d.clone();
+        for p in &mut d.positions {
+            for r in &mut p.rows {
+                *r = self.row(*r);
+            }
+        }
+        d
+    }
+
+    /// Pieces per class spread over the member rows (most free row first).
+    fn spread(&self, parts: &[Part], per_class: &[u64]) -> Vec<(usize, u64)> {
+        let mut out = Vec::new();
+        for (c, &n) in per_class.iter().enumerate() {
+            let mut left = n;
+            for (k, &r) in self.members[c].iter().enumerate() {
+                if left == 0 {
+                    break;
+                }
+                let last = k + 1 == self.members[c].len();
+                let free = u64::try_from(parts[r].available()).unwrap_or(0);
+                // The re-check of the program guarantees the class total fits; the last row
+                // takes any remainder only if that guarantee were ever broken (never expected).
+                let take = if last { left } else { left.min(free) };
+                if take > 0 {
+                    out.push((r, take));
+                    left -= take;
+                }
+            }
+        }
+        out.sort_unstable();
+        out
+    }
+}
+
+/// What a stage's candidate list covers.
+#[derive(Debug, Clone, PartialEq, Eq, serde::Serialize)]
+pub struct Cover {
+    /// Stage name.
+    pub stage: String,
+    /// Distinct candidate designs offered to the integer program.
+    pub offered: usize,
+    /// Whether the list holds every design that meets the stage's target within its piece limit
+    /// (the search ran to the end and found fewer designs than were asked for).
+    pub complete: bool,
+    /// Whether the search's time limit stopped it (a longer list would not help then).
+    pub timed_out: bool,
+}
+
+/// A stage's candidates, whether they are every design there is, and whether the search's time
+/// limit stopped it.
+type Listed = (Vec<Design>, bool, bool);
+
 /// The candidates of one stage: the best `count` designs from each parts list in `pools`
 /// (indices are into the full parts slice `parts`; each pool is a subset of it), de-duplicated
-/// by the rows they use.
+/// by the rows they use; and whether the list is every design there is.
 fn stage_candidates(
     parts: &[Part],
     pools: &[Vec<usize>],
     stage: &PlanStage,
     count: usize,
-) -> Result<Vec<Design>, PlanError> {
+) -> Result<Listed, PlanError> {
     let mut settings = stage.settings.clone();
     settings.alternatives = count;
     let mut seen: BTreeSet<Vec<(usize, u32)>> = BTreeSet::new();
     let mut out = Vec::new();
+    let mut complete = true;
+    let mut timed_out = false;
     for pool in pools {
         let subset: Vec<Part> = pool.iter().map(|&i| parts[i].clone()).collect();
         let outcome =
@@ -126,6 +261,8 @@ fn stage_candidates(
                 stage: stage.name.clone(),
                 source,
             })?;
+        complete &= outcome.complete && outcome.designs.len() < count;
+        timed_out |= !outcome.complete;
         for mut d in outcome.designs {
             for p in &mut d.positions {
                 for r in &mut p.rows {
@@ -138,7 +275,7 @@ fn stage_candidates(
         }
     }
     out.sort_by(|a, b| a.pieces.cmp(&b.pieces).then(a.error.total_cmp(&b.error)));
-    Ok(out)
+    Ok((out, complete, timed_out))
 }
 
 fn resource_of(p: &Part) -> Resource {
@@ -171,6 +308,7 @@ fn shares(
     per_stage: &[Vec<Design>],
     origin: &[(usize, usize)],
     counts: &[u32],
+    cls: &Classes,
 ) -> Vec<StageShare> {
     let mut out: Vec<StageShare> = stages
         .iter()
@@ -183,7 +321,7 @@ fn shares(
         .collect();
     for (&(s, i), &n) in origin.iter().zip(counts) {
         if n > 0 {
-            out[s].uses.push((per_stage[s][i].clone(), n));
+            out[s].uses.push((cls.to_rows(&per_stage[s][i]), n));
         }
     }
     for s in &mut out {
@@ -191,6 +329,34 @@ fn shares(
     }
     out
 }
+
+/// Why a plan's unit count cannot be beaten by any design left out of the candidate lists.
+#[derive(Debug, Clone, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Bound {
+    /// Every unit asked for is built.
+    EveryUnit,
+    /// This stage's list holds every design it has, and it alone could build no more units
+    /// from the whole stock.
+    Stage(String),
+}
+
+/// How a plan chooses designs for its units.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, serde::Serialize)]
+#[serde(rename_all = "snake_case", tag = "mode")]
+pub enum Mix {
+    /// Any design for any unit (the most units).
+    Mixed,
+    /// At most `variants` designs per stage across all units (1: identical kits).
+    Kits {
+        /// Designs allowed per stage.
+        variants: u32,
+    },
+}
+
+/// The most candidates per stage the plan widens to when a list was cut short and the plan
+/// does not build every unit: this many times the count asked for.
+const WIDEN_UP_TO: usize = 16;
 
 /// How many of `units` the stock can build, with which designs, and what is short.
 /// `count` is how many candidate designs to take per stage (a few dozen).
@@ -201,40 +367,135 @@ pub fn buildable(
     count: usize,
     limits: Limits,
 ) -> Result<Buildable, PlanError> {
-    let all: Vec<usize> = (0..parts.len()).collect();
-    let per_stage: Vec<Vec<Design>> = stages
+    plan_units(parts, stages, units, count, Mix::Mixed, limits)
+}
+
+/// [`buildable`] with a choice of mix. Rows that no design can tell apart are merged first
+/// (see `Classes`); when the plan falls short of `units` while some stage's candidate list was
+/// cut short, that list is widened (doubled, up to [`WIDEN_UP_TO`] times `count`) and the
+/// program solved again, so more stock never hides designs behind rows. In kit mode the mixed
+/// plan is solved too, for comparison.
+pub fn plan_units(
+    parts: &[Part],
+    stages: &[PlanStage],
+    units: u32,
+    count: usize,
+    mix: Mix,
+    limits: Limits,
+) -> Result<Buildable, PlanError> {
+    let cls = Classes::new(parts, &|_| 0);
+    let cparts = &cls.parts;
+    let all: Vec<usize> = (0..cparts.len()).collect();
+    let resources: Vec<Resource> = cparts.iter().map(resource_of).collect();
+    let count = count.max(1);
+    let mut counts = vec![count; stages.len()];
+    let mut lists: Vec<Listed> = stages
         .iter()
-        .map(|s| stage_candidates(parts, std::slice::from_ref(&all), s, count))
+        .map(|s| stage_candidates(cparts, std::slice::from_ref(&all), s, count))
         .collect::<Result<_, _>>()?;
+    let solve_mix =
+        |n_stages: usize, cands: &[Candidate], m: Mix| -> Result<Allocation, PlanError> {
+            Ok(match m {
+                Mix::Mixed => allocate::allocate(n_stages, units, cands, &resources, limits)?,
+                Mix::Kits { variants } => {
+                    super::kits::kits(n_stages, units, cands, &resources, variants, limits)?
+                }
+            })
+        };
+    // A stage whose list holds every design it has gives an exact bound on its own: no plan,
+    // whatever designs the other stages use, builds more units than that stage alone could from
+    // the whole stock. Computed once per complete stage (its list never changes after).
+    let mut alone: Vec<Option<u32>> = vec![None; stages.len()];
+    let (per_stage, cands, origin, alloc, mixed) = loop {
+        let per_stage: Vec<Vec<Design>> = lists.iter().map(|l| l.0.clone()).collect();
+        let impossible = per_stage.iter().any(Vec::is_empty);
+        let (cands, origin) = ip_candidates(&per_stage);
+        let (alloc, mixed) = if impossible {
+            (
+                Allocation {
+                    units: 0,
+                    counts: vec![0; cands.len()],
+                    pieces: 0,
+                    proof: Proof::Optimal,
+                    size: ModelSize::default(),
+                },
+                None,
+            )
+        } else {
+            let a = solve_mix(stages.len(), &cands, mix)?;
+            let m = match mix {
+                Mix::Mixed => None,
+                Mix::Kits { .. } => Some(solve_mix(stages.len(), &cands, Mix::Mixed)?),
+            };
+            (a, m)
+        };
+        for s in 0..stages.len() {
+            if lists[s].1 && alone[s].is_none() && !per_stage[s].is_empty() {
+                let own: Vec<Candidate> = cands
+                    .iter()
+                    .filter(|c| c.stage == s)
+                    .map(|c| Candidate {
+                        stage: 0,
+                        ..c.clone()
+                    })
+                    .collect();
+                let a = solve_mix(1, &own, mix)?;
+                alone[s] = (a.proof == Proof::Optimal).then_some(a.units);
+            }
+        }
+        let bound = alone
+            .iter()
+            .flatten()
+            .copied()
+            .min()
+            .unwrap_or(units)
+            .min(units);
+        let widen: Vec<usize> = (0..stages.len())
+            .filter(|&s| {
+                !lists[s].1 && !lists[s].2 && counts[s] < count.saturating_mul(WIDEN_UP_TO)
+            })
+            .collect();
+        if impossible || alloc.units >= bound || widen.is_empty() {
+            break (per_stage, cands, origin, alloc, mixed);
+        }
+        for s in widen {
+            counts[s] = counts[s].saturating_mul(2);
+            lists[s] = stage_candidates(cparts, std::slice::from_ref(&all), &stages[s], counts[s])?;
+        }
+    };
+    // The unit count is the most possible over the whole design space when every unit is
+    // built, or when a complete stage alone could build no more.
+    let units_bound_by = if alloc.proof != Proof::Optimal {
+        None
+    } else if alloc.units >= units {
+        Some(Bound::EveryUnit)
+    } else {
+        (0..stages.len())
+            .find(|&s| alone[s] == Some(alloc.units))
+            .map(|s| Bound::Stage(stages[s].name.clone()))
+    };
     let impossible: Vec<String> = stages
         .iter()
         .zip(&per_stage)
         .filter(|(_, d)| d.is_empty())
         .map(|(s, _)| s.name.clone())
         .collect();
-    let resources: Vec<Resource> = parts.iter().map(resource_of).collect();
-    let (cands, origin) = ip_candidates(&per_stage);
-    let alloc = if impossible.is_empty() {
-        allocate::allocate(stages.len(), units, &cands, &resources, limits)?
-    } else {
-        allocate::Allocation {
-            units: 0,
-            counts: vec![0; cands.len()],
-            pieces: 0,
-            proof: Proof::Optimal,
-            size: ModelSize::default(),
-        }
-    };
-    let used = allocate::usage(&cands, &alloc.counts, parts.len());
-    let takes: Vec<(usize, u64)> = used
+    let cover: Vec<Cover> = stages
         .iter()
-        .enumerate()
-        .filter(|(_, n)| **n > 0)
-        .map(|(i, n)| (i, *n))
+        .zip(&lists)
+        .map(|(s, l)| Cover {
+            stage: s.name.clone(),
+            offered: l.0.len(),
+            complete: l.1,
+            timed_out: l.2,
+        })
         .collect();
+    let used = allocate::usage(&cands, &alloc.counts, cparts.len());
+    let takes = cls.spread(parts, &used);
     // What the missing units lack. Each stage in turn is given the stock left after the built
     // units; a stage that could build every missing unit from it alone is not the bottleneck.
-    // For the others, the rows its best design lacks for the units it cannot build are listed.
+    // For the others, the classes its best design lacks for the units it cannot build are
+    // listed (shown by their first row, with the pieces left in the whole class).
     let missing = units - alloc.units.min(units);
     let left: Vec<Resource> = resources
         .iter()
@@ -263,14 +524,14 @@ pub fn buildable(
             if lacking == 0 {
                 continue;
             }
-            for (row, per) in uses_of(best) {
+            for (class, per) in uses_of(best) {
                 let need = u64::from(per) * lacking;
-                let have = u64::from(left[row].available);
+                let have = u64::from(left[class].available);
                 if need > have {
                     short.push(Short {
                         stage: stages[s].name.clone(),
                         units: lacking as u32,
-                        row,
+                        row: cls.row(class),
                         need,
                         left: have,
                     });
@@ -281,12 +542,17 @@ pub fn buildable(
     Ok(Buildable {
         wanted: units,
         built: alloc.units,
-        stages: shares(stages, &per_stage, &origin, &alloc.counts),
+        mix,
+        mixed_built: mixed.as_ref().map(|m| m.units),
+        stages: shares(stages, &per_stage, &origin, &alloc.counts, &cls),
         takes,
         impossible,
         short,
         pieces: alloc.pieces,
         proof: alloc.proof,
+        cover,
+        units_bound_by,
+        classes: cparts.len(),
         size: alloc.size,
     })
 }
@@ -313,8 +579,10 @@ pub struct Order {
     pub buy: Vec<(usize, u32, u64)>,
     /// Total price, cents.
     pub cost_cents: u64,
-    /// Whether the integer program proved its answer optimal.
+    /// Whether the integer program proved its answer optimal (over the candidates offered).
     pub proof: Proof,
+    /// Per stage, what the candidate list covers.
+    pub cover: Vec<Cover>,
     /// Size of the integer program.
     pub size: ModelSize,
 }
@@ -330,41 +598,166 @@ pub fn reorder(
     limits: Limits,
 ) -> Result<Order, PlanError> {
     let offer_rows: BTreeSet<usize> = offers.iter().map(|o| o.row).collect();
-    let stock: Vec<usize> = (0..parts.len())
-        .filter(|i| !offer_rows.contains(i))
-        .collect();
-    let all: Vec<usize> = (0..parts.len()).collect();
-    let per_stage: Vec<Vec<Design>> = stages
+    // Each offer is its own class (it has a price); stock rows merge as in a plan.
+    let cls = Classes::new(parts, &|i| if offer_rows.contains(&i) { i + 1 } else { 0 });
+    let cparts = &cls.parts;
+    let is_offer = |c: usize| offer_rows.contains(&cls.row(c));
+    let stock: Vec<usize> = (0..cparts.len()).filter(|&c| !is_offer(c)).collect();
+    let all: Vec<usize> = (0..cparts.len()).collect();
+    let lists: Vec<Listed> = stages
         .iter()
-        .map(|s| stage_candidates(parts, &[stock.clone(), all.clone()], s, count))
+        .map(|s| stage_candidates(cparts, &[stock.clone(), all.clone()], s, count))
         .collect::<Result<_, _>>()?;
+    let per_stage: Vec<Vec<Design>> = lists.iter().map(|l| l.0.clone()).collect();
     if let Some((s, _)) = stages.iter().zip(&per_stage).find(|(_, d)| d.is_empty()) {
         return Err(PlanError::Program(AllocateError::Infeasible(format!(
             "stage {:?}: nothing in stock or in the price list can meet its target",
             s.name
         ))));
     }
-    let mut resources: Vec<Resource> = parts.iter().map(resource_of).collect();
+    let mut resources: Vec<Resource> = cparts.iter().map(resource_of).collect();
     for o in offers {
-        resources[o.row] = Resource {
-            available: 0,
-            pack: Some((o.pack, o.price_cents)),
-        };
+        if let Some(c) = (0..cparts.len()).find(|&c| cls.row(c) == o.row) {
+            resources[c] = Resource {
+                available: 0,
+                pack: Some((o.pack, o.price_cents)),
+            };
+        }
     }
     let (cands, origin) = ip_candidates(&per_stage);
     let p = allocate::purchase(stages.len(), units, &cands, &resources, limits)?;
-    let used = allocate::usage(&cands, &p.counts, parts.len());
-    let buy = offers
-        .iter()
-        .filter(|o| p.packs[o.row] > 0)
-        .map(|o| (o.row, p.packs[o.row], used[o.row]))
+    let used = allocate::usage(&cands, &p.counts, cparts.len());
+    let buy = (0..cparts.len())
+        .filter(|&c| is_offer(c) && p.packs[c] > 0)
+        .map(|c| (cls.row(c), p.packs[c], used[c]))
         .collect();
     Ok(Order {
         units,
-        stages: shares(stages, &per_stage, &origin, &p.counts),
+        stages: shares(stages, &per_stage, &origin, &p.counts, &cls),
         buy,
         cost_cents: p.cost_cents,
         proof: p.proof,
+        cover: stages
+            .iter()
+            .zip(&lists)
+            .map(|(s, l)| Cover {
+                stage: s.name.clone(),
+                offered: l.0.len(),
+                complete: l.1,
+                timed_out: l.2,
+            })
+            .collect(),
         size: p.size,
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::model::{Kind, Technology, Value};
+    use crate::solve::{Family, Rank, StageGoal};
+    use crate::timing::Conditions;
+    use crate::units::{Farads, Ohms, Tolerance, Volts};
+
+    fn part(id: i64, kind: Kind, v: f64, qty: i64, bin: &str) -> Part {
+        Part {
+            id,
+            kind,
+            value: match kind {
+                Kind::Capacitor => Value::Capacitance(Farads::from_si(v).expect("farads")),
+                _ => Value::Resistance(Ohms::from_si(v).expect("ohms")),
+            },
+            tolerance: Tolerance::symmetric_percent(1.0).expect("tolerance"),
+            technology: if kind == Kind::Capacitor {
+                Technology::Film
+            } else {
+                Technology::MetalFilm
+            },
+            voltage_rating: Volts::from_si(63.0),
+            power_rating: None,
+            package: String::new(),
+            bin: bin.into(),
+            quantity: qty,
+            held: 0,
+            low_stock: None,
+            note: String::new(),
+        }
+    }
+
+    /// A one-shot of ln 3 · 100 kΩ · 1 µF = 109.86 ms (t = ln 3 · R · C, common practice).
+    fn shot() -> PlanStage {
+        PlanStage {
+            name: "shot".into(),
+            goal: Goal::Stages(vec![StageGoal::Pulse { width: 0.109_86 }]),
+            settings: Settings {
+                tol: 0.02,
+                max_pieces: 1,
+                alternatives: 1,
+                guarantee: false,
+                family: Family::bipolar(),
+                conditions: Conditions::ideal(Volts::from_si(9.0).expect("volts")),
+                cap_techs: None,
+                min_cap_rating: None,
+                time_limit: None,
+                rank: Rank::FewestPieces,
+            },
+        }
+    }
+
+    #[test]
+    fn rows_of_one_class_are_one_resource_and_the_takes_spread_over_them() {
+        // Invented drawer: 100 kΩ in three bins (1, 2 and 3 pieces), 1 µF in one bin (9).
+        let parts = vec![
+            part(1, Kind::Resistor, 100e3, 1, "A"),
+            part(2, Kind::Resistor, 100e3, 3, "B"),
+            part(3, Kind::Resistor, 100e3, 2, "C"),
+            part(4, Kind::Capacitor, 1e-6, 9, "D"),
+        ];
+        let b = buildable(&parts, &[shot()], 6, 1, Limits::default()).expect("plan");
+        // Six 100 kΩ pieces over three rows: six units, even with one candidate per stage.
+        assert_eq!(b.built, 6, "{b:?}");
+        assert_eq!(b.classes, 2);
+        assert_eq!(b.takes, vec![(0, 1), (1, 3), (2, 2), (3, 6)]);
+        assert_eq!(b.units_bound_by, Some(Bound::EveryUnit));
+        // Fewer units asked: the fullest row is taken from first.
+        let b = buildable(&parts, &[shot()], 2, 1, Limits::default()).expect("plan");
+        assert_eq!(b.takes, vec![(1, 2), (3, 2)]);
+    }
+
+    #[test]
+    fn more_stock_never_builds_fewer_units() {
+        let mut parts = vec![
+            part(1, Kind::Resistor, 100e3, 2, "A"),
+            part(2, Kind::Capacitor, 1e-6, 9, "D"),
+        ];
+        let mut last = 0;
+        for extra in 0..6 {
+            let b = buildable(&parts, &[shot()], 9, 1, Limits::default()).expect("plan");
+            assert!(b.built >= last, "{extra} extra rows: {} < {last}", b.built);
+            assert_eq!(b.built, (2 + extra).min(9) as u32);
+            last = b.built;
+            parts.push(part(
+                10 + extra,
+                Kind::Resistor,
+                100e3,
+                1,
+                &format!("X{extra}"),
+            ));
+        }
+    }
+
+    #[test]
+    fn a_search_stopped_by_its_time_limit_is_reported_and_not_widened() {
+        let parts = vec![
+            part(1, Kind::Resistor, 100e3, 2, "A"),
+            part(2, Kind::Capacitor, 1e-6, 9, "D"),
+        ];
+        let mut st = shot();
+        st.settings.time_limit = Some(std::time::Duration::ZERO);
+        let b = buildable(&parts, &[st], 9, 1, Limits::default()).expect("plan");
+        assert!(b.cover[0].timed_out, "{:?}", b.cover);
+        assert!(!b.cover[0].complete);
+        assert!(b.cover[0].offered <= 1, "{:?}", b.cover);
+        assert_eq!(b.units_bound_by, None);
+    }
 }

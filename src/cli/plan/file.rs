@@ -8,6 +8,8 @@
 //! supply = "9 V"              # default 9 V
 //! tolerance = "2%"            # default for every stage (1 % if absent)
 //! pieces = 3                  # most pieces per position (default 3, at most 4)
+//! identical = true            # every unit the same design per stage (default: any mix)
+//! variants = 2                # or: at most this many designs per stage across all units
 //!
 //! [[stage]]
 //! name = "blink"
@@ -51,6 +53,9 @@ struct RawPlan {
     pieces: Option<usize>,
     #[serde(default)]
     guarantee: bool,
+    #[serde(default)]
+    identical: bool,
+    variants: Option<u32>,
     #[serde(default, rename = "stage")]
     stages: Vec<RawStage>,
 }
@@ -145,6 +150,9 @@ pub struct PlanSpec {
     pub supply: Volts,
     /// Stages.
     pub stages: Vec<StageSpec>,
+    /// At most this many designs per stage across all units (1: identical kits); `None` for
+    /// any mix of designs.
+    pub variants: Option<u32>,
 }
 
 fn need<'a>(stage: &str, key: &str, v: &'a Option<String>) -> Result<&'a str, PlanFileError> {
@@ -346,12 +354,27 @@ pub fn parse_plan(text: &str) -> Result<PlanSpec, PlanFileError> {
             guarantee: s.guarantee.unwrap_or(raw.guarantee),
         });
     }
+    let variants = match (raw.identical, raw.variants) {
+        (true, Some(v)) if v != 1 => {
+            return Err(PlanFileError(format!(
+                "plan file: `identical = true` means one design per stage; `variants = {v}` contradicts it (keep one of the two)"
+            )));
+        }
+        (_, Some(v)) if v == 0 || v > 100 => {
+            return Err(PlanFileError(format!(
+                "plan file: `variants` must be 1 … 100, not {v}"
+            )));
+        }
+        (true, _) => Some(1),
+        (false, v) => v,
+    };
     Ok(PlanSpec {
         name: raw.name.trim().to_string(),
         units,
         family,
         supply,
         stages,
+        variants,
     })
 }
 
@@ -392,6 +415,9 @@ value = "4k7"
         assert_eq!(p.stages[0].tolerance, Ratio::from_base(20_000_000));
         assert_eq!(p.stages[1].tolerance, Ratio::from_base(100_000_000));
         assert_eq!(p.stages[2].name, "stage 3");
+        assert_eq!(p.variants, None);
+        let kit = parse_plan(&format!("identical = true\n{KIT}")).expect("identical plan");
+        assert_eq!(kit.variants, Some(1));
         assert!(
             matches!(p.stages[0].target, TargetSpec::Astable { period, duty: Some(_) } if period == Seconds::from_base(500_000_000_000))
         );
@@ -424,6 +450,14 @@ value = "4k7"
                 "`units` must be",
             ),
             ("name = \"x\"\n", "no [[stage]]"),
+            (
+                "name = \"x\"\nidentical = true\nvariants = 3\n[[stage]]\nform = \"pulse\"\nwidth = \"1ms\"\n",
+                "contradicts",
+            ),
+            (
+                "name = \"x\"\nvariants = 0\n[[stage]]\nform = \"pulse\"\nwidth = \"1ms\"\n",
+                "`variants` must be",
+            ),
             (
                 "name = \"x\"\n[[stage]]\nform = \"astable\"\nperiod = \"1ms\"\nduty = \"70%..55%\"\n",
                 "low end first",

@@ -7,48 +7,43 @@
 
 pub mod file;
 pub mod prices;
+mod reorder;
+mod sheet;
 
-use super::find::{load_stock, stage_of, techs};
+pub(crate) use sheet::write_find_sheet;
+
+pub use reorder::ReorderArgs;
+use reorder::{REORDER_EXAMPLES, run_reorder};
+
+use super::find::{stage_of, techs};
 use super::{Context, Status};
 use crate::report::find::{describe_goal, jdesign, write_design};
 use crate::solve::allocate::{Limits, Proof};
-use crate::solve::plan::{self, Buildable, Buyable, Order, PlanStage};
+use crate::solve::plan::{self, Bound, Buildable, Cover, Mix, PlanStage, StageShare};
 use crate::solve::{Duty, Goal, Rank, Settings, StageGoal, family_by_name};
-use crate::store::{Part, Value};
+use crate::store::Part;
 use crate::timing::Conditions;
-use crate::units::eseries::Series;
 use crate::units::{Ratio, parse_ratio, parse_voltage};
 use anyhow::{Context as _, Result, anyhow, bail};
 use file::{PlanSpec, StageSpec, TargetSpec};
 use serde::Serialize;
 use std::io::Write;
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 use std::time::Duration;
-
-/// The invented sample price list, used when no `--prices` file is given.
-const SAMPLE_PRICES: &str = include_str!("../../../sample-stock/prices.csv");
 
 const PLAN_EXAMPLES: &str = "\
 Examples:
   onhand plan sample-stock/blinker-kit.toml              how many kits the stock can build
   onhand plan kit.toml --units 30 --hold                 ...and hold the parts for you
+  onhand plan kit.toml --identical                       every kit the same design per stage
+  onhand plan kit.toml --variants 2                      at most two designs per stage
+  onhand plan kit.toml --identical --sheet sheets/       printable build sheets and a pick list
   onhand plan --stage astable:2Hz:55..70% --stage pulse:20ms --units 12 --name clocks
 
 A plan file is TOML: name, units, family, supply, tolerance, then one [[stage]] per timer
 (form = value, pulse, astable, steered, square or pair). See the README for the schema.
 Inline stages: pulse:WIDTH, astable:FREQ[:DUTY], square:FREQ, steered:HIGH:LOW.
 Exit status: 0 when every unit can be built, 1 when the stock builds fewer, 2 on error.";
-
-const REORDER_EXAMPLES: &str = "\
-Examples:
-  onhand reorder sample-stock/blinker-kit.toml           what to buy to build the whole plan
-  onhand reorder kit.toml --buy E24 --csv order.csv      only E24 offers; a spreadsheet list
-  onhand reorder kit.toml --prices my-supplier.csv
-  onhand reorder --low                                   rows at or below their low-stock level
-
-The price list is CSV: kind,series,technology,tolerance,from,to,pack,price (price per pack);
-every preferred value of the series in [from, to] can be bought. Without --prices a built-in,
-invented sample list is used. CSV output neutralises cells a spreadsheet would run as formulas.";
 
 /// Plan commands.
 #[derive(Debug, clap::Subcommand)]
@@ -107,25 +102,15 @@ pub struct PlanArgs {
     /// missing.
     #[arg(long)]
     hold: bool,
-}
-
-/// Arguments of `reorder`.
-#[derive(Debug, clap::Args)]
-pub struct ReorderArgs {
-    #[command(flatten)]
-    source: PlanSource,
-    /// Price list (CSV). Default: the built-in invented sample.
-    #[arg(long, value_name = "FILE")]
-    prices: Option<PathBuf>,
-    /// Only buy from these series (comma separated, e.g. E24,E96). Default: every row.
-    #[arg(long, value_delimiter = ',', value_name = "SERIES")]
-    buy: Vec<String>,
-    /// Also write the list as CSV for a spreadsheet.
-    #[arg(long, value_name = "FILE")]
-    csv: Option<PathBuf>,
-    /// List the rows at or below their low-stock level instead of planning a purchase.
-    #[arg(long)]
-    low: bool,
+    /// Every unit the same: one design per stage for all units (overrides the file).
+    #[arg(long, conflicts_with = "variants")]
+    identical: bool,
+    /// At most N designs per stage across all units (overrides the file).
+    #[arg(long, value_name = "N", value_parser = clap::value_parser!(u32).range(1..=100))]
+    variants: Option<u32>,
+    /// Write a printable build sheet (HTML) per design variant, and a pick list by bin, here.
+    #[arg(long, value_name = "DIR")]
+    sheet: Option<PathBuf>,
 }
 
 /// Run a plan command.
@@ -137,7 +122,7 @@ pub fn run(cmd: PlanCommand, ctx: &Context, out: &mut dyn Write) -> Result<Statu
 }
 
 /// Read the plan from the file or the inline stages.
-fn load_plan(src: &PlanSource) -> Result<PlanSpec> {
+pub(super) fn load_plan(src: &PlanSource) -> Result<PlanSpec> {
     let mut spec = match &src.file {
         Some(path) => {
             let text = std::fs::read_to_string(path)
@@ -190,6 +175,7 @@ fn load_plan(src: &PlanSource) -> Result<PlanSpec> {
                 family: src.family.clone(),
                 supply,
                 stages,
+                variants: None,
             }
         }
     };
@@ -211,7 +197,7 @@ fn ratio(v: f64) -> Result<Ratio> {
 }
 
 /// The search goal and settings of one plan stage.
-fn stage_plan(spec: &PlanSpec, s: &StageSpec) -> Result<PlanStage> {
+pub(super) fn stage_plan(spec: &PlanSpec, s: &StageSpec) -> Result<PlanStage> {
     let family = family_by_name(&spec.family)
         .ok_or_else(|| anyhow!("unknown family {:?}: use bipolar or cmos", spec.family))?;
     let goal = match &s.target {
@@ -274,7 +260,7 @@ fn stage_plan(spec: &PlanSpec, s: &StageSpec) -> Result<PlanStage> {
     })
 }
 
-fn limits(src: &PlanSource) -> Result<Limits> {
+pub(super) fn limits(src: &PlanSource) -> Result<Limits> {
     let t = crate::units::parse_time(&src.time_limit).map_err(|e| anyhow!(e))?;
     if !t.is_positive() {
         bail!("--time-limit must be above zero");
@@ -286,7 +272,7 @@ fn limits(src: &PlanSource) -> Result<Limits> {
 }
 
 /// "units 1–12" or "unit 13".
-fn unit_span(first: u32, n: u32) -> String {
+pub(super) fn unit_span(first: u32, n: u32) -> String {
     if n == 1 {
         format!("unit {first}")
     } else {
@@ -294,7 +280,101 @@ fn unit_span(first: u32, n: u32) -> String {
     }
 }
 
-fn proof_text(p: Proof) -> &'static str {
+/// What the proof covers: the whole design space, or the candidate lists offered (and which
+/// stages had more designs than were offered). `bound` says why the unit count is the most
+/// possible even so, when it is; `rest` names what is only proven over the candidates
+/// ("fewest pieces", "least cost").
+pub(super) fn claim_text(p: Proof, cover: &[Cover], bound: Option<&Bound>, rest: &str) -> String {
+    let base = proof_text(p);
+    if p != Proof::Optimal {
+        return base.to_string();
+    }
+    let cut: Vec<&Cover> = cover.iter().filter(|c| !c.complete).collect();
+    if cut.is_empty() {
+        return format!("{base} over every design that meets the targets");
+    }
+    let offered: Vec<String> = cover.iter().map(|c| c.offered.to_string()).collect();
+    let names: Vec<String> = cut.iter().map(|c| format!("{:?}", c.stage)).collect();
+    let most = cover.iter().map(|c| c.offered).max().unwrap_or(0);
+    let stopped: Vec<String> = cut
+        .iter()
+        .filter(|c| c.timed_out)
+        .map(|c| format!("{:?}", c.stage))
+        .collect();
+    let mut left_out = format!(
+        "{} {} more designs that were left out — `--candidates {}` offers more",
+        names.join(", "),
+        if cut.len() == 1 { "has" } else { "have" },
+        most.saturating_mul(2).max(1)
+    );
+    if !stopped.is_empty() {
+        left_out += &format!(
+            " (the search for {} stopped at its time limit)",
+            stopped.join(", ")
+        );
+    }
+    let offered = offered.join(", ");
+    match bound {
+        Some(Bound::EveryUnit) => format!(
+            "every unit is built; {rest} proven only over the {offered} candidate designs offered per stage: {left_out}"
+        ),
+        Some(Bound::Stage(s)) => format!(
+            "no plan can build more: stage {s:?} alone cannot, from the whole stock, over every design it has; {rest} proven only over the {offered} candidate designs offered per stage: {left_out}"
+        ),
+        None => format!(
+            "{base} only over the {offered} candidate designs offered per stage, so a better plan may exist: {left_out}"
+        ),
+    }
+}
+
+/// Positions of the plan that use the same parts wired in different ways (series in one place,
+/// parallel in another), as loud warnings: a builder following one unit's list may wire
+/// another unit's parts the wrong way.
+pub(super) fn wiring_clashes(parts: &[Part], shares: &[StageShare]) -> Vec<String> {
+    use std::collections::BTreeMap;
+    // parts (by label, sorted) → [(network in words, where)]
+    let mut seen: BTreeMap<Vec<String>, Vec<(String, String)>> = BTreeMap::new();
+    for share in shares {
+        let mut first = 1;
+        for (d, n) in &share.uses {
+            for p in d.positions.iter().filter(|p| p.rows.len() > 1) {
+                let label = |i: usize| {
+                    p.rows
+                        .get(i)
+                        .and_then(|&r| parts.get(r))
+                        .map(Part::label)
+                        .unwrap_or_default()
+                };
+                let mut key: Vec<String> = (0..p.rows.len()).map(label).collect();
+                key.sort();
+                let how = p.net.describe(&label);
+                let at = format!("stage {:?} {} {}", share.name, unit_span(first, *n), p.name);
+                let list = seen.entry(key).or_default();
+                if !list.iter().any(|(h, _)| *h == how) {
+                    list.push((how, at));
+                }
+            }
+            first += n;
+        }
+    }
+    seen.into_iter()
+        .filter(|(_, ways)| ways.len() > 1)
+        .map(|(key, ways)| {
+            let ways: Vec<String> = ways
+                .iter()
+                .map(|(how, at)| format!("{at}: {how}"))
+                .collect();
+            format!(
+                "CAUTION: the same parts ({}) are wired {} different ways in this plan — {}. Check each unit against its own list before soldering.",
+                key.join(", "),
+                ways.len(),
+                ways.join("; ")
+            )
+        })
+        .collect()
+}
+
+pub(super) fn proof_text(p: Proof) -> &'static str {
     match p {
         Proof::Optimal => "proven optimal",
         Proof::TimeLimited => {
@@ -311,11 +391,18 @@ fn run_plan(args: PlanArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status
         .map(|s| stage_plan(&spec, s))
         .collect::<Result<_>>()?;
     let parts = super::holds::stock_for_plan(ctx, args.source.stock.as_deref(), &spec.name)?;
-    let answer = plan::buildable(
+    let variants = if args.identical {
+        Some(1)
+    } else {
+        args.variants.or(spec.variants)
+    };
+    let mix = variants.map_or(Mix::Mixed, |variants| Mix::Kits { variants });
+    let answer = plan::plan_units(
         &parts,
         &stages,
         spec.units,
         args.source.candidates,
+        mix,
         limits(&args.source)?,
     )
     .context("planning")?;
@@ -326,6 +413,20 @@ fn run_plan(args: PlanArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status
         }
         held = Some(super::holds::hold_plan(ctx, &spec.name, &parts, &answer)?);
     }
+    let sheets = match &args.sheet {
+        Some(dir) if answer.built > 0 => sheet::write_sheets(
+            ctx,
+            dir,
+            &spec.name,
+            &format!("{} family at {}", spec.family, spec.supply),
+            &spec.supply.to_string(),
+            &stages,
+            &parts,
+            &answer,
+        )
+        .context("writing the build sheets")?,
+        _ => Vec::new(),
+    };
     if ctx.json {
         #[derive(Serialize)]
         struct JUse<'a> {
@@ -345,6 +446,13 @@ fn run_plan(args: PlanArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status
             "wanted": answer.wanted,
             "built": answer.built,
             "proof": answer.proof,
+            "optimal_over": if answer.cover.iter().all(|c| c.complete) { "every design" } else { "the candidates offered" },
+            "cover": answer.cover,
+            "units_bound_by": answer.units_bound_by,
+            "wiring_warnings": wiring_clashes(&parts, &answer.stages),
+            "mix": answer.mix,
+            "mixed_built": answer.mixed_built,
+            "classes": answer.classes,
             "integer_program": answer.size,
             "pieces": answer.pieces,
             "stages": answer.stages.iter().zip(&stages).map(|(sh, st)| {
@@ -370,10 +478,26 @@ fn run_plan(args: PlanArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status
                 "bin": parts[s.row].bin, "need": s.need, "left": s.left,
             })).collect::<Vec<_>>(),
             "held": held,
+            "sheets": sheets,
         });
         writeln!(out, "{j}")?;
     } else {
         write_plan(out, &spec, &stages, &parts, &answer)?;
+        if let Some(dir) = &args.sheet {
+            if sheets.is_empty() {
+                writeln!(out, "\nNo build sheets: no unit can be built.")?;
+            } else {
+                writeln!(
+                    out,
+                    "\nBuild sheets and pick list written to {} ({} files):",
+                    dir.display(),
+                    sheets.len()
+                )?;
+                for f in &sheets {
+                    writeln!(out, "  {}", f.display())?;
+                }
+            }
+        }
         if let Some(change) = &held {
             writeln!(out)?;
             super::holds::print_change(change, ctx, out)?;
@@ -411,15 +535,42 @@ fn write_plan(
         spec.supply
     )?;
     writeln!(out)?;
+    if let Mix::Kits { variants } = a.mix {
+        let how = if variants == 1 {
+            "identical kits: one design per stage for every unit".to_string()
+        } else {
+            format!("kits with at most {variants} designs per stage across all units")
+        };
+        writeln!(out, "Planned as {how}.")?;
+    }
     writeln!(
         out,
         "The stock can build {} of {} units ({}; integer program of {} variables and {} constraints).",
         a.built,
         a.wanted,
-        proof_text(a.proof),
+        claim_text(
+            a.proof,
+            &a.cover,
+            a.units_bound_by.as_ref(),
+            "fewest pieces"
+        ),
         a.size.variables,
         a.size.constraints
     )?;
+    if let Some(mixed) = a.mixed_built {
+        let cmp = match mixed.cmp(&a.built) {
+            std::cmp::Ordering::Greater => format!(
+                "{} more than these kits; drop --identical/--variants to build them",
+                mixed - a.built
+            ),
+            _ => "no more than these kits".to_string(),
+        };
+        writeln!(
+            out,
+            "A mixed plan (any design for any unit) from the same candidates builds {mixed} of {} units: {cmp}.",
+            a.wanted
+        )?;
+    }
     for (share, st) in a.stages.iter().zip(stages) {
         writeln!(out)?;
         writeln!(
@@ -437,6 +588,13 @@ fn write_plan(
             writeln!(out, "  {}:", unit_span(first, *n))?;
             write_design(out, parts, d, st.goal_stages())?;
             first += n;
+        }
+    }
+    let clashes = wiring_clashes(parts, &a.stages);
+    if !clashes.is_empty() {
+        writeln!(out)?;
+        for c in &clashes {
+            writeln!(out, "{c}")?;
         }
     }
     if !a.takes.is_empty() {
@@ -502,7 +660,7 @@ fn write_plan(
     Ok(())
 }
 
-trait StageCount {
+pub(super) trait StageCount {
     fn goal_stages(&self) -> usize;
 }
 
@@ -512,401 +670,5 @@ impl StageCount for PlanStage {
             Goal::Stages(s) => s.len(),
             Goal::Value { .. } => 1,
         }
-    }
-}
-
-/// The price list's offers as extra part rows (ids below zero, bin "new (to buy)") with their packs.
-fn offers_as_parts(
-    offers: &[prices::Offer],
-    first_row: usize,
-    units: u32,
-) -> (Vec<Part>, Vec<Buyable>) {
-    // Enough pieces that the search never runs short of a buyable value: every position of
-    // every unit could use up to four of it.
-    let plenty = i64::from(units).saturating_mul(12).max(12);
-    let mut parts = Vec::new();
-    let mut buy = Vec::new();
-    for (i, o) in offers.iter().enumerate() {
-        parts.push(Part {
-            id: -(i as i64) - 1,
-            kind: o.kind,
-            value: o.value,
-            tolerance: o.tolerance,
-            technology: o.technology,
-            voltage_rating: None,
-            power_rating: None,
-            package: String::new(),
-            bin: "new (to buy)".into(),
-            quantity: plenty,
-            held: 0,
-            low_stock: None,
-            note: format!("{:?} price list", o.series),
-        });
-        buy.push(Buyable {
-            row: first_row + i,
-            pack: o.pack,
-            price_cents: o.price_cents,
-        });
-    }
-    (parts, buy)
-}
-
-/// Write a CSV list for a spreadsheet, neutralising every cell a spreadsheet would run as a
-/// formula (see `store::neutralise_cell`), through the one safe writer (`ctx.files()`).
-fn write_safe_csv(
-    ctx: &Context,
-    path: &Path,
-    header: &[&str],
-    rows: impl Iterator<Item = Vec<String>>,
-) -> Result<()> {
-    let mut w = csv::Writer::from_writer(Vec::new());
-    w.write_record(header)?;
-    for cells in rows {
-        w.write_record(cells.iter().map(|c| crate::store::neutralise_cell(c)))?;
-    }
-    let bytes = w
-        .into_inner()
-        .map_err(|e| anyhow::anyhow!("building {}: {e}", path.display()))?;
-    ctx.files().write(path, &bytes)
-}
-
-fn money(cents: u64) -> String {
-    format!("{}.{:02}", cents / 100, cents % 100)
-}
-
-fn value_text(v: Value) -> String {
-    crate::store::text::value_text(v)
-}
-
-fn run_reorder(args: ReorderArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status> {
-    if args.low {
-        return low_list(&args, ctx, out);
-    }
-    let spec = load_plan(&args.source)?;
-    let stages: Vec<PlanStage> = spec
-        .stages
-        .iter()
-        .map(|s| stage_plan(&spec, s))
-        .collect::<Result<_>>()?;
-    let price_text = match &args.prices {
-        Some(p) => std::fs::read_to_string(p)
-            .with_context(|| format!("reading price list {}", p.display()))?,
-        None => SAMPLE_PRICES.to_string(),
-    };
-    let only: Vec<Series> = args
-        .buy
-        .iter()
-        .map(|s| s.parse::<Series>().map_err(|e| anyhow!("--buy {s:?}: {e}")))
-        .collect::<Result<_>>()?;
-    let offers = prices::parse_prices(&price_text, (!only.is_empty()).then_some(only.as_slice()))?;
-    if offers.is_empty() {
-        bail!("the price list offers nothing (check --buy)");
-    }
-    let mut parts = super::holds::stock_for_plan(ctx, args.source.stock.as_deref(), &spec.name)?;
-    let stock_rows = parts.len();
-    let (extra, buyable) = offers_as_parts(&offers, stock_rows, spec.units);
-    parts.extend(extra);
-    let lim = limits(&args.source)?;
-    let order = plan::reorder(
-        &parts,
-        &buyable,
-        &stages,
-        spec.units,
-        args.source.candidates,
-        lim,
-    )
-    .context("choosing the purchase")?;
-    let stock_only: Vec<Part> = parts[..stock_rows].to_vec();
-    let before = plan::buildable(
-        &stock_only,
-        &stages,
-        spec.units,
-        args.source.candidates,
-        lim,
-    )
-    .context("planning with the stock alone")?;
-    let lines: Vec<OrderLine> = order
-        .buy
-        .iter()
-        .map(|&(row, packs, used)| {
-            let o = &offers[row - stock_rows];
-            let serves: Vec<String> = order
-                .stages
-                .iter()
-                .filter(|s| {
-                    s.uses
-                        .iter()
-                        .any(|(d, _)| d.positions.iter().any(|p| p.rows.contains(&row)))
-                })
-                .map(|s| s.name.clone())
-                .collect();
-            OrderLine {
-                kind: o.kind.as_str(),
-                value: value_text(o.value),
-                tolerance: crate::store::text::tolerance_text(o.tolerance),
-                technology: o.technology.as_str(),
-                series: format!("{:?}", o.series),
-                packs,
-                pack_size: o.pack,
-                pieces_needed: used,
-                price_per_pack: money(o.price_cents),
-                cost: money(o.price_cents.saturating_mul(u64::from(packs))),
-                serves: serves.join("; "),
-            }
-        })
-        .collect();
-    if let Some(path) = &args.csv {
-        let rows = lines.iter().map(|l| {
-            vec![
-                l.kind.to_string(),
-                l.value.clone(),
-                l.tolerance.clone(),
-                l.technology.to_string(),
-                l.series.clone(),
-                l.packs.to_string(),
-                l.pack_size.to_string(),
-                l.pieces_needed.to_string(),
-                l.price_per_pack.clone(),
-                l.cost.clone(),
-                l.serves.clone(),
-            ]
-        });
-        write_safe_csv(
-            ctx,
-            path,
-            &[
-                "kind",
-                "value",
-                "tolerance",
-                "technology",
-                "series",
-                "packs",
-                "pack_size",
-                "pieces_needed",
-                "price_per_pack",
-                "cost",
-                "serves",
-            ],
-            rows,
-        )?;
-    }
-    if ctx.json {
-        let j = serde_json::json!({
-            "plan": spec.name,
-            "units": spec.units,
-            "stock_alone_builds": before.built,
-            "buy": lines,
-            "total": money(order.cost_cents),
-            "total_cents": order.cost_cents,
-            "proof": order.proof,
-            "integer_program": order.size,
-            "csv": args.csv,
-        });
-        writeln!(out, "{j}")?;
-    } else {
-        write_order(
-            out,
-            &spec,
-            &stages,
-            &parts,
-            &order,
-            &lines,
-            before.built,
-            args.csv.as_ref(),
-        )?;
-    }
-    Ok(Status::Success)
-}
-
-/// One line of a purchase list.
-#[derive(Debug, Serialize)]
-struct OrderLine {
-    kind: &'static str,
-    value: String,
-    tolerance: String,
-    technology: &'static str,
-    series: String,
-    packs: u32,
-    pack_size: u32,
-    pieces_needed: u64,
-    price_per_pack: String,
-    cost: String,
-    serves: String,
-}
-
-#[allow(clippy::too_many_arguments)]
-fn write_order(
-    out: &mut dyn Write,
-    spec: &PlanSpec,
-    stages: &[PlanStage],
-    parts: &[Part],
-    order: &Order,
-    lines: &[OrderLine],
-    stock_builds: u32,
-    csv: Option<&PathBuf>,
-) -> Result<()> {
-    writeln!(
-        out,
-        "Reorder for plan {:?}: {} units",
-        spec.name, spec.units
-    )?;
-    writeln!(
-        out,
-        "The stock alone builds {stock_builds} of {} units.",
-        spec.units
-    )?;
-    if lines.is_empty() {
-        writeln!(out, "Nothing to buy: the stock builds every unit.")?;
-        return Ok(());
-    }
-    writeln!(out)?;
-    let mut t = comfy_table::Table::new();
-    t.load_style(comfy_table::presets::UTF8_FULL_CONDENSED);
-    t.set_header([
-        "value",
-        "tolerance",
-        "technology",
-        "series",
-        "packs",
-        "needed",
-        "per pack",
-        "cost",
-        "for",
-    ]);
-    for l in lines {
-        t.add_row([
-            l.value.clone(),
-            l.tolerance.clone(),
-            l.technology.replace('_', " "),
-            l.series.clone(),
-            format!("{} × {}", l.packs, l.pack_size),
-            l.pieces_needed.to_string(),
-            l.price_per_pack.clone(),
-            l.cost.clone(),
-            l.serves.clone(),
-        ]);
-    }
-    writeln!(out, "{t}")?;
-    writeln!(
-        out,
-        "Total {} ({}; integer program of {} variables and {} constraints).",
-        money(order.cost_cents),
-        proof_text(order.proof),
-        order.size.variables,
-        order.size.constraints
-    )?;
-    if let Some(p) = csv {
-        writeln!(out, "Written as CSV to {}", p.display())?;
-    }
-    writeln!(out)?;
-    writeln!(out, "With the purchase, every unit is built like this:")?;
-    for (share, st) in order.stages.iter().zip(stages) {
-        writeln!(out)?;
-        writeln!(
-            out,
-            "Stage {:?} — {}",
-            share.name,
-            describe_goal(&st.goal, &st.settings)
-        )?;
-        let mut first = 1;
-        for (d, n) in &share.uses {
-            writeln!(out, "  {}:", unit_span(first, *n))?;
-            write_design(out, parts, d, st.goal_stages())?;
-            first += n;
-        }
-    }
-    Ok(())
-}
-
-fn low_list(args: &ReorderArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status> {
-    let parts = load_stock(ctx, args.source.stock.as_deref())?;
-    let low: Vec<&Part> = parts
-        .iter()
-        .filter(|p| p.low_stock.is_some_and(|l| p.quantity <= l))
-        .collect();
-    // Suggested order: enough to bring the row back to twice its low-stock level (our default).
-    let suggest = |p: &Part| {
-        p.low_stock
-            .map_or(0, |l| (2 * l.max(1) - p.quantity).max(1))
-    };
-    if let Some(path) = &args.csv {
-        let rows = low.iter().map(|p| {
-            vec![
-                p.id.to_string(),
-                p.kind.as_str().to_string(),
-                value_text(p.value),
-                crate::store::text::tolerance_text(p.tolerance),
-                p.technology.as_str().to_string(),
-                p.bin.clone(),
-                p.quantity.to_string(),
-                p.held.to_string(),
-                p.low_stock.map(|l| l.to_string()).unwrap_or_default(),
-                suggest(p).to_string(),
-                p.note.clone(),
-            ]
-        });
-        write_safe_csv(
-            ctx,
-            path,
-            &[
-                "id",
-                "kind",
-                "value",
-                "tolerance",
-                "technology",
-                "bin",
-                "quantity",
-                "held",
-                "low",
-                "suggest",
-                "note",
-            ],
-            rows,
-        )?;
-    }
-    if ctx.json {
-        let j: Vec<serde_json::Value> = low
-            .iter()
-            .map(|p| serde_json::json!({"part_id": p.id, "part": p.label(), "bin": p.bin, "quantity": p.quantity, "held": p.held, "low": p.low_stock, "suggest": suggest(p)}))
-            .collect();
-        writeln!(out, "{}", serde_json::Value::Array(j))?;
-    } else if low.is_empty() {
-        writeln!(out, "No row is at or below its low-stock level.")?;
-    } else {
-        let mut t = comfy_table::Table::new();
-        t.load_style(comfy_table::presets::UTF8_FULL_CONDENSED);
-        t.set_header(["#", "part", "bin", "on shelf", "held", "low at", "suggest"]);
-        for p in &low {
-            t.add_row([
-                p.id.to_string(),
-                p.label(),
-                p.bin.clone(),
-                p.quantity.to_string(),
-                p.held.to_string(),
-                p.low_stock.map(|l| l.to_string()).unwrap_or_default(),
-                suggest(p).to_string(),
-            ]);
-        }
-        writeln!(out, "{t}")?;
-        writeln!(
-            out,
-            "{} rows are low; \"suggest\" brings each back to twice its low-stock level.",
-            low.len()
-        )?;
-        if let Some(p) = &args.csv {
-            writeln!(out, "Written as CSV to {}", p.display())?;
-        }
-    }
-    Ok(Status::Success)
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn the_built_in_price_list_reads() {
-        let offers = prices::parse_prices(SAMPLE_PRICES, None).expect("sample price list");
-        assert!(offers.len() > 100);
     }
 }
