@@ -35,7 +35,15 @@ fn codes(v: &Value, severity: &str) -> Vec<String> {
 fn astable_matches_the_1_44_rule() {
     // common practice: f ≈ 1.44/((R1+2R2)·C); 1/ln 2 = 1.4427, so within 0.2 %.
     let v = json(
-        &["astable", "R1=4.7k", "R2=68k", "C=10n", "--samples", "0"],
+        &[
+            "astable",
+            "R1=4.7k",
+            "R2=68k",
+            "C=10n",
+            "--samples",
+            "0",
+            "--ideal",
+        ],
         0,
     );
     let f = nominal(&v, "frequency");
@@ -50,11 +58,22 @@ fn astable_matches_the_1_44_rule() {
 #[test]
 fn monostable_is_1_1_rc_and_text_shows_the_model() {
     // common practice: t ≈ 1.1·R·C → 1 MΩ · 1 µF ≈ 1.1 s.
-    let v = json(&["monostable", "R=1M", "C=1u", "--family", "cmos"], 0);
+    let v = json(
+        &["monostable", "R=1M", "C=1u", "--family", "cmos", "--ideal"],
+        0,
+    );
     let t = nominal(&v, "high");
     assert!((t - 1.1).abs() / 1.1 < 0.002, "{t}");
     Bench::new()
-        .run(&["check", "monostable", "R=1M", "C=1u", "--family", "cmos"])
+        .run(&[
+            "check",
+            "monostable",
+            "R=1M",
+            "C=1u",
+            "--family",
+            "cmos",
+            "--ideal",
+        ])
         .ok()
         .stdout_has("model: ideal")
         .stdout_has("worst case (exact")
@@ -82,9 +101,10 @@ fn networks_in_positions_add_as_they_should() {
     let (fa, fb) = (nominal(&a, "frequency"), nominal(&b, "frequency"));
     assert!((fa - fb).abs() / fb < 1e-9, "{fa} vs {fb}");
     assert_eq!(a["positions"][0]["pieces"], 2);
-    // Every piece and the timer factor is one corner axis: 5 + 1 → 2^6; 3 + 1 → 2^4.
-    assert_eq!(a["analyses"][0]["worst_case"]["corners"], 64);
-    assert_eq!(b["analyses"][0]["worst_case"]["corners"], 16);
+    // Every piece and the chip's error on the charge and on the discharge time is one corner
+    // axis: 5 + 2 → 2^7; 3 + 2 → 2^5.
+    assert_eq!(a["analyses"][0]["worst_case"]["corners"], 128);
+    assert_eq!(b["analyses"][0]["worst_case"]["corners"], 32);
 }
 
 #[test]
@@ -296,6 +316,7 @@ fn pair_width_must_stay_below_the_period() {
             "C2=100n",
             "--samples",
             "0",
+            "--ideal",
         ],
         1,
     );
@@ -310,6 +331,7 @@ fn pair_width_must_stay_below_the_period() {
             "C2=100n",
             "--samples",
             "0",
+            "--ideal",
         ],
         0,
     );
@@ -359,6 +381,7 @@ fn square_wave_on_bipolar_warns_and_cmos_is_quiet() {
             "cmos",
             "--samples",
             "0",
+            "--ideal",
         ],
         0,
     );
@@ -382,7 +405,7 @@ fn refinements_are_printed_when_used() {
             "0",
         ])
         .ok()
-        .stdout_has("refined: diode drop 600 mV");
+        .stdout_has("steering diodes: a fixed 600 mV drop");
     Bench::new()
         .run(&[
             "check", "astable", "R1=1k", "R2=10k", "C=100n", "--diode", "0.6",
@@ -502,4 +525,160 @@ fn text_report_is_stable() {
         ])
         .code(1);
     insta::assert_snapshot!("check_astable_text", r.stdout);
+}
+
+#[test]
+fn one_diode_wiring_follows_rb_shunting_the_diode() {
+    // Issue 9: RB·(Vcc − V)/(RA + RB) < Vf everywhere, so the diode never conducts and the high
+    // time is (RA + RB)·C·ln 2 = 70.0 ms (DESIGN physics table, classic astable charge).
+    let v = json(
+        &[
+            "steered",
+            "RA=100k",
+            "RB=1k",
+            "C=1u",
+            "--vcc",
+            "5",
+            "--diode",
+            "0.7",
+            "--one-diode",
+            "--samples",
+            "0",
+        ],
+        0,
+    );
+    let high = nominal(&v, "high");
+    assert!((high - 101e3 * 1e-6 * 2f64.ln()).abs() < 0.05e-3, "{high}");
+    // Not refused where the two-diode limit does not apply.
+    let run = Bench::new().run(&[
+        "check",
+        "steered",
+        "RA=10k",
+        "RB=10k",
+        "C=10n",
+        "--vcc",
+        "5",
+        "--diode",
+        "0.8",
+        "--control",
+        "1.5",
+        "--one-diode",
+        "--samples",
+        "0",
+    ]);
+    assert!(run.status == 0 || run.status == 1, "{}", run.stderr);
+}
+
+#[test]
+fn square_on_bipolar_uses_the_output_drop_by_default() {
+    // Issue 9: 4.7 kΩ, 100 nF, 9 V, family drop 1.7 V (from memory): about 888 µs and 63 %.
+    let v = json(&["square", "R=4k7", "C=100n", "--samples", "0"], 0);
+    assert!((nominal(&v, "period") - 888e-6).abs() < 2e-6);
+    assert!((nominal(&v, "duty") - 0.633).abs() < 0.001);
+    // At 5 V the output never reaches the upper threshold: a clear error, not 7.2 kHz.
+    Bench::new()
+        .run(&["check", "square", "R=4k7", "C=100n", "--vcc", "5"])
+        .code(2)
+        .stderr_has("never switches");
+}
+
+#[test]
+fn json_carries_nominal_band_and_worst_case() {
+    let v = json(&["monostable", "R=970k", "C=470n", "--samples", "0"], 0);
+    let n = &v["analyses"][0]["nominal"][0];
+    let w = &v["analyses"][0]["worst_case"]["intervals"][0];
+    for key in ["nominal", "band_lo", "band_hi"] {
+        assert!(n[key].as_f64().is_some(), "{key}: {n}");
+    }
+    for key in [
+        "nominal", "band_lo", "band_hi", "worst_lo", "worst_hi", "min", "max",
+    ] {
+        assert!(w[key].as_f64().is_some(), "{key}: {w}");
+    }
+    // The bias current band is one-sided: it only lengthens a one-shot.
+    let (nom, hi) = (
+        n["nominal"].as_f64().unwrap_or(0.0),
+        n["band_hi"].as_f64().unwrap_or(0.0),
+    );
+    assert!(hi > nom * 1.01, "{nom} {hi}");
+    assert_eq!(n["band_lo"].as_f64(), Some(nom));
+    let effects: Vec<&str> = v["analyses"][0]["effects"]
+        .as_array()
+        .expect("effects")
+        .iter()
+        .filter_map(|e| e["code"].as_str())
+        .collect();
+    assert!(
+        effects.contains(&"saturation") && effects.contains(&"bias-current"),
+        "{effects:?}"
+    );
+}
+
+#[test]
+fn measured_frequency_infers_r1_with_its_interval() {
+    // Issue 9: R2 68 k, C 10 n, 1.0254 kHz → R1 near 4.7 kΩ (ln 2·(R1 + 2·R2)·C, ideal);
+    // the tolerances of R2 and C reach down to no R1 at all, so the interval starts at zero.
+    let v = json(
+        &[
+            "astable",
+            "R2=68k",
+            "C=10n",
+            "--measured",
+            "1.0254kHz",
+            "--ideal",
+            "--samples",
+            "0",
+        ],
+        0,
+    );
+    let inf = &v["inference"];
+    let nominal = inf["nominal"].as_f64().expect("nominal");
+    assert!((nominal - 4.7e3).abs() < 60.0, "{inf}");
+    assert_eq!(inf["min"].as_f64(), Some(0.0));
+    assert!(inf["max"].as_f64().expect("max") > nominal);
+}
+
+#[test]
+fn diode_option_takes_volts_or_ideal_and_part_tol_keeps_its_old_spelling() {
+    let base = ["steered", "RA=10k", "RB=4.7k", "C=100n", "--samples", "0"];
+    let period = |extra: &[&str]| {
+        let mut a = base.to_vec();
+        a.extend_from_slice(extra);
+        nominal(&json(&a, 0), "period")
+    };
+    let real = period(&[]);
+    let ideal = period(&["--diode", "ideal"]);
+    let fixed = period(&["--diode", "0.7V"]);
+    assert!(ideal < real && real < fixed, "{ideal} {real} {fixed}");
+    Bench::new()
+        .run(&[
+            "check", "steered", "RA=10k", "RB=4.7k", "C=100n", "--diode", "warm",
+        ])
+        .code(2)
+        .stderr_has("ideal");
+    let a = json(
+        &[
+            "monostable",
+            "R=10k",
+            "C=1u",
+            "--part-tol",
+            "R=1%",
+            "--samples",
+            "0",
+        ],
+        0,
+    );
+    let b = json(
+        &[
+            "monostable",
+            "R=10k",
+            "C=1u",
+            "--tol",
+            "R=1%",
+            "--samples",
+            "0",
+        ],
+        0,
+    );
+    assert_eq!(a["analyses"], b["analyses"]);
 }

@@ -444,3 +444,238 @@ fn output_driven_square_wave_matches_integration() {
     assert_eq!(stalled, vec![(5.0, None, 1.7)]);
     worst.report("output-driven square wave");
 }
+
+// ---------------------------------------------------------------------------------------------
+// The real-parts model: junction diodes and pin bias currents.
+//
+// Source: ode_solvers crate (Dopri5), independent integration. The capacitor current is written
+// from the circuit: a junction diode `I = IS·(exp(Vd/(N·Vt)) − 1)` with its series resistance (the
+// figures the evaluator uses, so both describe the same part), its current found here by
+// bisection on the loop equation; a constant pin current drawn from (or pushed into) the node.
+// Nothing here calls the evaluator's integrals; within 0.1 %.
+
+use onhand::timing::evaluate::{SMALL_SIGNAL_DIODE, THERMAL_VOLTAGE};
+use onhand::timing::{Family, Model, Stage, Steering, evaluate};
+
+struct Driven {
+    f: Box<dyn Fn(f64) -> f64>,
+    threshold: f64,
+    rising: bool,
+}
+
+impl System<f64, State> for Driven {
+    fn system(&self, _t: f64, y: &State, dy: &mut State) {
+        dy[0] = (self.f)(y[0]);
+    }
+
+    fn solout(&mut self, _t: f64, y: &State, _dy: &State) -> bool {
+        if self.rising {
+            y[0] >= self.threshold
+        } else {
+            y[0] <= self.threshold
+        }
+    }
+}
+
+/// Time for `dv/dt = f(v)` to take the capacitor from `v0` to `threshold`.
+fn driven_time(f: Box<dyn Fn(f64) -> f64>, v0: f64, threshold: f64, horizon: f64) -> f64 {
+    let rising = threshold > v0;
+    let sys = Driven {
+        f,
+        threshold,
+        rising,
+    };
+    let mut solver = Dopri5::new(sys, 0.0, horizon, horizon, State::new(v0), 1e-11, 1e-13);
+    let mut model = ContinuousOutputModel::default();
+    solver
+        .integrate_with_continuous_output_model(&mut model)
+        .expect("Dopri5 integration");
+    let hit = |v: f64| {
+        if rising {
+            v >= threshold
+        } else {
+            v <= threshold
+        }
+    };
+    let t_end = *solver.x_out().last().expect("steps");
+    assert!(
+        hit(solver.y_out().last().expect("steps")[0]),
+        "never crossed"
+    );
+    let mut lo = solver.x_out().iter().rev().nth(1).copied().unwrap_or(0.0);
+    let mut hi = t_end;
+    for _ in 0..200 {
+        let mid = 0.5 * (lo + hi);
+        if mid <= lo || mid >= hi {
+            break;
+        }
+        if hit(model.evaluate(mid).expect("inside")[0]) {
+            hi = mid;
+        } else {
+            lo = mid;
+        }
+    }
+    0.5 * (lo + hi)
+}
+
+/// Diode current at forward voltage `vd`: Shockley, `IS·(exp(vd/(N·Vt)) − 1)`.
+fn shockley(vd: f64) -> f64 {
+    let p = SMALL_SIGNAL_DIODE;
+    p.is * ((vd / (p.n * THERMAL_VOLTAGE)).exp() - 1.0)
+}
+
+/// Current through `r` in series with the diode (and its RS) with `across` volts over both:
+/// bisection on the current.
+fn series_current(r: f64, across: f64) -> f64 {
+    if across <= 0.0 {
+        return 0.0;
+    }
+    let rt = r + SMALL_SIGNAL_DIODE.rs;
+    let (mut lo, mut hi) = (0.0, across / rt);
+    for _ in 0..200 {
+        let i = 0.5 * (lo + hi);
+        // The diode takes what the resistors leave; more current than it passes is too much.
+        if shockley(across - i * rt) < i {
+            hi = i;
+        } else {
+            lo = i;
+        }
+    }
+    0.5 * (lo + hi)
+}
+
+fn stage_times(st: &Stage, model: &Model) -> onhand::timing::Evaluation {
+    evaluate(st, &Family::bipolar(), model).expect("evaluate")
+}
+
+#[test]
+fn small_signal_two_diode_steering_matches_integration() {
+    let fam = Family::bipolar();
+    let vs = fam.discharge_saturation.value;
+    let mut model = Model::real();
+    model.bias_currents = false;
+    let mut worst: f64 = 0.0;
+    for (ra, rb, c, vcc) in [
+        (10e3, 4.7e3, 100e-9, 9.0),
+        (1e3, 1e3, 10e-9, 5.0),
+        (1e6, 47e3, 1e-9, 15.0),
+        (33e3, 1e6, 10e-9, 12.0),
+    ] {
+        let st = Stage::steered(ohms(ra), ohms(rb), farads(c), cond(vcc, None, 0.0, 0.0));
+        let e = stage_times(&st, &model);
+        let (vu, vl) = thresholds(vcc, None);
+        let h = (ra + rb) * c * 50.0;
+        let high = driven_time(
+            Box::new(move |v| series_current(ra, vcc - v) / c),
+            vl,
+            vu,
+            h,
+        );
+        let low = driven_time(
+            Box::new(move |v| -series_current(rb, v - vs) / c),
+            vu,
+            vl,
+            h,
+        );
+        let eh = (e.high.nominal - high).abs() / high;
+        let el = (e.low.expect("low").nominal - low).abs() / low;
+        worst = worst.max(eh).max(el);
+        assert!(
+            eh < TOLERANCE && el < TOLERANCE,
+            "{ra} {rb} {vcc}: {eh} {el}"
+        );
+    }
+    eprintln!(
+        "small-signal two-diode steering: worst {:.5} %",
+        worst * 100.0
+    );
+}
+
+#[test]
+fn small_signal_one_diode_steering_matches_integration() {
+    let mut model = Model::real();
+    model.bias_currents = false;
+    for (ra, rb, c, vcc) in [
+        (10e3, 10e3, 10e-9, 9.0),
+        (100e3, 1e3, 1e-6, 5.0),
+        (1e3, 100e3, 10e-9, 12.0),
+    ] {
+        let mut st = Stage::steered(ohms(ra), ohms(rb), farads(c), cond(vcc, None, 0.0, 0.0));
+        st.steering = Steering::OneDiode;
+        let e = stage_times(&st, &model);
+        let (vu, vl) = thresholds(vcc, None);
+        // Node u between RA and the RB ‖ diode pair: (Vcc − u)/RA = (u − v)/RB + Id(u − v).
+        let feed = move |v: f64| {
+            let (mut lo, mut hi) = (v, vcc);
+            for _ in 0..100 {
+                let u = 0.5 * (lo + hi);
+                let id = series_current(0.0, u - v);
+                if (vcc - u) / ra > (u - v) / rb + id {
+                    lo = u;
+                } else {
+                    hi = u;
+                }
+            }
+            (vcc - 0.5 * (lo + hi)) / ra / c
+        };
+        let high = driven_time(Box::new(feed), vl, vu, (ra + rb) * c * 50.0);
+        let eh = (e.high.nominal - high).abs() / high;
+        assert!(
+            eh < TOLERANCE,
+            "{ra} {rb} {vcc}: {} vs {high}: {eh}",
+            e.high.nominal
+        );
+    }
+}
+
+#[test]
+fn bias_current_band_ends_match_integration() {
+    // The band's far end is the constant-current case: one-shot with the threshold current
+    // drawn from the node; astable high with the threshold current, low with the trigger
+    // current pushed in (the ends that lengthen each time).
+    let fam = Family::bipolar();
+    let (ith, itr) = (fam.threshold_current.value, fam.trigger_current.value);
+    let vs = fam.discharge_saturation.value;
+    let model = Model::real();
+    let (r, c, vcc) = (970e3, 470e-9, 9.0);
+    let st = Stage::monostable(ohms(r), farads(c), cond(vcc, None, 0.0, 0.0));
+    let e = stage_times(&st, &model);
+    let (vu, vl) = thresholds(vcc, None);
+    let t = driven_time(
+        Box::new(move |v| ((vcc - v) / r - ith) / c),
+        vs,
+        vu,
+        r * c * 50.0,
+    );
+    assert!(
+        (e.high.band_hi - t).abs() / t < TOLERANCE,
+        "{} vs {t}",
+        e.high.band_hi
+    );
+    let (r1, r2, c) = (100e3, 1e6, 10e-9);
+    let st = Stage::astable(ohms(r1), ohms(r2), farads(c), cond(vcc, None, 0.0, 0.0));
+    let e = stage_times(&st, &model);
+    let high = driven_time(
+        Box::new(move |v| ((vcc - v) / (r1 + r2) - ith) / c),
+        vl,
+        vu,
+        (r1 + r2) * c * 50.0,
+    );
+    let low = driven_time(
+        Box::new(move |v| (-(v - vs) / r2 + itr) / c),
+        vu,
+        vl,
+        r2 * c * 50.0,
+    );
+    assert!(
+        (e.high.band_hi - high).abs() / high < TOLERANCE,
+        "{} vs {high}",
+        e.high.band_hi
+    );
+    let l = e.low.expect("low");
+    assert!(
+        (l.band_hi - low).abs() / low < TOLERANCE,
+        "{} vs {low}",
+        l.band_hi
+    );
+}

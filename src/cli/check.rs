@@ -13,13 +13,15 @@ use super::output::{
 use super::{Context, Status};
 use crate::network::{Combine, parse_net};
 use crate::report::schematic;
-use crate::store::Technology;
+use crate::store::spec::default_tolerance;
+use crate::store::{Kind, Technology};
+use crate::timing::evaluate::SMALL_SIGNAL_DIODE;
 use crate::timing::tolerance::Samples;
 use crate::timing::{
-    Analysis, CapFacts, Circuit, Conditions, Family, Finding, Form, Inference, Interval, Limits,
-    MonteCarlo, Piece, Position, Quantity, Severity, Spread, Stage, StageModel, Steering, Target,
-    TrimPlan, Verdict, WorstCase, check_dual, check_pair, check_pair_worst_case, check_stage_with,
-    family_by_name, has_error,
+    Analysis, CapFacts, Circuit, Conditions, DiodeModel, Effect, Family, Finding, Form, Inference,
+    Interval, Limits, Model, MonteCarlo, Piece, Position, Quantity, Severity, Spread, Stage,
+    StageModel, Steering, Target, TrimPlan, Verdict, WorstCase, check_dual, check_pair,
+    check_pair_worst_case, check_stage_with, evaluate, family_by_name, has_error,
 };
 use crate::units::{
     Engineering, Farads, Hertz, Ohms, Ratio, Seconds, Tolerance, Volts, Watts, format_sig,
@@ -39,9 +41,10 @@ Positions (NAME=VALUE; a value may be a network: + series, || or // parallel, pa
 
 Examples:
   onhand check astable R1=4.7k R2=68k C=10n
-  onhand check astable R1=33k+2.2k R2=68k C=10n||2.2n --tol R1=1% --tol C=5% --vcc 12
+  onhand check astable R1=33k+2.2k R2=68k C=10n||2.2n --part-tol R1=1% --part-tol C=5% --vcc 12
   onhand check monostable R=1M C=10u --cap C=electrolytic --rating C=16V --family cmos
   onhand check steered RA=10k RB=4.7k C=100n --diode 0.6 --one-diode
+  onhand check steered RA=10k RB=4.7k C=100n --ideal                  the textbook model
   onhand check astable R1=4.7k R2=68k C=10n --target 1kHz --within 2% --trim R2
   onhand check astable R1=4.7k R2=68k --measured 1.2kHz      infer the unmarked capacitor
   onhand check pair R1=1k R2=10k C1=100n R3=10k C2=10n
@@ -49,16 +52,31 @@ Examples:
   onhand check square R=10k C=10n --family cmos --set max_freq=2M
   onhand check astable R1=33k+2.2k R2=68k C=10n --svg pictures --netlist board.cir
 
-Defaults: supply 9 V, bipolar timer, ideal model (thresholds 1/3 and 2/3 of the supply, no diode
-drop); resistors ±5 %, capacitors ±10 %, electrolytics ±20 % unless --tol says otherwise (common
-practice). Timer error = initial error + temperature drift over --temp-span °C + supply drift over
+Defaults: supply 9 V, bipolar timer, real parts: thresholds 1/3 and 2/3 of the supply, small-signal
+silicon steering diodes whose drop follows the current, the family's output-high drop in the
+square form, discharge saturation, pin bias currents and class-2 ceramic DC-bias loss as a
+one-sided band (figures from memory, listed in the report). --ideal gives the textbook model;
+--diode 0.7 or --diode ideal chooses the diodes; --guarantee uses the family's data-sheet limits.
+Resistors ±5 %, capacitors ±10 % (Y5V −20/+80 %, electrolytics ±20 %) unless --part-tol says
+otherwise (common practice). Timer error = initial error + temperature drift over --temp-span °C + supply drift over
 --supply-swing. Timer figures (from memory) can be overridden with --set KEY=VALUE; keys:
 supply_min supply_max threshold_current trigger_current discharge_max max_freq error_one_shot
 error_astable drift_temp_one_shot drift_temp_astable drift_supply_one_shot drift_supply_astable
-output_high_drop (e.g. --set threshold_current=250nA --set drift_temp_astable=100ppm/C).
+output_high_drop discharge_saturation (e.g. --set threshold_current=250nA).
 
 Exit status: 0 sound, 1 an electrical check failed (an error finding) or the target is not
 guaranteed, 2 bad input.";
+
+/// `--diode`: a drop in volts (with its unit) or `ideal`.
+fn parse_diode(text: &str) -> Result<DiodeModel, String> {
+    let t = text.trim();
+    if t.eq_ignore_ascii_case("ideal") {
+        return Ok(DiodeModel::Ideal);
+    }
+    parse_voltage(t)
+        .map(DiodeModel::Fixed)
+        .map_err(|e| format!("{e}; give a drop in volts (0.6V) or `ideal`"))
+}
 
 /// Most Monte Carlo samples one run draws (memory grows with the count).
 const MAX_SAMPLES: usize = 5_000_000;
@@ -119,20 +137,30 @@ pub struct CheckArgs {
     /// Override a timer figure, e.g. max_freq=500k (repeatable; keys in the help text).
     #[arg(long, value_name = "KEY=VALUE")]
     pub set: Vec<String>,
-    /// Refinement: steering-diode forward drop (steered form).
-    #[arg(long, value_name = "VOLTS", value_parser = parse_voltage)]
-    pub diode: Option<Volts>,
+    /// Steering diodes (steered form): a fixed forward drop in VOLTS, or `ideal` (no drop).
+    /// Default: a small-signal silicon junction whose drop follows the current (from memory).
+    #[arg(long, value_name = "VOLTS|ideal", value_parser = parse_diode)]
+    pub diode: Option<DiodeModel>,
+    /// The textbook model: every effect off (ideal diodes, rail-to-rail output, no saturation,
+    /// no pin bias currents, no DC-bias loss).
+    #[arg(long)]
+    pub ideal: bool,
+    /// Design against the family's data-sheet limits (from memory) instead of its typical
+    /// figures: bias currents, output drop, saturation and the chip's own error.
+    #[arg(long)]
+    pub guarantee: bool,
     /// Steered form wired with one diode bypassing R2 (no diode in the discharge path).
     #[arg(long)]
     pub one_diode: bool,
     /// Refinement: control pin driven at this voltage (upper threshold; lower is half of it).
     #[arg(long, value_name = "VOLTS", value_parser = parse_voltage)]
     pub control: Option<Volts>,
-    /// Refinement: output sits this far below the supply when high (square form).
+    /// Output sits this far below the supply when high (square form); default the family's
+    /// light-load figure (same as --set output_high_drop=VOLTS).
     #[arg(long, value_name = "VOLTS", value_parser = parse_voltage)]
     pub output_drop: Option<Volts>,
     /// Tolerance of every piece of a position, e.g. R1=1% (repeatable).
-    #[arg(long, value_name = "NAME=TOL")]
+    #[arg(long = "part-tol", alias = "tol", value_name = "NAME=TOL")]
     pub tol: Vec<String>,
     /// Capacitor dielectric of a position: film, c0g, x7r, y5v, electrolytic, tantalum, other.
     #[arg(long, value_name = "NAME=KIND")]
@@ -310,6 +338,8 @@ fn parse_figure(text: &str, unit: &str) -> anyhow::Result<f64> {
 
 struct Prepared {
     family: Family,
+    model: Model,
+    caps: Vec<Option<CapFacts>>,
     stages: Vec<Built>,
     positions: Vec<PositionReport>,
     defaults_used: Vec<String>,
@@ -469,6 +499,15 @@ fn prepare(args: &CheckArgs) -> anyhow::Result<Prepared> {
                 .join(", ")
         ),
     };
+    if let Some(d) = args.output_drop {
+        family
+            .set("output_high_drop", d.si())
+            .context("--output-drop")?;
+    }
+    if args.guarantee {
+        family = family.at_limits();
+    }
+    let model = model_of(args);
     if args.diode.is_some() && !inputs.iter().any(|s| s.form == Form::Steered) {
         bail!("--diode applies to the steered form only");
     }
@@ -478,14 +517,17 @@ fn prepare(args: &CheckArgs) -> anyhow::Result<Prepared> {
     let mut defaults_used = Vec::new();
     let mut positions = Vec::new();
     let mut stages = Vec::new();
+    let mut caps = Vec::new();
     for input in &inputs {
         let mut conditions = Conditions::ideal(args.vcc);
         conditions.control = args.control;
+        // The checks and the netlist read these; the times come from the evaluator.
         if input.form == Form::Steered {
-            conditions.diode_drop = args.diode.unwrap_or(Volts::ZERO);
+            conditions.diode_drop = representative_drop(model.diode);
         }
-        if input.form == Form::Square {
-            conditions.output_high_drop = args.output_drop.unwrap_or(Volts::ZERO);
+        if input.form == Form::Square && model.output_drop {
+            conditions.output_high_drop =
+                Volts::from_si(family.output_high_drop.value).unwrap_or_default();
         }
         let mut built: Vec<Position> = Vec::new();
         let mut cap_facts = None;
@@ -497,17 +539,14 @@ fn prepare(args: &CheckArgs) -> anyhow::Result<Prepared> {
                 Combine::Resistive
             };
             let tech = techs.get(&full).copied();
-            let default_tol = match (combine, tech) {
-                (Combine::Resistive, _) => 5.0,
-                (Combine::Capacitive, Some(t)) if t.is_electrolytic() => 20.0,
-                (Combine::Capacitive, _) => 10.0,
-            };
+            let default = match (combine, tech) {
+                (Combine::Resistive, _) => Tolerance::symmetric_percent(5.0),
+                (Combine::Capacitive, Some(t)) => Some(default_tolerance(Kind::Capacitor, t)),
+                (Combine::Capacitive, None) => Tolerance::symmetric_percent(10.0),
+            }
+            .ok_or_else(|| anyhow!("default tolerance out of range"))?;
             let given_tol = tols.get(&full).copied();
-            let tolerance = match given_tol {
-                Some(t) => t,
-                None => Tolerance::symmetric_percent(default_tol)
-                    .ok_or_else(|| anyhow!("default tolerance out of range"))?,
-            };
+            let tolerance = given_tol.unwrap_or(default);
             let is_unknown = unknown.as_deref() == Some(full.as_str());
             let (pos, expression) = if is_unknown {
                 // Placeholder; the inference replaces it. Taken exact.
@@ -533,7 +572,7 @@ fn prepare(args: &CheckArgs) -> anyhow::Result<Prepared> {
                 }
                 .with_context(|| format!("position {full}"))?;
                 if given_tol.is_none() {
-                    defaults_used.push(format!("{full} ±{default_tol} %"));
+                    defaults_used.push(format!("{full} {}", tolerance_text(default)));
                 }
                 let pieces = vals
                     .into_iter()
@@ -590,6 +629,7 @@ fn prepare(args: &CheckArgs) -> anyhow::Result<Prepared> {
             timer_error: family.timer_error(one_shot, args.temp_span, args.supply_swing),
         };
         let stage = stage_of(&model, cap_facts)?;
+        caps.push(cap_facts);
         stages.push(Built {
             label: input.label,
             stage,
@@ -598,11 +638,42 @@ fn prepare(args: &CheckArgs) -> anyhow::Result<Prepared> {
     }
     Ok(Prepared {
         family,
+        model,
+        caps,
         stages,
         positions,
         defaults_used,
         unknown,
     })
+}
+
+/// The model the options ask for: real parts by default, `--ideal` the textbook model, and
+/// `--diode` choosing the steering diodes.
+fn model_of(args: &CheckArgs) -> Model {
+    let mut m = if args.ideal {
+        Model::ideal()
+    } else {
+        Model::real()
+    };
+    if let Some(d) = args.diode {
+        m.diode = d;
+    }
+    if args.output_drop.is_some() {
+        m.output_drop = true;
+    }
+    m
+}
+
+/// The drop the electrical checks and the netlist's fixed-drop diode use: the given drop, or the
+/// small-signal diode's drop at 1 mA.
+fn representative_drop(d: DiodeModel) -> Volts {
+    match d {
+        DiodeModel::Ideal => Volts::ZERO,
+        DiodeModel::Fixed(v) => v,
+        DiodeModel::SmallSignal => {
+            Volts::from_si(SMALL_SIGNAL_DIODE.drop_at(1e-3)).unwrap_or_default()
+        }
+    }
 }
 
 fn tolerance_text(t: Tolerance) -> String {
@@ -621,6 +692,7 @@ struct AnalysisReport {
     label: String,
     form: String,
     model: Vec<String>,
+    effects: Vec<Effect>,
     timer_error: Vec<f64>,
     nominal: Vec<Interval>,
     worst_case: Option<WorstCase>,
@@ -723,7 +795,12 @@ pub fn run(args: CheckArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resul
     let mut inference = None;
     if let (Some(unknown), Some(measured)) = (prep.unknown.clone(), &args.measured) {
         let (q, value) = parse_quantity_value(measured, args.of, one_shot)?;
-        let analysis = Analysis::new(&circuit_of(&prep.stages)?)?;
+        let analysis = Analysis::with_physics(
+            &circuit_of(&prep.stages)?,
+            &prep.family,
+            &prep.model,
+            &prep.caps,
+        )?;
         let pos = analysis.position(&unknown)?;
         let inf = analysis
             .infer(pos, q, value)
@@ -801,8 +878,22 @@ pub fn run(args: CheckArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resul
     let mut verdict = None;
     let mut trim = None;
     for (label, form, circuit, built) in &circuits {
-        let analysis = Analysis::new(circuit)?;
+        let caps: Vec<Option<CapFacts>> = built.iter().map(|b| b.stage.cap).collect();
+        let analysis = Analysis::with_physics(circuit, &prep.family, &prep.model, &caps)?;
         let nominal = analysis.nominal();
+        let banded = analysis.nominal_banded();
+        let mut effects: Vec<Effect> = Vec::new();
+        for b in built {
+            let ev = evaluate(&b.stage, &prep.family, &prep.model)?;
+            for e in ev.effects {
+                let text = if b.label.is_empty() {
+                    e.text
+                } else {
+                    format!("{}: {}", b.label, e.text)
+                };
+                effects.push(Effect { text, ..e });
+            }
+        }
         let worst = analysis.worst_case().ok();
         if is_pair && let Some(d) = worst.as_ref().and_then(|w| w.get(Quantity::Duty)) {
             findings.extend(check_pair_worst_case(d.max));
@@ -845,47 +936,45 @@ pub fn run(args: CheckArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resul
         }
         let mut model = Vec::new();
         for b in built {
-            let r = b.stage.refinements();
             let prefix = if b.label.is_empty() {
                 String::new()
             } else {
                 format!("{}: ", b.label)
             };
-            if r.is_empty() {
-                model.push(format!(
-                    "{prefix}ideal (thresholds 1/3 and 2/3 of the supply{})",
-                    if b.stage.form == Form::Steered {
-                        ", no diode drop"
-                    } else {
-                        ""
-                    }
-                ));
-            } else {
-                model.push(format!("{prefix}refined: {}", r.join(", ")));
-            }
-            if b.stage.form == Form::Steered {
-                model.push(format!(
-                    "{prefix}steering: {}",
-                    match b.stage.steering {
-                        Steering::TwoDiode => "a diode in the charge and in the discharge path",
-                        Steering::OneDiode => "one diode bypassing RB while charging",
-                    }
-                ));
-            }
+            let thresholds = match b.stage.conditions.control {
+                Some(v) => format!("control pin driven at {v}, lower threshold half of it"),
+                None => "thresholds 1/3 and 2/3 of the supply".to_string(),
+            };
+            model.push(format!(
+                "{prefix}{} ({thresholds}){}",
+                if args.ideal {
+                    "ideal: the textbook model, every effect off"
+                } else {
+                    "real parts: the effects below"
+                },
+                if args.guarantee {
+                    "; family figures at their data-sheet limits (from memory)"
+                } else {
+                    ""
+                }
+            ));
         }
         analyses.push(AnalysisReport {
             label: label.clone(),
             form: form.clone(),
             model,
+            effects,
             timer_error: built.iter().map(|b| b.model.timer_error.si()).collect(),
             nominal: analysis
                 .quantities()
                 .into_iter()
-                .map(|q| Interval {
-                    quantity: q,
-                    nominal: nominal[q as usize],
-                    min: nominal[q as usize],
-                    max: nominal[q as usize],
+                .map(|q| {
+                    let [n, lo, hi] = banded[q as usize];
+                    Interval {
+                        band_lo: lo,
+                        band_hi: hi,
+                        ..Interval::point(q, n)
+                    }
                 })
                 .collect(),
             worst_case: worst,
@@ -1198,11 +1287,26 @@ fn render(
         for m in &a.model {
             writeln!(out, "  model: {m}")?;
         }
-        writeln!(out, "  times (nominal):")?;
+        for e in &a.effects {
+            writeln!(out, "    - {} ({})", e.text, e.provenance)?;
+        }
+        writeln!(
+            out,
+            "  times (nominal, and the model band where the effects leave one):"
+        )?;
         for i in &a.nominal {
+            let band = if i.band_lo < i.nominal || i.band_hi > i.nominal {
+                format!(
+                    "   band {} … {}",
+                    qv(i.quantity, i.band_lo),
+                    qv(i.quantity, i.band_hi)
+                )
+            } else {
+                String::new()
+            };
             writeln!(
                 out,
-                "    {:<10} {}",
+                "    {:<10} {}{band}",
                 i.quantity.label(),
                 qv(i.quantity, i.nominal)
             )?;
@@ -1223,9 +1327,18 @@ fn render(
                     args.supply_swing.eng(3)
                 )?;
                 for i in &wc.intervals {
+                    let with_band = if i.worst_lo < i.min || i.worst_hi > i.max {
+                        format!(
+                            "; with the model band {} … {}",
+                            qv(i.quantity, i.worst_lo),
+                            qv(i.quantity, i.worst_hi)
+                        )
+                    } else {
+                        String::new()
+                    };
                     writeln!(
                         out,
-                        "    {:<10} {} … {}   ({} / {})",
+                        "    {:<10} {} … {}   ({} / {}){with_band}",
                         i.quantity.label(),
                         qv(i.quantity, i.min),
                         qv(i.quantity, i.max),
@@ -1288,12 +1401,12 @@ fn render(
             qv(q, a),
             qv(q, b),
             if v.guaranteed {
-                "GUARANTEED — every corner lies inside".to_string()
+                "GUARANTEED — every corner, with the model band, lies inside".to_string()
             } else {
                 format!(
-                    "NOT guaranteed — worst case {} … {}{}",
-                    qv(q, v.interval.min),
-                    qv(q, v.interval.max),
+                    "NOT guaranteed — worst case with the model band {} … {}{}",
+                    qv(q, v.interval.worst_lo),
+                    qv(q, v.interval.worst_hi),
                     if v.nominal_inside {
                         ""
                     } else {

@@ -644,9 +644,13 @@ impl Netlist {
         }
         match cond.control {
             Some(v) => self.line(&format!("V{ctrl} {ctrl} 0 DC {}", num(v.si()))),
-            None => self.comment(&format!(
-                "{ctrl} left to the internal divider (2/3 of the supply), no bypass"
-            )),
+            None => {
+                self.comment(&format!(
+                    "{ctrl} left to the internal divider (2/3 of the supply), decoupled by 10 nF as in the schematic"
+                ));
+                self.line(&format!("C{ctrl} {ctrl} 0 10n"));
+                self.line(&format!(".ic v({ctrl})={}", num(cond.vcc.si() * 2.0 / 3.0)));
+            }
         }
         let vf = num(cond.diode_drop.si());
         let sfx = if tag.is_empty() {
@@ -842,6 +846,8 @@ mod tests {
         assert!(text.contains("R1 vcc dis 10k\n"), "{text}");
         assert!(text.contains("R2 dis cap 47k\n"), "{text}");
         assert!(text.contains("C cap 0 100n\n"), "{text}");
+        // The control pin is decoupled by 10 nF, as the schematic draws it.
+        assert!(text.contains("Cctrl ctrl 0 10n\n"), "{text}");
         // Period ln 2·(R1+2R2)·C = 7.21 ms; start-up ln 3·(R1+R2)·C = 6.26 ms; shortest phase
         // ln 2·R2·C = 3.26 ms, so the largest step is 3.26 ms / 2000 = 1.63 µs.
         let tran = text

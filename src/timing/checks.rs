@@ -16,6 +16,10 @@
 //! - Electrolytic leakage, estimated by the `0.01·C·V µA (at least 3 µA)` rule for aluminium
 //!   and `0.01·C·V µA` for tantalum (from memory, the usual datasheet maximum), against the
 //!   charging current at the threshold: Warning above 1 %, Error above 50 % (may stall).
+//! - Output-driven form: the output's current into the timing resistor at each edge against
+//!   the light load its output-high drop holds for and the output rating (Warning).
+//! - One-shot: a capacitor holding more than 10 µC at the threshold dumps straight into the
+//!   discharge pin: Warning, with the usual series resistor.
 //! - Capacitor voltage rating: Error below the supply, Warning below 1.5× the supply (common
 //!   practice margin). Polarised parts: a Note on orientation.
 //! - Timing capacitance under 100 pF: Warning, because pin and board strays of a few pF (about
@@ -171,6 +175,8 @@ pub fn check_stage_with(stage: &Stage, family: &Family, limits: &Limits) -> Vec<
     check_r1(stage, family, limits, &mut out);
     check_bias(stage, family, &mut out);
     check_capacitor(stage, &mut out);
+    check_output_current(stage, family, &mut out);
+    check_discharge_dump(stage, &mut out);
 
     let fmax = family.max_freq.value;
     if let Some(freq) = times.frequency {
@@ -353,6 +359,90 @@ fn check_r1(stage: &Stage, family: &Family, limits: &Limits, out: &mut Vec<Findi
             format!(
                 "R1 dissipates {}: it gets hot enough to burn skin and scorch the board; mount it clear of other parts. {CODES_NOTE}",
                 pw(p)
+            ),
+        )));
+    }
+}
+
+/// Output current above which the light-load output-high drop no longer holds: about 1 mA for
+/// a CMOS part, 10 mA for a bipolar one (from memory).
+pub fn light_load_limit(family: &Family) -> f64 {
+    if family.rail_to_rail() { 1e-3 } else { 10e-3 }
+}
+
+/// Largest output current the family is rated for: 200 mA bipolar, 10 mA CMOS (from memory).
+pub fn output_rating(family: &Family) -> f64 {
+    if family.rail_to_rail() { 10e-3 } else { 200e-3 }
+}
+
+/// The output-driven form: the output feeds the timing resistor, so its current at the moment
+/// of switching, `(Voh − Vl)/R` sourced and `Vu/R` sunk, must stay inside the light-load range
+/// the output-drop figure holds for (Warning) and inside the output rating (Error).
+fn check_output_current(stage: &Stage, family: &Family, out: &mut Vec<Finding>) {
+    if stage.form != Form::Square {
+        return;
+    }
+    let c = &stage.conditions;
+    let Ok((vu, vl)) = c.thresholds() else {
+        return;
+    };
+    let r = stage.r1.si();
+    if r <= 0.0 {
+        return;
+    }
+    let voh = c.vcc.si() - c.output_high_drop.si();
+    let peak = ((voh - vl) / r).max(vu / r);
+    let (light, rating) = (light_load_limit(family), output_rating(family));
+    // A Warning either way: the search's closed-form limits (solve/reach) mirror every Error.
+    if peak <= light {
+        return;
+    }
+    let over_rating = peak > rating;
+    out.push(f((
+        Severity::Warning,
+        "output-current",
+        format!(
+            "the output drives the timing resistor with up to {} at each edge (plus any load); {} — use a larger resistance and a smaller capacitor",
+            amps(peak),
+            if over_rating {
+                format!(
+                    "above the {} family's output rating of about {} (from memory)",
+                    family.name,
+                    amps(rating)
+                )
+            } else {
+                format!(
+                    "above the light load (about {}, from memory) its output-high drop figure holds for, so the high time runs longer than predicted",
+                    amps(light)
+                )
+            }
+        ),
+    )));
+}
+
+/// Charge above which a one-shot's capacitor, dumped straight into the discharge pin at the end
+/// of every pulse, stresses the discharge transistor: 10 µC (≈ 1.5 µF at 6 V; from memory,
+/// the usual advice is a small series resistor above a few µF).
+pub const DUMP_CHARGE_WARN: f64 = 10e-6;
+
+/// A monostable's capacitor discharges through nothing but the discharge transistor.
+fn check_discharge_dump(stage: &Stage, out: &mut Vec<Finding>) {
+    if stage.form != Form::Monostable {
+        return;
+    }
+    let Ok((vu, _)) = stage.conditions.thresholds() else {
+        return;
+    };
+    let q = stage.c.si() * vu;
+    if q > DUMP_CHARGE_WARN {
+        out.push(f((
+            Severity::Warning,
+            "discharge-dump",
+            format!(
+                "at the end of each pulse the {} capacitor dumps {:.0} µC from {} straight into the discharge pin, limited only by the transistor; put about 100 Ω in series with the discharge pin (common practice) — it adds about 100 Ω·C to the recovery time, not to the pulse",
+                stage.c.eng(3),
+                q * 1e6,
+                volts(vu)
             ),
         )));
     }
@@ -792,7 +882,9 @@ mod tests {
             k.voltage_rating = Some(v(63.0));
             k
         });
-        assert!(check_stage(&s, &Family::cmos()).is_empty());
+        // (100 µF still dumps into the discharge pin at the end of each pulse: that warning only.)
+        let rest = check_stage(&s, &Family::cmos());
+        assert!(rest.iter().all(|f| f.code == "discharge-dump"), "{rest:?}");
     }
 
     #[test]
@@ -965,5 +1057,56 @@ mod tests {
         );
         // 9 V / 4.7 kΩ + 6 V / 68 kΩ ≈ 2 mA: quiet.
         assert!(check_stage(&good(), &Family::cmos()).is_empty());
+    }
+
+    #[test]
+    fn output_driven_square_watches_its_output_current() {
+        let cond = Conditions::ideal(Volts::from_si(9.0).expect("v"));
+        let small = Stage::square(
+            Ohms::from_si(1e3).expect("r"),
+            Farads::from_si(1e-6).expect("c"),
+            cond,
+        );
+        let codes = |s: &Stage, fam: &Family, sev: Severity| -> Vec<&'static str> {
+            check_stage(s, fam)
+                .into_iter()
+                .filter(|x| x.severity == sev)
+                .map(|x| x.code)
+                .collect()
+        };
+        // CMOS: 9 V − 3 V over 1 kΩ = 6 mA: above the light load (1 mA, from memory).
+        assert!(codes(&small, &Family::cmos(), Severity::Warning).contains(&"output-current"));
+        let big = Stage::square(
+            Ohms::from_si(100e3).expect("r"),
+            Farads::from_si(1e-8).expect("c"),
+            cond,
+        );
+        assert!(!codes(&big, &Family::cmos(), Severity::Warning).contains(&"output-current"));
+        let tiny = Stage::square(
+            Ohms::from_si(100.0).expect("r"),
+            Farads::from_si(1e-6).expect("c"),
+            cond,
+        );
+        let rated = check_stage(&tiny, &Family::cmos());
+        assert!(
+            rated
+                .iter()
+                .any(|x| x.code == "output-current" && x.message.contains("output rating")),
+            "{rated:?}"
+        );
+    }
+
+    #[test]
+    fn a_large_one_shot_capacitor_dumping_into_the_discharge_pin_is_flagged() {
+        let cond = Conditions::ideal(Volts::from_si(9.0).expect("v"));
+        let r = Ohms::from_si(10e3).expect("r");
+        let big = Stage::monostable(r, Farads::from_si(100e-6).expect("c"), cond);
+        let small = Stage::monostable(r, Farads::from_si(100e-9).expect("c"), cond);
+        let has = |s: &Stage| {
+            check_stage(s, &Family::bipolar())
+                .iter()
+                .any(|x| x.code == "discharge-dump")
+        };
+        assert!(has(&big) && !has(&small));
     }
 }

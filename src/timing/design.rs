@@ -12,7 +12,8 @@
 //!   across R2 of the classic astable) maps onto it with Ra = R1, Rb = R2: charge flows through
 //!   R1 and the diode (R2 bypassed), discharge flows through R2 with no diode in the path —
 //!   [`Steering::OneDiode`], whose low time is `ln(Vu/Vl)·Rb·C`. In the ideal model (Vf = 0) the
-//!   two are the same. R2's small current in parallel with the conducting diode is neglected.
+//!   two are the same. [`Stage::times`] keeps these closed forms (R2's current beside the
+//!   conducting diode neglected) for the screen; `timing::evaluate` models RB shunting the diode.
 //! - **Square** (output-driven): one R from the output to the capacitor; needs an output that
 //!   swings to the rails (CMOS); the discharge pin is unused.
 //!

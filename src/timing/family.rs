@@ -41,13 +41,52 @@ pub struct Figure {
     pub unit: &'static str,
     /// Where the value came from.
     pub provenance: Provenance,
+    /// Whether `value` is a typical figure or a data-sheet limit.
+    pub kind: FigureKind,
+    /// The data-sheet limit (the worst value a part may show), when one is known; `--guarantee`
+    /// uses it ([`Family::at_limits`]). `None` where the typical figure is all we have.
+    pub limit: Option<f64>,
 }
 
-const fn mem(value: f64, unit: &'static str) -> Figure {
+/// Whether a figure is what a typical part shows or what every part is specified to meet.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum FigureKind {
+    /// What a typical part shows.
+    Typical,
+    /// A limit every part meets.
+    Limit,
+}
+
+impl FigureKind {
+    /// The word printed beside the figure.
+    pub fn label(self) -> &'static str {
+        match self {
+            FigureKind::Typical => "typical",
+            FigureKind::Limit => "limit",
+        }
+    }
+}
+
+/// A typical figure recalled from data sheets, with its limit when one is recalled too.
+const fn mem(value: f64, unit: &'static str, limit: Option<f64>) -> Figure {
     Figure {
         value,
         unit,
         provenance: Provenance::FromMemory,
+        kind: FigureKind::Typical,
+        limit,
+    }
+}
+
+/// A figure that is itself a limit (a rating or a range), from memory.
+const fn lim(value: f64, unit: &'static str) -> Figure {
+    Figure {
+        value,
+        unit,
+        provenance: Provenance::FromMemory,
+        kind: FigureKind::Limit,
+        limit: None,
     }
 }
 
@@ -103,7 +142,27 @@ pub struct Family {
     pub drift_supply_astable: Figure,
     /// How far below Vcc the output sits when high at light load, volts.
     pub output_high_drop: Figure,
+    /// Voltage left across the discharge transistor when it is on (saturation), volts.
+    pub discharge_saturation: Figure,
 }
+
+/// Every figure key, in the order [`Family::figures`] lists them.
+pub const FIGURE_KEYS: [&str; 14] = [
+    "supply_min",
+    "supply_max",
+    "threshold_current",
+    "trigger_current",
+    "discharge_max",
+    "max_freq",
+    "error_one_shot",
+    "error_astable",
+    "drift_temp_one_shot",
+    "drift_temp_astable",
+    "drift_supply_one_shot",
+    "drift_supply_astable",
+    "output_high_drop",
+    "discharge_saturation",
+];
 
 /// The families we know, by name.
 pub const FAMILY_NAMES: [&str; 2] = ["bipolar", "cmos"];
@@ -122,20 +181,23 @@ impl Family {
     pub fn bipolar() -> Self {
         Self {
             name: "bipolar",
-            supply_min: mem(4.5, "V"),
-            supply_max: mem(16.0, "V"),
-            // Typical ~0.1 µA; datasheet maxima are higher (about 0.25 µA).
-            threshold_current: mem(0.1e-6, "A"),
-            trigger_current: mem(0.5e-6, "A"),
-            discharge_max: mem(50e-3, "A"),
-            max_freq: mem(100e3, "Hz"),
-            error_one_shot: mem(0.01, "ratio"),
-            error_astable: mem(0.0225, "ratio"),
-            drift_temp_one_shot: mem(50e-6, "ratio/°C"),
-            drift_temp_astable: mem(150e-6, "ratio/°C"),
-            drift_supply_one_shot: mem(0.001, "ratio/V"),
-            drift_supply_astable: mem(0.003, "ratio/V"),
-            output_high_drop: mem(1.7, "V"),
+            supply_min: lim(4.5, "V"),
+            supply_max: lim(16.0, "V"),
+            // Typical ~0.1 µA; data-sheet maxima are higher (about 0.25 µA).
+            threshold_current: mem(0.1e-6, "A", Some(0.25e-6)),
+            trigger_current: mem(0.5e-6, "A", Some(0.9e-6)),
+            discharge_max: lim(50e-3, "A"),
+            max_freq: lim(100e3, "Hz"),
+            error_one_shot: mem(0.01, "ratio", Some(0.03)),
+            error_astable: mem(0.0225, "ratio", Some(0.05)),
+            drift_temp_one_shot: mem(50e-6, "ratio/°C", Some(150e-6)),
+            drift_temp_astable: mem(150e-6, "ratio/°C", Some(500e-6)),
+            drift_supply_one_shot: mem(0.001, "ratio/V", Some(0.005)),
+            drift_supply_astable: mem(0.003, "ratio/V", Some(0.01)),
+            // Light load (a few mA); near 2 V at 100 mA.
+            output_high_drop: mem(1.7, "V", Some(2.25)),
+            // At the few mA of a timing network; up to about 0.4 V at the data sheet's 15 mA.
+            discharge_saturation: mem(0.1, "V", Some(0.4)),
         }
     }
 
@@ -143,19 +205,21 @@ impl Family {
     pub fn cmos() -> Self {
         Self {
             name: "cmos",
-            supply_min: mem(2.0, "V"),
-            supply_max: mem(15.0, "V"),
-            threshold_current: mem(10e-12, "A"),
-            trigger_current: mem(10e-12, "A"),
-            discharge_max: mem(10e-3, "A"),
-            max_freq: mem(1e6, "Hz"),
-            error_one_shot: mem(0.01, "ratio"),
-            error_astable: mem(0.02, "ratio"),
-            drift_temp_one_shot: mem(75e-6, "ratio/°C"),
-            drift_temp_astable: mem(75e-6, "ratio/°C"),
-            drift_supply_one_shot: mem(0.003, "ratio/V"),
-            drift_supply_astable: mem(0.003, "ratio/V"),
-            output_high_drop: mem(0.1, "V"),
+            supply_min: lim(2.0, "V"),
+            supply_max: lim(15.0, "V"),
+            threshold_current: mem(10e-12, "A", Some(100e-12)),
+            trigger_current: mem(10e-12, "A", Some(100e-12)),
+            discharge_max: lim(10e-3, "A"),
+            max_freq: lim(1e6, "Hz"),
+            error_one_shot: mem(0.01, "ratio", Some(0.03)),
+            error_astable: mem(0.02, "ratio", Some(0.05)),
+            drift_temp_one_shot: mem(75e-6, "ratio/°C", Some(250e-6)),
+            drift_temp_astable: mem(75e-6, "ratio/°C", Some(250e-6)),
+            drift_supply_one_shot: mem(0.003, "ratio/V", Some(0.01)),
+            drift_supply_astable: mem(0.003, "ratio/V", Some(0.01)),
+            // Light load; the output stage is a MOSFET, so the drop grows with the load current.
+            output_high_drop: mem(0.1, "V", Some(0.3)),
+            discharge_saturation: mem(0.05, "V", Some(0.2)),
         }
     }
 
@@ -175,6 +239,7 @@ impl Family {
             ("drift_supply_one_shot", &self.drift_supply_one_shot),
             ("drift_supply_astable", &self.drift_supply_astable),
             ("output_high_drop", &self.output_high_drop),
+            ("discharge_saturation", &self.discharge_saturation),
         ]
     }
 
@@ -193,6 +258,7 @@ impl Family {
             "drift_supply_one_shot" => &mut self.drift_supply_one_shot,
             "drift_supply_astable" => &mut self.drift_supply_astable,
             "output_high_drop" => &mut self.output_high_drop,
+            "discharge_saturation" => &mut self.discharge_saturation,
             _ => return None,
         })
     }
@@ -228,7 +294,35 @@ impl Family {
         }
         fig.value = value;
         fig.provenance = Provenance::SetByUser;
+        fig.kind = FigureKind::Limit;
+        fig.limit = None;
         Ok(())
+    }
+
+    /// The same family with every typical figure replaced by its data-sheet limit where one is
+    /// known (from memory, like the typical figures): what `--guarantee` designs against. A
+    /// figure with no recalled limit keeps its typical value and says so in [`Family::typical_only`].
+    pub fn at_limits(&self) -> Family {
+        let mut f = self.clone();
+        for key in FIGURE_KEYS {
+            if let Some(fig) = f.figure_mut(key)
+                && fig.kind == FigureKind::Typical
+                && let Some(l) = fig.limit
+            {
+                fig.value = l;
+                fig.kind = FigureKind::Limit;
+            }
+        }
+        f
+    }
+
+    /// The keys of the figures that are still typical values (no limit recalled).
+    pub fn typical_only(&self) -> Vec<&'static str> {
+        self.figures()
+            .into_iter()
+            .filter(|(_, f)| f.kind == FigureKind::Typical)
+            .map(|(k, _)| k)
+            .collect()
     }
 
     /// Supply range as volts.
@@ -317,6 +411,26 @@ mod tests {
             Err(FamilyError::BadValue { .. })
         ));
         assert!(f.set("supply_min", -1.0).is_err());
+    }
+
+    #[test]
+    fn limits_replace_typical_figures() {
+        let f = Family::bipolar();
+        assert_eq!(f.threshold_current.kind, FigureKind::Typical);
+        let l = f.at_limits();
+        // from memory: bipolar threshold current 0.1 µA typical, 0.25 µA maximum.
+        assert_eq!(l.threshold_current.value, 0.25e-6);
+        assert_eq!(l.threshold_current.kind, FigureKind::Limit);
+        assert!(l.error_astable.value > f.error_astable.value);
+        assert!(l.typical_only().is_empty(), "{:?}", l.typical_only());
+        assert_eq!(f.figures().len(), FIGURE_KEYS.len());
+        for ((k, _), want) in f.figures().iter().zip(FIGURE_KEYS) {
+            assert_eq!(*k, want);
+        }
+        // A figure set by the user is taken as given, not replaced.
+        let mut u = Family::bipolar();
+        u.set("threshold_current", 50e-9).expect("set");
+        assert_eq!(u.at_limits().threshold_current.value, 50e-9);
     }
 
     #[test]

@@ -1,7 +1,8 @@
-//! The physics of 555-family timers: closed-form times for every circuit form (`forms`), a stage
-//! as a design (`design`), timer families as data (`family`), electrical checks (`checks`) and
-//! tolerance analysis — worst case, Monte Carlo, trim, inverse (`tolerance`). Pure functions; no
-//! I/O, no store, no rendering.
+//! The physics of 555-family timers: the one evaluator with the real parts in it (`evaluate`),
+//! closed-form times for the screen and the textbook model (`forms`), a stage as a design
+//! (`design`), timer families as data with typical figures and limits (`family`), electrical
+//! checks (`checks`) and tolerance analysis — worst case, Monte Carlo, trim, inverse
+//! (`tolerance`). Pure functions; no I/O, no store, no rendering.
 
 pub mod checks;
 pub mod design;
@@ -15,8 +16,11 @@ pub use checks::{
     check_stage_with, has_error,
 };
 pub use design::{CapFacts, Form, Stage, StageTimes, Steering, cycle_si};
-pub use evaluate::{Banded, DiodeModel, Effect, Evaluation, Model, evaluate, factor_bounds};
-pub use family::{Family, FamilyError, Figure, Provenance, family_by_name};
+pub use evaluate::{
+    Banded, DiodeModel, DiodeParams, Effect, Evaluation, Model, SMALL_SIGNAL_DIODE, dc_bias_loss,
+    evaluate, factor_bounds, factor_bounds_between,
+};
+pub use family::{Family, FamilyError, Figure, FigureKind, Provenance, family_by_name};
 pub use forms::{Conditions, Cycle, Factors, FormError, astable, monostable, square, steered};
 pub use tolerance::{
     Analysis, Circuit, Inference, Interval, MonteCarlo, Piece, Position, Quantity, Spread,

@@ -11,12 +11,21 @@
 //! so evaluating all `2^n` corners (each piece at its minimum or maximum) gives the exact
 //! worst-case interval of every quantity; a linear (first-order) estimate would not.
 //!
-//! The timer's own error (initial error plus drift, from the family) enters as one more "piece"
-//! per stage: a factor `1 ± e` on both the high and the low time of that stage (a simplification:
-//! real threshold errors can move high and low time differently). Capacitor temperature
-//! coefficients are not modelled. Pure: no I/O; randomness only from the caller's seed.
+//! The timer's own error (initial error plus drift, from the family) enters as "pieces" of its
+//! own: a factor `1 ± e` on the high (charge) time and, for a free-running stage, an independent
+//! factor `1 ± e` on the low (discharge) time, so that duty feels the chip's error too (the
+//! threshold errors move charge and discharge separately). Capacitor temperature coefficients are
+//! not modelled.
+//!
+//! Built with [`Analysis::with_physics`], every time is computed by the one evaluator
+//! (`timing::evaluate`: diode, output drop, saturation at their nominal; bias currents and DC-bias
+//! loss as a band), and each interval carries the nominal's model band and a worst case that
+//! includes the band at every corner; [`Analysis::new`] keeps the closed forms of the stage's
+//! conditions. Pure: no I/O; randomness only from the caller's seed.
 
-use super::design::{Form, Steering, cycle_si};
+use super::design::{CapFacts, Form, Steering, cycle_si};
+use super::evaluate::{Model, Physics};
+use super::family::Family;
 use super::forms::{Conditions, Factors, FormError};
 use crate::network::{Combine, Net};
 use crate::units::{Ratio, Tolerance, eseries::Series};
@@ -206,17 +215,41 @@ impl Quantity {
     }
 }
 
-/// A quantity's nominal value and worst-case interval (SI units of the quantity).
+/// A quantity's nominal value, model band and worst-case interval (SI units of the quantity).
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct Interval {
     /// Which quantity.
     pub quantity: Quantity,
     /// At nominal values.
     pub nominal: f64,
-    /// Lowest over all corners.
+    /// Lowest over all corners (the model's nominal at each corner).
     pub min: f64,
     /// Highest over all corners.
     pub max: f64,
+    /// Lowest the modelled effects allow at nominal part values (the model band).
+    pub band_lo: f64,
+    /// Highest the modelled effects allow at nominal part values.
+    pub band_hi: f64,
+    /// Lowest over all corners with the model band at each: the honest worst case.
+    pub worst_lo: f64,
+    /// Highest over all corners with the model band at each.
+    pub worst_hi: f64,
+}
+
+impl Interval {
+    /// An interval of one value (no band, no spread).
+    pub fn point(quantity: Quantity, v: f64) -> Self {
+        Self {
+            quantity,
+            nominal: v,
+            min: v,
+            max: v,
+            band_lo: v,
+            band_hi: v,
+            worst_lo: v,
+            worst_hi: v,
+        }
+    }
 }
 
 /// The exact worst case.
@@ -315,8 +348,10 @@ impl Target {
 pub struct Verdict {
     /// The target.
     pub target: Target,
-    /// True when every corner lies inside the band.
+    /// True when every corner, with the model band at each, lies inside the band.
     pub guaranteed: bool,
+    /// True when the nominal's model band lies inside the band.
+    pub band_inside: bool,
     /// True when the nominal value lies inside the band.
     pub nominal_inside: bool,
     /// Worst-case interval of the quantity.
@@ -372,10 +407,14 @@ struct FlatStage {
     form: Form,
     steering: Steering,
     k: Factors,
+    phys: Option<Physics>,
     r1: usize,
     r2: Option<usize>,
     c: usize,
+    /// The chip's error on the charge (high) time.
     timer: usize,
+    /// The chip's error on the discharge (low) time; the same piece for a one-shot.
+    timer_low: usize,
 }
 
 struct FlatPos {
@@ -396,9 +435,32 @@ pub struct Analysis {
 
 type Out = [f64; 5];
 
+/// The evaluator's inputs for [`Analysis::with_physics`].
+type Physical<'a> = (&'a Family, &'a Model, &'a [Option<CapFacts>]);
+
+/// Every quantity at one point: nominal, band low, band high.
+type Banded5 = [[f64; 3]; 5];
+
 impl Analysis {
-    /// Flatten `circuit`; fails when a stage cannot run under its conditions.
+    /// Flatten `circuit` with the closed forms of each stage's conditions; fails when a stage
+    /// cannot run under its conditions.
     pub fn new(circuit: &Circuit) -> Result<Self, ToleranceError> {
+        Self::build(circuit, None)
+    }
+
+    /// Flatten `circuit` with every time from the one evaluator under `family` and `model`;
+    /// `caps` holds what is known of each stage's timing capacitor (stage order; missing
+    /// entries are unknown), for the DC-bias loss of class-2 ceramics.
+    pub fn with_physics(
+        circuit: &Circuit,
+        family: &Family,
+        model: &Model,
+        caps: &[Option<CapFacts>],
+    ) -> Result<Self, ToleranceError> {
+        Self::build(circuit, Some((family, model, caps)))
+    }
+
+    fn build(circuit: &Circuit, physics: Option<Physical<'_>>) -> Result<Self, ToleranceError> {
         let mut a = Analysis {
             stages: Vec::new(),
             positions: Vec::new(),
@@ -406,15 +468,15 @@ impl Analysis {
             pair: matches!(circuit, Circuit::Pair { .. }),
         };
         match circuit {
-            Circuit::Single(s) => a.add_stage(s)?,
+            Circuit::Single(s) => a.add_stage(s, physics)?,
             Circuit::Pair { pace, width } => {
                 if !pace.form.is_periodic() || width.form != Form::Monostable {
                     return Err(ToleranceError::NoSolution(
                         "a pair is a free-running pace stage and a monostable width stage".into(),
                     ));
                 }
-                a.add_stage(pace)?;
-                a.add_stage(width)?;
+                a.add_stage(pace, physics)?;
+                a.add_stage(width, physics)?;
             }
         }
         Ok(a)
@@ -433,8 +495,42 @@ impl Analysis {
         self.positions.len() - 1
     }
 
-    fn add_stage(&mut self, s: &StageModel) -> Result<(), ToleranceError> {
-        let k = s.conditions.factors()?;
+    fn add_stage(
+        &mut self,
+        s: &StageModel,
+        physics: Option<Physical<'_>>,
+    ) -> Result<(), ToleranceError> {
+        let (k, phys) = match physics {
+            None => (s.conditions.factors()?, None),
+            Some((family, model, caps)) => {
+                let stage = super::design::Stage {
+                    form: s.form,
+                    r1: crate::units::Ohms::from_si(s.r1.nominal()).unwrap_or_default(),
+                    r2: s
+                        .r2
+                        .as_ref()
+                        .map(|p| crate::units::Ohms::from_si(p.nominal()).unwrap_or_default()),
+                    c: crate::units::Farads::from_si(s.c.nominal()).unwrap_or_default(),
+                    cap: caps.get(self.stages.len()).copied().flatten(),
+                    conditions: s.conditions,
+                    steering: s.steering,
+                };
+                let phys = Physics::new(&stage, family, model)?;
+                // The closed-form factors are not used with physics; keep the ideal ones.
+                let k = Conditions::ideal(s.conditions.vcc)
+                    .factors()
+                    .unwrap_or(Factors {
+                        one_shot: f64::NAN,
+                        charge: f64::NAN,
+                        discharge: f64::NAN,
+                        steered_charge: f64::NAN,
+                        steered_discharge: f64::NAN,
+                        square_high: f64::NAN,
+                        square_low: f64::NAN,
+                    });
+                (k, Some(phys))
+            }
+        };
         let r1 = self.add_pos(&s.r1);
         let r2 = match (&s.r2, s.form.has_r2()) {
             (Some(p), true) => Some(self.add_pos(p)),
@@ -454,15 +550,42 @@ impl Analysis {
             },
         });
         let timer = self.pieces.len() - 1;
+        let timer_low = if s.form.is_periodic() {
+            self.pieces.push(Piece {
+                value: 1.0,
+                tolerance: Tolerance {
+                    minus: s.timer_error,
+                    plus: s.timer_error,
+                },
+            });
+            self.pieces.len() - 1
+        } else {
+            timer
+        };
         self.stages.push(FlatStage {
             form: s.form,
             steering: s.steering,
             k,
+            phys,
             r1,
             r2,
             c,
             timer,
+            timer_low,
         });
+        let nom = self.nominal_vals();
+        // An evaluator error at nominal values is the form's own error: report it.
+        if let Some(p) = &phys {
+            let st = self.stages.last().map(|st| {
+                let r1 = self.pos_value(st.r1, &nom, None);
+                let r2 = st.r2.map_or(0.0, |i| self.pos_value(i, &nom, None));
+                let c = self.pos_value(st.c, &nom, None);
+                p.evaluate_si(st.form, st.steering, r1, r2, c, true)
+            });
+            if let Some(Err(e)) = st {
+                return Err(ToleranceError::Form(e));
+            }
+        }
         Ok(())
     }
 
@@ -503,13 +626,43 @@ impl Analysis {
         p.net.value(&vals[p.start..p.start + p.len], p.combine)
     }
 
-    fn stage_times(&self, s: &FlatStage, vals: &[f64], rep: Option<(usize, f64)>) -> (f64, f64) {
+    /// High and low time of one stage at these values: `[nominal, band corners…]` pairs. Without
+    /// physics (or without `band`) only the nominal. NaN where the evaluator finds no time.
+    fn stage_times(
+        &self,
+        s: &FlatStage,
+        vals: &[f64],
+        rep: Option<(usize, f64)>,
+        band: bool,
+    ) -> Vec<(f64, f64)> {
         let r1 = self.pos_value(s.r1, vals, rep);
         let r2 = s.r2.map_or(0.0, |i| self.pos_value(i, vals, rep));
         let c = self.pos_value(s.c, vals, rep);
-        let t = vals[s.timer];
-        let (h, l) = cycle_si(s.form, s.steering, r1, r2, c, &s.k);
-        (h * t, l.map_or(f64::NAN, |l| l * t))
+        let (th, tl) = (vals[s.timer], vals[s.timer_low]);
+        match &s.phys {
+            None => {
+                let (h, l) = cycle_si(s.form, s.steering, r1, r2, c, &s.k);
+                vec![(h * th, l.map_or(f64::NAN, |l| l * tl))]
+            }
+            Some(p) => match p.evaluate_si(s.form, s.steering, r1, r2, c, band) {
+                Err(_) => vec![(f64::NAN, f64::NAN)],
+                Ok(t) => {
+                    let low = t.low;
+                    let l =
+                        |f: fn(&super::evaluate::Banded) -> f64| low.as_ref().map_or(f64::NAN, f);
+                    let mut out = vec![(t.high.nominal * th, l(|b| b.nominal) * tl)];
+                    if band {
+                        // The band's ends of high and low (each time's extremes; pairing the
+                        // ends gives a superset of period and duty too).
+                        out.push((t.high.band_lo * th, l(|b| b.band_lo) * tl));
+                        out.push((t.high.band_hi * th, l(|b| b.band_hi) * tl));
+                        out.push((t.high.band_lo * th, l(|b| b.band_hi) * tl));
+                        out.push((t.high.band_hi * th, l(|b| b.band_lo) * tl));
+                    }
+                    out
+                }
+            },
+        }
     }
 
     /// Every quantity at these piece values (NaN where the design has none).
@@ -518,23 +671,61 @@ impl Analysis {
     }
 
     fn eval_with(&self, vals: &[f64], rep: Option<(usize, f64)>) -> Out {
+        let b = self.eval_points(vals, rep, false);
+        b.first().copied().unwrap_or([f64::NAN; 5])
+    }
+
+    /// Every quantity at every band point (the first is the nominal).
+    fn eval_points(&self, vals: &[f64], rep: Option<(usize, f64)>, band: bool) -> Vec<Out> {
         let Some(first) = self.stages.first() else {
-            return [f64::NAN; 5];
+            return vec![[f64::NAN; 5]];
         };
-        let (h, l) = self.stage_times(first, vals, rep);
+        let a = self.stage_times(first, vals, rep, band);
         if self.pair {
             let Some(second) = self.stages.get(1) else {
-                return [f64::NAN; 5];
+                return vec![[f64::NAN; 5]];
             };
-            let period = h + l;
-            let (w, _) = self.stage_times(second, vals, rep);
-            return [w, period - w, period, 1.0 / period, w / period];
+            let w = self.stage_times(second, vals, rep, band);
+            let mut out = Vec::new();
+            for &(h, l) in &a {
+                for &(wd, _) in &w {
+                    let period = h + l;
+                    out.push([wd, period - wd, period, 1.0 / period, wd / period]);
+                }
+            }
+            return out;
         }
-        if first.form == Form::Monostable {
-            return [h, f64::NAN, f64::NAN, f64::NAN, f64::NAN];
+        a.into_iter()
+            .map(|(h, l)| {
+                if first.form == Form::Monostable {
+                    [h, f64::NAN, f64::NAN, f64::NAN, f64::NAN]
+                } else {
+                    let period = h + l;
+                    [h, l, period, 1.0 / period, h / period]
+                }
+            })
+            .collect()
+    }
+
+    /// Every quantity at these values: nominal, band low, band high.
+    fn eval_banded(&self, vals: &[f64], rep: Option<(usize, f64)>) -> Banded5 {
+        let pts = self.eval_points(vals, rep, true);
+        let mut out = [[f64::NAN; 3]; 5];
+        for (q, o) in out.iter_mut().enumerate() {
+            let nominal = pts.first().map_or(f64::NAN, |p| p[q]);
+            let (mut lo, mut hi) = (nominal, nominal);
+            for p in &pts {
+                if p[q].is_nan() {
+                    lo = f64::NAN;
+                    hi = f64::NAN;
+                    break;
+                }
+                lo = lo.min(p[q]);
+                hi = hi.max(p[q]);
+            }
+            *o = [nominal, lo, hi];
         }
-        let period = h + l;
-        [h, l, period, 1.0 / period, h / period]
+        out
     }
 
     fn nominal_vals(&self) -> Vec<f64> {
@@ -570,19 +761,35 @@ impl Analysis {
         Ok(n)
     }
 
-    /// Exact worst case over all `2^n` corners.
+    /// Every quantity at nominal values with its model band: `[nominal, band_lo, band_hi]`.
+    pub fn nominal_banded(&self) -> [[f64; 3]; 5] {
+        self.eval_banded(&self.nominal_vals(), None)
+    }
+
+    /// Exact worst case over all `2^n` corners (with the model band at each corner for the
+    /// `worst_*` ends). A corner where the capacitor never reaches a threshold is an error.
     pub fn worst_case(&self) -> Result<WorstCase, ToleranceError> {
         let qs = self.quantities();
-        let nom = self.nominal();
+        let nom = self.nominal_banded();
         let mut lo = [f64::INFINITY; 5];
         let mut hi = [f64::NEG_INFINITY; 5];
+        let mut wlo = [f64::INFINITY; 5];
+        let mut whi = [f64::NEG_INFINITY; 5];
         let free: Vec<usize> = (0..self.pieces.len()).collect();
         let corners = self.corners(&free, &mut |v| {
-            let o = self.eval_at(v);
+            let o = self.eval_banded(v, None);
             for q in &qs {
                 let i = q.index();
-                lo[i] = lo[i].min(o[i]);
-                hi[i] = hi[i].max(o[i]);
+                if o[i].iter().any(|x| !x.is_finite()) {
+                    return Err(ToleranceError::NoSolution(format!(
+                        "at some corner of the part tolerances the {} has no value: the capacitor never reaches a threshold there",
+                        q.label()
+                    )));
+                }
+                lo[i] = lo[i].min(o[i][0]);
+                hi[i] = hi[i].max(o[i][0]);
+                wlo[i] = wlo[i].min(o[i][1]);
+                whi[i] = whi[i].max(o[i][2]);
             }
             Ok(())
         })?;
@@ -591,11 +798,18 @@ impl Analysis {
             pieces: self.pieces.len(),
             intervals: qs
                 .iter()
-                .map(|&q| Interval {
-                    quantity: q,
-                    nominal: nom[q.index()],
-                    min: lo[q.index()],
-                    max: hi[q.index()],
+                .map(|&q| {
+                    let i = q.index();
+                    Interval {
+                        quantity: q,
+                        nominal: nom[i][0],
+                        min: lo[i],
+                        max: hi[i],
+                        band_lo: nom[i][1],
+                        band_hi: nom[i][2],
+                        worst_lo: wlo[i],
+                        worst_hi: whi[i],
+                    }
                 })
                 .collect(),
         })
@@ -609,7 +823,8 @@ impl Analysis {
         let (a, b) = target.band();
         Ok(Verdict {
             target,
-            guaranteed: interval.min >= a && interval.max <= b,
+            guaranteed: interval.worst_lo >= a && interval.worst_hi <= b,
+            band_inside: interval.band_lo >= a && interval.band_hi <= b,
             nominal_inside: interval.nominal >= a && interval.nominal <= b,
             interval,
         })
@@ -725,7 +940,7 @@ impl Analysis {
     /// The value of position `pos` that makes quantity `q` equal `goal` with the other pieces
     /// at `vals`. Times rise with every part, so a bisection in log space finds it.
     fn solve_for(&self, pos: usize, q: Quantity, goal: f64, vals: &[f64]) -> Option<f64> {
-        let (mut lo, mut hi) = match self.positions[pos].combine {
+        let (lo, hi) = match self.positions[pos].combine {
             Combine::Resistive => (1e-3f64.ln(), 1e13f64.ln()),
             Combine::Capacitive => (1e-16f64.ln(), 1e4f64.ln()),
         };
@@ -734,17 +949,23 @@ impl Analysis {
         if !(flo.is_finite() && fhi.is_finite()) || flo.signum() == fhi.signum() {
             return None;
         }
-        let rising = fhi > flo;
-        for _ in 0..200 {
-            let mid = 0.5 * (lo + hi);
-            let fm = at(mid);
-            if (fm > 0.0) == rising {
-                hi = mid;
-            } else {
-                lo = mid;
-            }
+        bisect_root(lo, hi, flo, fhi, &at)
+    }
+
+    /// Whether, with the other pieces at `vals`, even the smallest value of `pos` overshoots
+    /// `goal` (so the position would have to be below anything buildable: zero).
+    fn overshoots_at_zero(&self, pos: usize, q: Quantity, goal: f64, vals: &[f64]) -> bool {
+        let (lo, hi) = match self.positions[pos].combine {
+            Combine::Resistive => (1e-3, 1e13),
+            Combine::Capacitive => (1e-16, 1e4),
+        };
+        let at = |x: f64| self.eval_with(vals, Some((pos, x)))[q.index()] - goal;
+        let (flo, fhi) = (at(lo), at(hi));
+        // Rising quantity (times): the smallest value is already too long.
+        flo.is_finite() && fhi.is_finite() && flo.signum() == fhi.signum() && {
+            let rising = fhi > flo;
+            if rising { flo > 0.0 } else { flo < 0.0 }
         }
-        Some((0.5 * (lo + hi)).exp())
     }
 
     /// Range of values of `pos` that make `q` equal `goal` over every corner of the other pieces.
@@ -778,7 +999,13 @@ impl Analysis {
             .collect();
         let (mut lo, mut hi) = (f64::INFINITY, f64::NEG_INFINITY);
         self.corners(&free, &mut |v| {
-            let x = self.solve_for(pos, q, goal, v).ok_or_else(none)?;
+            // A corner where even a vanishing value overshoots needs the position at zero: the
+            // interval then reaches down to 0 rather than giving up.
+            let x = match self.solve_for(pos, q, goal, v) {
+                Some(x) => x,
+                None if self.overshoots_at_zero(pos, q, goal, v) => 0.0,
+                None => return Err(none()),
+            };
             lo = lo.min(x);
             hi = hi.max(x);
             Ok(())
@@ -862,9 +1089,30 @@ impl Analysis {
             max,
             nearest,
             series,
-            candidates: preferred_between(min, max, series),
+            candidates: preferred_between(min.max(nominal * 0.5), max, series),
         })
     }
+}
+
+/// Bisection in log space for the root of `at` between `lo` and `hi` (where it changes sign).
+fn bisect_root(
+    mut lo: f64,
+    mut hi: f64,
+    flo: f64,
+    fhi: f64,
+    at: &dyn Fn(f64) -> f64,
+) -> Option<f64> {
+    let rising = fhi > flo;
+    for _ in 0..200 {
+        let mid = 0.5 * (lo + hi);
+        let fm = at(mid);
+        if (fm > 0.0) == rising {
+            hi = mid;
+        } else {
+            lo = mid;
+        }
+    }
+    Some((0.5 * (lo + hi)).exp())
 }
 
 fn summarise(q: Quantity, col: &mut [f64]) -> Stats {
