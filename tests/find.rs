@@ -168,7 +168,7 @@ fn nothing_fits_exits_1_with_closest_and_purchase() {
         .stdout_has("Closest from stock");
     // IEC 60063 E24 holds 56 (within 1 % of 56.5 kΩ).
     assert!(
-        r.stdout.contains("Buy one value to fix it: 56 kΩ"),
+        r.stdout.contains("Buy one 56 kΩ (E24) to fix it"),
         "{}",
         r.stdout
     );
@@ -270,9 +270,10 @@ fn time_limit_is_reported_never_silent() {
             "--stock",
             s,
         ])
-        .code(1)
+        .code(3)
         .json();
     assert_eq!(j["complete"], false);
+    assert_eq!(j["result"], "time_limit");
     assert!(j["no_design_below"].as_u64().expect("bound") >= 2);
     b.run(&[
         "find",
@@ -287,7 +288,7 @@ fn time_limit_is_reported_never_silent() {
         "--stock",
         s,
     ])
-    .code(1)
+    .code(3)
     .stdout_has("Search stopped at the time limit");
 }
 
@@ -350,4 +351,83 @@ fn a_long_one_shot_says_the_electrolytics_were_left_out() {
     b.run(&["find", "pulse", "1.0986s", "--pieces", "1", "--stock", &s])
         .code(1)
         .stdout_has("electrolytic capacitors were left out");
+}
+
+/// An invented stock of many distinct resistor values (1 Ω steps from 1 kΩ), one row each.
+fn wide_stock(b: &Bench, values: usize) -> String {
+    let mut csv = String::from("kind,value,tolerance,technology,volts,bin,quantity\n");
+    for i in 0..values {
+        csv.push_str(&format!("resistor,{}R,1%,metal_film,,R{i},2\n", 1000 + i));
+    }
+    csv.push_str("capacitor,100n,5%,film,50,C1,2\n");
+    let p = b.write("wide.csv", &csv);
+    p.to_str().expect("utf-8 path").to_string()
+}
+
+#[test]
+fn a_time_out_is_its_own_result_not_nothing_fits() {
+    let b = Bench::new();
+    let s = wide_stock(&b, 1500);
+    // Building the two-piece lists of 1 500 values alone outlasts a 1 ms limit.
+    let args = [
+        "find",
+        "value",
+        "123.4567k",
+        "--pieces",
+        "4",
+        "--time-limit",
+        "1ms",
+        "--stock",
+        &s,
+    ];
+    let r = b
+        .run(&args)
+        .code(3)
+        .stdout_has("Search stopped at the time limit");
+    assert!(!r.stdout.contains("Nothing in stock meets"), "{}", r.stdout);
+    assert!(
+        !r.stdout.contains("Buy "),
+        "no purchase on a time-out: {}",
+        r.stdout
+    );
+    let mut json = vec!["--json"];
+    json.extend_from_slice(&args);
+    let j = b.run(&json).code(3).json();
+    assert_eq!(j["result"], "time_limit");
+    assert_eq!(j["stopped_at_time_limit"], true);
+    assert_eq!(j["complete"], false);
+    b.run(&["find", "value", "1k", "--time-limit", "0s", "--stock", &s])
+        .code(2)
+        .stderr_has("above zero");
+}
+
+#[test]
+fn a_purchase_of_several_pieces_says_how_many() {
+    let b = Bench::new();
+    let p = b.write(
+        "few.csv",
+        "kind,value,tolerance,technology,volts,bin,quantity\nresistor,1R,1%,metal_film,,A1,1\n",
+    );
+    let s = p.to_str().expect("utf-8 path").to_string();
+    // IEC 60063 E12 has no 20 (…18, 22…), so within 0.5 % the fix is two 10 kΩ in series
+    // (common practice: series resistances add).
+    let args = [
+        "find",
+        "value",
+        "20k",
+        "--tol",
+        "0.5%",
+        "--buy-series",
+        "E12",
+        "--stock",
+        &s,
+    ];
+    b.run(&args)
+        .code(1)
+        .stdout_has("Buy 2 × 10 kΩ (one value, 2 pieces) (E12) to fix it");
+    let mut json = vec!["--json"];
+    json.extend_from_slice(&args);
+    let j = b.run(&json).code(1).json();
+    assert_eq!(j["purchase"]["pieces"], 2);
+    assert_eq!(j["purchase"]["design"]["pieces"], 2);
 }

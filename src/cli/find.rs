@@ -179,6 +179,9 @@ pub fn run(args: FindArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status>
     let mut conditions = Conditions::ideal(vcc);
     conditions.diode_drop = parse_voltage(&args.diode_drop).map_err(|e| anyhow!(e))?;
     let time_limit = parse_time(&args.time_limit).map_err(|e| anyhow!(e))?.si();
+    if !(time_limit > 0.0) {
+        bail!("--time-limit must be above zero (e.g. 10s)");
+    }
     if !(args.voltage_margin.is_finite() && args.voltage_margin >= 1.0) {
         bail!("--voltage-margin must be 1 or more");
     }
@@ -223,7 +226,9 @@ pub fn run(args: FindArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status>
         }
     }
     let outcome = solve(&parts, &goal, &settings).context("search")?;
-    let advice = if outcome.designs.is_empty() {
+    // A search stopped by the clock proved nothing about "nothing fits": no closest design or
+    // purchase is offered for it.
+    let advice = if outcome.designs.is_empty() && outcome.complete {
         // The advice shares the command's time budget: what the search left, at least a second.
         let spent = Duration::from_secs_f64(outcome.seconds);
         let rest = settings
@@ -270,10 +275,10 @@ pub fn run(args: FindArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status>
         render::text(out, &view)?;
         written.text(out)?;
     }
-    Ok(if outcome.designs.is_empty() {
-        Status::NotMet
-    } else {
-        Status::Success
+    Ok(match (outcome.designs.is_empty(), outcome.complete) {
+        (false, _) => Status::Success,
+        (true, true) => Status::NotMet,
+        (true, false) => Status::Stopped,
     })
 }
 

@@ -187,12 +187,12 @@ pub fn text(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
     if !o.complete {
         writeln!(
             out,
-            "Search stopped at the time limit after {:.1} s: no design with fewer than {} \
-             pieces exists; {}",
+            "Search stopped at the time limit after {:.1} s. Proven so far: {}; {}",
             o.seconds,
-            o.no_design_below,
+            proven(o),
             if o.designs.is_empty() {
-                "nothing was found in the time given."
+                "no design was found in the time given, which does NOT mean none exists \
+                 (raise --time-limit)."
             } else {
                 "the designs below are the best found so far, and one with smaller error \
                  (and as few pieces as that bound) may exist."
@@ -215,16 +215,8 @@ pub fn text(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
         )?;
         write_design(out, v.parts, d, stages)?;
     }
-    if o.designs.is_empty() {
-        writeln!(
-            out,
-            "\nNothing in stock meets the target{}.",
-            if o.complete {
-                ""
-            } else {
-                " within the time limit"
-            }
-        )?;
+    if o.designs.is_empty() && o.complete {
+        writeln!(out, "\nNothing in stock meets the target.")?;
         if !o.refused.is_empty() {
             let why: Vec<String> = o.refused.iter().map(|(c, n)| format!("{c} ×{n}")).collect();
             writeln!(
@@ -267,12 +259,13 @@ pub fn text(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
             }
             match &a.purchase {
                 Some(p) => {
-                    writeln!(
-                        out,
-                        "\nBuy one value to fix it: {} ({:?}); then:",
-                        format_sig(p.value, 3, unit(p.kind)),
-                        p.series
-                    )?;
+                    let what = format_sig(p.value, 3, unit(p.kind));
+                    let how_many = if p.pieces == 1 {
+                        format!("one {what}")
+                    } else {
+                        format!("{} × {what} (one value, {} pieces)", p.pieces, p.pieces)
+                    };
+                    writeln!(out, "\nBuy {how_many} ({:?}) to fix it; then:", p.series)?;
                     let mut with = v.parts.to_vec();
                     with.push(bought_row(p));
                     write_design(out, &with, &p.design, stages)?;
@@ -293,6 +286,28 @@ pub fn text(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
         )?;
     }
     Ok(())
+}
+
+/// What a stopped search proved, in words.
+fn proven(o: &Outcome) -> String {
+    if o.no_design_below <= 1 {
+        "nothing yet".to_string()
+    } else {
+        format!(
+            "no design with fewer than {} pieces exists",
+            o.no_design_below
+        )
+    }
+}
+
+/// The result in one word for JSON: `found`, `none` (proven: nothing meets the target) or
+/// `time_limit` (stopped before anything was found or ruled out).
+fn result_word(o: &Outcome) -> &'static str {
+    match (o.designs.is_empty(), o.complete) {
+        (false, _) => "found",
+        (true, true) => "none",
+        (true, false) => "time_limit",
+    }
 }
 
 /// A stand-in row for a purchased part so its piece can be labelled (the design's rows index
@@ -418,6 +433,7 @@ pub fn json(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
         kind: Kind,
         value: f64,
         series: String,
+        pieces: usize,
         design: JDesign<'a>,
     }
     #[derive(Serialize)]
@@ -429,7 +445,9 @@ pub fn json(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
         max_pieces: usize,
         guarantee: bool,
         found: bool,
+        result: &'static str,
         complete: bool,
+        stopped_at_time_limit: bool,
         no_design_below: usize,
         seconds: f64,
         networks_seen: u64,
@@ -447,7 +465,9 @@ pub fn json(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
         max_pieces: v.settings.max_pieces,
         guarantee: v.settings.guarantee,
         found: !o.designs.is_empty(),
+        result: result_word(o),
         complete: o.complete,
+        stopped_at_time_limit: !o.complete,
         no_design_below: o.no_design_below,
         seconds: o.seconds,
         networks_seen: o.networks_seen,
@@ -469,6 +489,7 @@ pub fn json(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
                 kind: p.kind,
                 value: p.value,
                 series: format!("{:?}", p.series),
+                pieces: p.pieces,
                 design: jdesign(v.parts, 0, &p.design),
             }),
     };

@@ -156,7 +156,7 @@ fn all_nets(parts: &[Part], rows: &[usize], combine: Combine, k: usize) -> Vec<B
 }
 
 fn within(x: f64, t: f64, tol: f64) -> bool {
-    x >= t * (1.0 - tol) && x <= t * (1.0 + tol)
+    super::goal::inside(x, t * (1.0 - tol), t * (1.0 + tol))
 }
 
 /// The best (fewest pieces, then smallest error) design by brute force, or None.
@@ -355,7 +355,8 @@ fn stage_error(parts: &[Part], g: &StageGoal, nets: &[&BNet], s: &Settings) -> O
             match duty {
                 Duty::Any => {}
                 Duty::Range(a, b) => {
-                    if d < a || d > b || (s.guarantee && (dlo < a || dhi > b)) {
+                    let ok = |x: f64| super::goal::inside(x, a, b);
+                    if !ok(d) || (s.guarantee && !(ok(dlo) && ok(dhi))) {
                         return None;
                     }
                 }

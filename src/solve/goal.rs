@@ -22,6 +22,26 @@ use crate::timing::Conditions;
 use serde::Serialize;
 use std::time::Duration;
 
+/// Relative allowance for floating-point rounding when a result is tested against its window:
+/// results are computed through logarithms and divisions, and a design exactly on the edge (a
+/// duty of exactly 75 %, 1005 Ω for 1 kΩ ± 0.5 %) must not be lost to the last bit. A
+/// billionth is far below any part's or target's resolution. The search and the brute force
+/// share this test.
+pub const ROUNDING: f64 = 1e-9;
+
+/// Whether `x` lies in `[lo, hi]`, allowing [`ROUNDING`].
+#[inline]
+pub fn inside(x: f64, lo: f64, hi: f64) -> bool {
+    x >= lo - ROUNDING * lo.abs() && x <= hi + ROUNDING * hi.abs()
+}
+
+/// Whether a relative error `err` is no more than `bound`, allowing [`ROUNDING`] (to first
+/// order the same allowance as [`inside`]; a negative bound admits nothing).
+#[inline]
+pub fn no_worse(err: f64, bound: f64) -> bool {
+    bound >= 0.0 && err <= bound + ROUNDING
+}
+
 /// The duty-cycle requirement of an astable.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 #[serde(rename_all = "snake_case")]

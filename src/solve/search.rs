@@ -14,7 +14,7 @@
 use super::admit::{self, CapFacts, Family, Stage};
 use super::goal::{
     Design, Duty, Goal, Outcome, Position, Quantity, Rank, Settings, SolveError, StageGoal,
-    StageReport,
+    StageReport, inside, no_worse,
 };
 use crate::model::{Kind, Part, Technology, Value};
 use crate::network::{Cand, Combine, Item, Pool, Step};
@@ -107,6 +107,9 @@ pub fn solve(parts: &[Part], goal: &Goal, settings: &Settings) -> Result<Outcome
     // the ranking is empty the error bound is the full tolerance).
     let mut no_design_below = m;
     for p in m..=m * k {
+        if st.timed_out() {
+            break;
+        }
         if settings.rank == Rank::FewestPieces
             && st.top.len() >= st.n
             && st.top.last().is_some_and(|w| w.pieces < p)
@@ -330,6 +333,10 @@ struct Ctx<'a> {
     parts: &'a [Part],
     rpool: Pool,
     cpool: Pool,
+    /// Per pool item (`Item::row` is the class index): the stock rows of that class and their
+    /// free pieces, in stock order.
+    rclass: Vec<Vec<(usize, u32)>>,
+    cclass: Vec<Vec<(usize, u32)>>,
     stages: Vec<Plan>,
     value: Option<(Kind, f64)>,
     s: &'a Settings,
@@ -356,26 +363,87 @@ pub fn stage_factors(g: &StageGoal, s: &Settings) -> Result<(Factors, f64), Solv
     Ok((stage_conditions(g, s).factors()?, ie))
 }
 
-fn item(row: usize, p: &Part, value: f64) -> Item {
-    let (fl, fh) = p.tolerance.factors();
-    Item {
-        row,
-        value,
-        lo: value * fl,
-        hi: value * fh,
-        avail: u32::try_from(p.available()).unwrap_or(u32::MAX),
-        tol: p.tolerance.widest().si(),
+/// Most distinct classes of one kind a search over networks of two or more pieces takes: the
+/// pair lists grow with the square of the class count (2 000 classes: about 2 × 2 M pairs of
+/// 16 bytes, 64 MB), so this bounds memory whatever the stock holds.
+const MAX_CLASSES: usize = 2000;
+
+/// What the checks and the ranking can tell apart about a part: rows that agree on all of it
+/// are one class, searched once with their free counts summed (a 50 000-row stock of a few
+/// hundred values searches like a few hundred rows); pieces go back to rows only for answers.
+type ClassKey = (
+    Kind,
+    Value,
+    crate::units::Tolerance,
+    Technology,
+    Option<Volts>,
+    Option<crate::units::Watts>,
+);
+
+/// Stock rows grouped into classes, in the order each class was first met.
+#[derive(Default)]
+struct Classes {
+    index: std::collections::HashMap<ClassKey, usize>,
+    rows: Vec<Vec<(usize, u32)>>,
+}
+
+impl Classes {
+    fn add(&mut self, row: usize, p: &Part) {
+        let key = (
+            p.kind,
+            p.value,
+            p.tolerance,
+            p.technology,
+            p.voltage_rating,
+            p.power_rating,
+        );
+        let free = u32::try_from(p.available()).unwrap_or(u32::MAX);
+        let next = self.rows.len();
+        let at = *self.index.entry(key).or_insert(next);
+        if at == next {
+            self.rows.push(Vec::new());
+        }
+        self.rows[at].push((row, free));
+    }
+
+    /// One pool item per class: the first row's facts, the summed free count.
+    fn items(&self, parts: &[Part]) -> Vec<Item> {
+        self.rows
+            .iter()
+            .enumerate()
+            .filter_map(|(class, rows)| {
+                let &(first, _) = rows.first()?;
+                let p = &parts[first];
+                let value = match p.value {
+                    Value::Resistance(r) => r.si(),
+                    Value::Capacitance(c) => c.si(),
+                    Value::None => return None,
+                };
+                let (fl, fh) = p.tolerance.factors();
+                Some(Item {
+                    row: class,
+                    value,
+                    lo: value * fl,
+                    hi: value * fh,
+                    avail: rows.iter().fold(0u32, |a, r| a.saturating_add(r.1)),
+                    tol: p.tolerance.widest().si(),
+                })
+            })
+            .collect()
     }
 }
 
 impl<'a> Ctx<'a> {
     fn new(parts: &'a [Part], goal: &Goal, s: &'a Settings) -> Result<Self, SolveError> {
-        let mut rs = Vec::new();
-        let mut cs = Vec::new();
+        let mut rclass = Classes::default();
+        let mut cclass = Classes::default();
         for (row, p) in parts.iter().enumerate() {
+            if p.available() <= 0 {
+                continue;
+            }
             match (p.kind, p.value) {
-                (Kind::Resistor, Value::Resistance(r)) => rs.push(item(row, p, r.si())),
-                (Kind::Capacitor, Value::Capacitance(c)) => {
+                (Kind::Resistor, Value::Resistance(_)) => rclass.add(row, p),
+                (Kind::Capacitor, Value::Capacitance(_)) => {
                     if s.cap_techs
                         .as_ref()
                         .is_some_and(|t| !t.contains(&p.technology))
@@ -387,11 +455,26 @@ impl<'a> Ctx<'a> {
                             continue;
                         }
                     }
-                    cs.push(item(row, p, c.si()));
+                    cclass.add(row, p);
                 }
                 _ => {}
             }
         }
+        if s.max_pieces >= 2 {
+            for (what, c) in [("resistor", &rclass), ("capacitor", &cclass)] {
+                if c.rows.len() > MAX_CLASSES {
+                    return Err(SolveError::Invalid(format!(
+                        "the stock holds {} distinct {what}s (value, tolerance, technology and \
+                         ratings); networks of two or more pieces are searched over at most \
+                         {MAX_CLASSES} to bound memory: narrow the stock (e.g. --tech) or use \
+                         --pieces 1",
+                        c.rows.len()
+                    )));
+                }
+            }
+        }
+        let rs = rclass.items(parts);
+        let cs = cclass.items(parts);
         let mut stages = Vec::new();
         let value = match goal {
             Goal::Value { kind, target } => Some((*kind, *target)),
@@ -411,8 +494,10 @@ impl<'a> Ctx<'a> {
         };
         Ok(Self {
             parts,
-            rpool: Pool::new(rs),
-            cpool: Pool::new(cs),
+            rpool: Pool::with_pairs(rs, s.max_pieces >= 2),
+            cpool: Pool::with_pairs(cs, s.max_pieces >= 2),
+            rclass: rclass.rows,
+            cclass: cclass.rows,
             stages,
             value,
             s,
@@ -463,10 +548,11 @@ impl<'a> Ctx<'a> {
         let ok = pool.walk(n, lo, hi, used, deadline, &mut |c, used| {
             st.seen += 1;
             let err = rel(c.value, t);
-            if err <= st.bound() {
+            if no_worse(err, st.bound()) {
                 let fits = !guarantee || {
                     let (_, l, h) = pool.span(c);
-                    l >= t * (1.0 - tol) && h <= t * (1.0 + tol)
+                    inside(l, t * (1.0 - tol), t * (1.0 + tol))
+                        && inside(h, t * (1.0 - tol), t * (1.0 + tol))
                 };
                 if fits {
                     Pool::take(c, used, 1);
@@ -690,12 +776,13 @@ impl<'a> Ctx<'a> {
                     .walk(nr, rlo, rhi, used_r, dl, &mut |rc, used_r| {
                         st.seen += 1;
                         let err = rel(k * rc.value * c, t);
-                        if err <= st.bound()
+                        if no_worse(err, st.bound())
                             && (!guarantee || {
                                 let (_, rl, rh) = self.rpool.span(rc);
                                 let (_, cl, ch) = self.cpool.span(cc);
-                                k * rl * cl * (1.0 - ie) >= t * (1.0 - tol)
-                                    && k * rh * ch * (1.0 + ie) <= t * (1.0 + tol)
+                                let (a, b) = win(t, tol);
+                                inside(k * rl * cl * (1.0 - ie), a, b)
+                                    && inside(k * rh * ch * (1.0 + ie), a, b)
                             })
                         {
                             Pool::take(rc, used_r, 1);
@@ -813,14 +900,14 @@ impl<'a> Ctx<'a> {
                         let mut err = rel(c * aa, period);
                         let duty_ok = match duty {
                             Duty::Any => true,
-                            Duty::Range(lo, hi) => d >= lo && d <= hi,
+                            Duty::Range(lo, hi) => inside(d, lo, hi),
                             Duty::Point(dt) => {
                                 err = err.max(rel(d, dt));
                                 true
                             }
                         };
                         if duty_ok
-                            && err <= st.bound()
+                            && no_worse(err, st.bound())
                             && (!guarantee || {
                                 let (_, l1, h1) = self.rpool.span(r1c);
                                 let (_, l2, h2) = self.rpool.span(r2c);
@@ -829,13 +916,15 @@ impl<'a> Ctx<'a> {
                                 let phi = ch * (kc * h1 + ks * h2) * (1.0 + ie);
                                 let dlo = kc * (l1 + h2) / (kc * l1 + ks * h2);
                                 let dhi = kc * (h1 + l2) / (kc * h1 + ks * l2);
-                                plo >= period * (1.0 - tol)
-                                    && phi <= period * (1.0 + tol)
+                                let (a, b) = win(period, tol);
+                                inside(plo, a, b)
+                                    && inside(phi, a, b)
                                     && match duty {
                                         Duty::Any => true,
-                                        Duty::Range(a, b) => dlo >= a && dhi <= b,
+                                        Duty::Range(a, b) => inside(dlo, a, b) && inside(dhi, a, b),
                                         Duty::Point(dt) => {
-                                            dlo >= dt * (1.0 - tol) && dhi <= dt * (1.0 + tol)
+                                            let (a, b) = win(dt, tol);
+                                            inside(dlo, a, b) && inside(dhi, a, b)
                                         }
                                     }
                             })
@@ -944,15 +1033,17 @@ impl<'a> Ctx<'a> {
                     let ok = self.rpool.walk(na, a, b, used_r, dl, &mut |rac, used_r| {
                         st.seen += 1;
                         let err = el.max(rel(kh * rac.value * c, high));
-                        if err <= st.bound()
+                        if no_worse(err, st.bound())
                             && (!guarantee || {
                                 let (_, al, ah) = self.rpool.span(rac);
                                 let (_, bl, bh) = self.rpool.span(rbc);
                                 let (_, cl, ch) = self.cpool.span(cc);
-                                kh * al * cl * (1.0 - ie) >= high * (1.0 - tol)
-                                    && kh * ah * ch * (1.0 + ie) <= high * (1.0 + tol)
-                                    && kl * bl * cl * (1.0 - ie) >= low * (1.0 - tol)
-                                    && kl * bh * ch * (1.0 + ie) <= low * (1.0 + tol)
+                                let (h0, h1) = win(high, tol);
+                                let (l0, l1) = win(low, tol);
+                                inside(kh * al * cl * (1.0 - ie), h0, h1)
+                                    && inside(kh * ah * ch * (1.0 + ie), h0, h1)
+                                    && inside(kl * bl * cl * (1.0 - ie), l0, l1)
+                                    && inside(kl * bh * ch * (1.0 + ie), l0, l1)
                             })
                         {
                             Pool::take(rac, used_r, 1);
@@ -1037,7 +1128,7 @@ impl<'a> Ctx<'a> {
         let mut facts: Option<CapFacts> = None;
         let mut unknown_rating = false;
         for &i in c.pieces() {
-            let part = &self.parts[self.cpool.items()[i as usize].row];
+            let part = &self.parts[self.cclass[self.cpool.items()[i as usize].row][0].0];
             unknown_rating |= part.voltage_rating.is_none();
             facts = Some(match facts {
                 None => CapFacts {
@@ -1077,12 +1168,50 @@ impl<'a> Ctx<'a> {
         f
     }
 
+    /// Stock rows for the pieces of every pick: within a class, each piece comes from the row
+    /// with the most free pieces left (sparing small rows), the first such row on a tie. The
+    /// class counts the search checked are the sums of these rows', so this always succeeds.
+    fn assign(&self, picks: &[Pick]) -> Vec<Vec<usize>> {
+        let mut left: std::collections::HashMap<(bool, usize), Vec<u32>> =
+            std::collections::HashMap::new();
+        picks
+            .iter()
+            .map(|p| {
+                let (pool, classes) = match p.which {
+                    Which::R => (&self.rpool, &self.rclass),
+                    Which::C => (&self.cpool, &self.cclass),
+                };
+                p.cand
+                    .pieces()
+                    .iter()
+                    .map(|&i| {
+                        let class = pool.items()[i as usize].row;
+                        let rows = &classes[class];
+                        let free = left
+                            .entry((p.which == Which::C, class))
+                            .or_insert_with(|| rows.iter().map(|r| r.1).collect());
+                        let mut best = 0;
+                        for (k, &f) in free.iter().enumerate() {
+                            if f > free[best] {
+                                best = k;
+                            }
+                        }
+                        free[best] = free[best].saturating_sub(1);
+                        rows[best].0
+                    })
+                    .collect()
+            })
+            .collect()
+    }
+
     fn build(&self, found: &Found) -> Design {
         let mut picks = found.picks.clone();
         picks.sort_by_key(|p| (p.stage, p.slot));
+        let rows = self.assign(&picks);
         let positions: Vec<Position> = picks
             .iter()
-            .map(|p| {
+            .zip(rows)
+            .map(|(p, rows)| {
                 let pool = self.pool(p.which);
                 let (value, lo, hi) = pool.span(&p.cand);
                 let (kind, combine) = match p.which {
@@ -1098,12 +1227,7 @@ impl<'a> Ctx<'a> {
                     name,
                     kind,
                     net: p.cand.shape.to_net(combine),
-                    rows: p
-                        .cand
-                        .pieces()
-                        .iter()
-                        .map(|&i| pool.items()[i as usize].row)
-                        .collect(),
+                    rows,
                     value,
                     lo,
                     hi,
@@ -1310,5 +1434,40 @@ mod tests {
         assert_eq!(compositions(3, 3, 3), vec![vec![1, 1, 1]]);
         assert_eq!(compositions(7, 2, 3).len(), 0);
         assert_eq!(compositions(6, 3, 4).len(), 10);
+    }
+
+    #[test]
+    fn a_search_out_of_time_says_so_and_proves_nothing_more() {
+        let parts: Vec<Part> = Vec::new();
+        let s = Settings {
+            tol: 0.01,
+            max_pieces: 2,
+            alternatives: 1,
+            guarantee: false,
+            family: Family::bipolar(),
+            conditions: Conditions::ideal(Volts::from_si(9.0).unwrap_or(Volts::ZERO)),
+            cap_techs: None,
+            min_cap_rating: None,
+            time_limit: Some(std::time::Duration::ZERO),
+            rank: Rank::FewestPieces,
+        };
+        let goal = Goal::Value {
+            kind: Kind::Resistor,
+            target: 1000.0,
+        };
+        let out = solve(&parts, &goal, &s).expect("runs");
+        assert!(!out.complete, "stopped by the clock");
+        assert!(out.designs.is_empty());
+        assert_eq!(out.no_design_below, 1, "nothing proven beyond the obvious");
+        let done = solve(
+            &parts,
+            &goal,
+            &Settings {
+                time_limit: None,
+                ..s
+            },
+        )
+        .expect("runs");
+        assert!(done.complete, "an empty stock is searched to the end");
     }
 }
