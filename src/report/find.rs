@@ -104,6 +104,9 @@ fn quantity_line(q: &Quantity) -> String {
         }
     };
     let mut s = format!("{:<9} {}", q.name, v(q.nominal));
+    if q.band_lo < q.nominal || q.band_hi > q.nominal {
+        s += &format!(" (model band {} … {})", v(q.band_lo), v(q.band_hi));
+    }
     if let (Some(t), Some(e)) = (q.target, q.error) {
         s += &format!("  (target {}, off {})", v(t), pct(e));
     } else if let Some((lo, hi)) = q.window {
@@ -176,10 +179,53 @@ pub(crate) fn write_design(
     Ok(())
 }
 
+/// Which model the numbers come from, in words (the header of every find report).
+pub(crate) fn describe_model(m: &crate::timing::Model) -> String {
+    use crate::timing::DiodeModel;
+    if *m == crate::timing::Model::ideal() {
+        return "ideal (textbook closed forms, no diode drop or other effect)".into();
+    }
+    let diode = match m.diode {
+        DiodeModel::Ideal => "steering diodes ideal (no drop)".to_string(),
+        DiodeModel::Fixed(v) => format!("steering diodes a fixed {v} drop"),
+        DiodeModel::SmallSignal => {
+            "steering diodes small-signal silicon (current-dependent)".into()
+        }
+    };
+    let mut on = vec![diode];
+    for (flag, what) in [
+        (m.output_drop, "output-high drop"),
+        (m.saturation, "discharge saturation"),
+        (m.bias_currents, "pin bias currents (band)"),
+        (m.dc_bias, "class-2 DC-bias loss (band)"),
+    ] {
+        if flag {
+            on.push(what.to_string());
+        }
+    }
+    format!("real parts: {}", on.join(", "))
+}
+
+/// A network as `onhand check` reads it for a position: `150kΩ+820kΩ`, `(10nF||2.2nF)+1nF`.
+pub(crate) fn expression(parts: &[Part], p: &crate::solve::Position) -> String {
+    let leaf = |i: usize| match p.rows.get(i).and_then(|&r| parts.get(r)).map(|pt| pt.value) {
+        Some(Value::Resistance(r)) => r.to_string().replace(' ', ""),
+        Some(Value::Capacitance(c)) => c.to_string().replace(' ', ""),
+        _ => "?".into(),
+    };
+    p.net
+        .describe(&leaf)
+        .replace(" + ", "+")
+        .replace(" ∥ ", "||")
+}
+
 /// Plain text.
 pub fn text(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
     let o = v.outcome;
     writeln!(out, "Looking for: {}", describe_goal(v.goal, v.settings))?;
+    if matches!(v.goal, Goal::Stages(_)) {
+        writeln!(out, "Model: {}", describe_model(&v.settings.model))?;
+    }
     let stages = match v.goal {
         Goal::Stages(s) => s.len(),
         Goal::Value { .. } => 1,
@@ -359,6 +405,8 @@ struct JPosition<'a> {
     name: &'a str,
     kind: Kind,
     network: String,
+    /// The network as `onhand check` reads it for this position.
+    expression: String,
     value: f64,
     worst_lo: f64,
     worst_hi: f64,
@@ -399,6 +447,7 @@ pub(crate) fn jdesign<'a>(parts: &'a [Part], rank: usize, d: &'a Design) -> JDes
                         .map(part_label)
                         .unwrap_or_else(|| "(to buy)".into())
                 }),
+                expression: expression(parts, p),
                 value: p.value,
                 worst_lo: p.lo,
                 worst_hi: p.hi,
@@ -441,6 +490,8 @@ pub fn json(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
         goal: &'a Goal,
         tolerance: f64,
         family: &'a str,
+        model: &'a crate::timing::Model,
+        model_text: String,
         vcc: f64,
         max_pieces: usize,
         guarantee: bool,
@@ -461,6 +512,8 @@ pub fn json(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
         goal: v.goal,
         tolerance: v.settings.tol,
         family: v.settings.family.name,
+        model: &v.settings.model,
+        model_text: describe_model(&v.settings.model),
         vcc: v.settings.conditions.vcc.si(),
         max_pieces: v.settings.max_pieces,
         guarantee: v.settings.guarantee,

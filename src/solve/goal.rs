@@ -144,6 +144,9 @@ pub struct Settings {
     pub guarantee: bool,
     /// Timer family.
     pub family: Family,
+    /// Which effects beyond the ideal closed forms the evaluator includes (default: all, the
+    /// real board; `Model::ideal()` is the textbook).
+    pub model: crate::timing::Model,
     /// Supply and refinements (the square form adds the family's output drop itself).
     pub conditions: Conditions,
     /// Capacitor technologies allowed (None: all).
@@ -188,8 +191,12 @@ pub struct Quantity {
     pub unit: &'static str,
     /// The target, when this quantity has one.
     pub target: Option<f64>,
-    /// Nominal.
+    /// Nominal: what the model predicts.
     pub nominal: f64,
+    /// Lowest value the model's effects allow with every part at its nominal value.
+    pub band_lo: f64,
+    /// Highest value the model's effects allow with every part at its nominal value.
+    pub band_hi: f64,
     /// The interval this quantity must lie in (a hard constraint), when it has one.
     pub window: Option<(f64, f64)>,
     /// Relative error of the nominal against the target.
@@ -207,6 +214,8 @@ pub struct StageReport {
     pub form: Option<Form>,
     /// The quantities.
     pub quantities: Vec<Quantity>,
+    /// The model's effects the evaluator used, each with its figure and where it comes from.
+    pub effects: Vec<crate::timing::Effect>,
     /// Warnings and cautions from the electrical checks (errors never appear: such designs are
     /// refused).
     pub findings: Vec<Finding>,

@@ -86,6 +86,7 @@ fn settings(tol_pct: f64, k: usize, alternatives: usize, guarantee: bool) -> Set
         alternatives,
         guarantee,
         family: Family::bipolar(),
+        model: crate::timing::Model::ideal(),
         conditions: Conditions::ideal(Volts::from_si(9.0).expect("volts")),
         cap_techs: Some(vec![Technology::Film, Technology::C0g]),
         min_cap_rating: Some(9.0),
@@ -133,7 +134,9 @@ fn recheck(parts: &[Part], d: &Design) {
         for q in &s.quantities {
             if let Some((lo, hi)) = q.window {
                 assert!(
-                    q.nominal >= lo * (1.0 - 1e-12) && q.nominal <= hi * (1.0 + 1e-12),
+                    super::goal::inside(q.nominal, lo, hi)
+                        && super::goal::inside(q.band_lo, lo, hi)
+                        && super::goal::inside(q.band_hi, lo, hi),
                     "{} {} outside {lo}..{hi}",
                     q.name,
                     q.nominal
