@@ -241,7 +241,8 @@ fn run_set(parts: &[Part], s: &Settings, what: &str) {
     }
     let worst = times.iter().copied().fold(0.0, f64::max);
     println!(
-        "k = 3, {what}, {} targets (one-shot and astable): found {found}; best piece counts {:?}",
+        "k = {}, {what}, {} targets (one-shot and astable): found {found}; best piece counts {:?}",
+        s.max_pieces,
         times.len(),
         pieces_hist
     );

@@ -431,3 +431,127 @@ fn a_purchase_of_several_pieces_says_how_many() {
     assert_eq!(j["purchase"]["pieces"], 2);
     assert_eq!(j["purchase"]["design"]["pieces"], 2);
 }
+
+/// A quantity of stage 0 of the best design in a `find --json` answer.
+fn found_quantity(j: &serde_json::Value, name: &str) -> serde_json::Value {
+    j["designs"][0]["stages"][0]["quantities"]
+        .as_array()
+        .expect("quantities")
+        .iter()
+        .find(|q| q["name"] == name)
+        .unwrap_or_else(|| panic!("no {name} in {j}"))
+        .clone()
+}
+
+#[test]
+fn each_position_expression_is_accepted_by_check_with_the_same_numbers() {
+    let (b, s) = drawer();
+    for (find_args, form, ours, theirs) in [
+        (vec!["pulse", "1ms"], "monostable", "width", "high"),
+        (
+            vec!["astable", "1kHz", "--duty", "55..75%", "--within", "5%"],
+            "astable",
+            "period",
+            "period",
+        ),
+    ] {
+        let mut args = vec!["--json", "find"];
+        args.extend(find_args.iter().copied());
+        args.extend(["--stock", &s]);
+        let j = b.run(&args).ok().json();
+        let mut check = vec!["--json".to_string(), "check".into(), form.into()];
+        for p in j["designs"][0]["positions"].as_array().expect("positions") {
+            let expr = p["expression"].as_str().expect("expression");
+            check.push(format!("{}={expr}", p["name"].as_str().expect("name")));
+        }
+        let check: Vec<&str> = check.iter().map(String::as_str).collect();
+        let c = b.run(&check).ok().json();
+        let theirs = c["analyses"][0]["nominal"]
+            .as_array()
+            .expect("check nominal")
+            .iter()
+            .find(|q| q["quantity"] == theirs)
+            .expect("check quantity")["nominal"]
+            .as_f64()
+            .expect("number");
+        let ours = found_quantity(&j, ours)["nominal"].as_f64().expect("ours");
+        // The evaluator takes exact units (mΩ, fF), so a parallel network's value is rounded
+        // to a few parts in a million before it is timed; beyond that the numbers agree.
+        assert!(
+            ((ours - theirs) / theirs).abs() < 5e-6,
+            "{form}: find {ours} vs check {theirs} ({check:?})"
+        );
+    }
+}
+
+#[test]
+fn bench_drawer_half_second_pulse_has_its_band_inside_or_says_why() {
+    let b = Bench::new();
+    let s = crate::util::repo_path("sample-stock/bench-drawer.csv");
+    let s = s.to_str().expect("utf-8 path");
+    let r = b.run(&[
+        "--json", "find", "pulse", "500ms", "--within", "2%", "--stock", s,
+    ]);
+    let j = r.json();
+    match j["result"].as_str() {
+        Some("found") => {
+            for d in j["designs"].as_array().expect("designs") {
+                let q = d["stages"][0]["quantities"]
+                    .as_array()
+                    .expect("quantities")
+                    .iter()
+                    .find(|q| q["name"] == "width")
+                    .expect("width")
+                    .clone();
+                let (lo, hi) = (
+                    q["band_lo"].as_f64().expect("band_lo"),
+                    q["band_hi"].as_f64().expect("band_hi"),
+                );
+                assert!(lo <= hi, "band {lo} … {hi}");
+                assert!(
+                    lo >= 0.49 * (1.0 - 1e-9) && hi <= 0.51 * (1.0 + 1e-9),
+                    "{q}"
+                );
+            }
+        }
+        other => {
+            assert_eq!(other, Some("none"), "{j}");
+            let text = b
+                .run(&["find", "pulse", "500ms", "--within", "2%", "--stock", s])
+                .code(1);
+            assert!(
+                text.stdout.contains("Nothing in stock meets"),
+                "{}",
+                text.stdout
+            );
+        }
+    }
+}
+
+#[test]
+fn a_bare_number_needs_a_unit_and_old_spellings_still_work() {
+    let (b, s) = drawer();
+    b.run(&["find", "pulse", "250", "--stock", &s])
+        .code(2)
+        .stderr_has("250 what? give a unit, e.g. 250ms");
+    let j = b
+        .run(&[
+            "--json", "find", "value", "32k", "--tol", "1%", "--stock", &s,
+        ])
+        .ok()
+        .json();
+    assert_eq!(j["tolerance"], 0.01);
+    let j = b
+        .run(&["--json", "find", "pulse", "1ms", "--ideal", "--stock", &s])
+        .ok()
+        .json();
+    assert!(
+        j["model_text"]
+            .as_str()
+            .expect("model")
+            .starts_with("ideal")
+    );
+    b.run(&["find", "pulse", "1ms", "--diode", "0.7V", "--stock", &s])
+        .ok()
+        .stdout_has("Model: real parts: steering diodes a fixed");
+}

@@ -618,3 +618,117 @@ proptest! {
         }
     }
 }
+
+/// The design's stage `si` as the tolerance analysis (`timing::Analysis`, what `check` uses)
+/// sees it: every piece with its stocked tolerance and the timer's own error.
+fn analysis_of(parts: &[Part], d: &Design, g: &StageGoal, s: &Settings) -> crate::timing::Analysis {
+    use crate::timing::{Analysis, Circuit, Piece, Position, StageModel, Steering};
+    let pos = |name: &str| -> Position {
+        let p = d
+            .positions
+            .iter()
+            .find(|p| p.name == name)
+            .expect("position");
+        let combine = if p.kind == Kind::Capacitor {
+            Combine::Capacitive
+        } else {
+            Combine::Resistive
+        };
+        Position {
+            name: name.to_string(),
+            combine,
+            net: p.net.clone(),
+            pieces: p
+                .rows
+                .iter()
+                .map(|&r| Piece {
+                    value: val(&parts[r]),
+                    tolerance: parts[r].tolerance,
+                })
+                .collect(),
+        }
+    };
+    let names = g.positions();
+    let ie = match g {
+        StageGoal::Pulse { .. } => s.family.error_one_shot.value,
+        _ => s.family.error_astable.value,
+    };
+    let model = StageModel {
+        form: g.form(),
+        steering: Steering::default(),
+        r1: pos(names[0]),
+        r2: (names.len() == 3).then(|| pos(names[1])),
+        c: pos(names[names.len() - 1]),
+        conditions: s.conditions,
+        timer_error: crate::units::Ratio::from_si(ie).expect("ratio"),
+    };
+    Analysis::new(&Circuit::Single(Box::new(model))).expect("analysis")
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 60, ..ProptestConfig::default() })]
+
+    /// Designs the search finds, re-evaluated from their parts alone: the evaluator gives the
+    /// reported nominal and band exactly, and the tolerance analysis `check` uses gives the
+    /// reported worst case (to the store's exact units: mΩ and fF round a network's value by
+    /// at most a few parts in a million).
+    #[test]
+    fn found_designs_re_evaluate_to_the_same_numbers(
+        rs in prop::collection::vec(resistor(), 2..6),
+        cs in prop::collection::vec(capacitor(), 1..4),
+        r1 in any::<prop::sample::Index>(),
+        r2 in any::<prop::sample::Index>(),
+        c in any::<prop::sample::Index>(),
+        astable in any::<bool>(),
+        k in 1..3usize,
+    ) {
+        use crate::timing::{Quantity as Q, Stage, evaluate};
+        let parts = drawer(&rs, &cs);
+        let res = of_kind(&parts, Kind::Resistor);
+        let caps = of_kind(&parts, Kind::Capacitor);
+        let (x1, x2) = (val(res[r1.index(res.len())]), val(res[r2.index(res.len())]));
+        let y = val(caps[c.index(caps.len())]);
+        // DESIGN physics table: ideal one-shot ln 3 · R · C; astable ln 2 · (R1 + 2 R2) · C.
+        let g = if astable {
+            StageGoal::Astable { period: 2f64.ln() * (x1 + 2.0 * x2) * y, duty: Duty::Any }
+        } else {
+            StageGoal::Pulse { width: 3f64.ln() * x1 * y }
+        };
+        let mut s = settings(5.0, k, 3, false);
+        s.model = crate::timing::Model::real();
+        let out = solve(&parts, &Goal::Stages(vec![g]), &s).expect("search runs");
+        for d in &out.designs {
+            let get = |n: &str| d.positions.iter().find(|p| p.name == n).map(|p| p.value);
+            let ohms = |v: f64| Ohms::from_si(v).expect("ohms");
+            let stage = if astable {
+                Stage::astable(ohms(get("R1").expect("R1")), ohms(get("R2").expect("R2")),
+                    Farads::from_si(get("C").expect("C")).expect("farads"), s.conditions)
+            } else {
+                Stage::monostable(ohms(get("R").expect("R")),
+                    Farads::from_si(get("C").expect("C")).expect("farads"), s.conditions)
+            };
+            let mut stage = stage;
+            stage.cap = None;
+            let ev = evaluate(&stage, &s.family, &s.model).expect("evaluates");
+            let qs = &d.stages[0].quantities;
+            let q = |n: &str| qs.iter().find(|q| q.name == n).expect("quantity");
+            let main = if astable { (q("period"), ev.period.expect("period")) } else { (q("width"), ev.high) };
+            // Capacitor facts (dielectric) travel with the search's stage; the drawer's timing
+            // capacitors are film or C0G, on which no modelled effect depends.
+            prop_assert_eq!(main.0.nominal, main.1.nominal);
+            prop_assert_eq!(main.0.band_lo, main.1.band_lo);
+            prop_assert_eq!(main.0.band_hi, main.1.band_hi);
+            let wc = analysis_of(&parts, d, &g, &s).worst_case().expect("worst case");
+            let (which, qty) = if astable { (Q::Period, "period") } else { (Q::High, "width") };
+            let i = wc.get(which).expect("interval");
+            let close = |a: f64, b: f64| ((a - b) / b).abs() < 5e-6;
+            prop_assert!(close(q(qty).worst_lo, i.min), "{} vs {}", q(qty).worst_lo, i.min);
+            prop_assert!(close(q(qty).worst_hi, i.max), "{} vs {}", q(qty).worst_hi, i.max);
+            if astable {
+                let dq = q("duty");
+                let di = wc.get(Q::Duty).expect("duty");
+                prop_assert!(close(dq.worst_lo, di.min) && close(dq.worst_hi, di.max));
+            }
+        }
+    }
+}
