@@ -215,7 +215,7 @@ pub fn run(args: FindArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status>
         }
     }
     let time_limit = parse_time(&args.time_limit).map_err(|e| anyhow!(e))?.si();
-    if !(time_limit > 0.0) {
+    if time_limit.is_nan() || time_limit <= 0.0 {
         bail!("--time-limit must be above zero (e.g. 10s)");
     }
     if !(args.voltage_margin.is_finite() && args.voltage_margin >= 1.0) {

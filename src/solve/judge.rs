@@ -70,13 +70,11 @@ fn spans(a: f64, b: f64, w: (f64, f64)) -> bool {
     inside(a, w.0, w.1) && inside(b, w.0, w.1)
 }
 
-/// The targeted quantities of a stage: (evaluated, worst case, window, target for the error).
-fn targeted(
-    g: &StageGoal,
-    ev: &Evaluation,
-    w: Option<&Worst>,
-    tol: f64,
-) -> Option<Vec<(Banded, Option<(f64, f64)>, (f64, f64), Option<f64>)>> {
+/// One targeted quantity: evaluated, worst case, window, target for the error.
+type Targeted = (Banded, Option<(f64, f64)>, (f64, f64), Option<f64>);
+
+/// The targeted quantities of a stage.
+fn targeted(g: &StageGoal, ev: &Evaluation, w: Option<&Worst>, tol: f64) -> Option<Vec<Targeted>> {
     Some(match *g {
         StageGoal::Pulse { width } => {
             vec![(ev.high, w.map(|w| w.high), window(width, tol), Some(width))]
