@@ -555,3 +555,33 @@ fn a_bare_number_needs_a_unit_and_old_spellings_still_work() {
         .ok()
         .stdout_has("Model: real parts: steering diodes a fixed");
 }
+
+#[test]
+fn guarantee_narrower_than_any_part_answers_at_once_with_the_reason() {
+    let (b, s) = drawer();
+    // The drawer's tightest resistor is ±1 % and its tightest timing capacitor ±5 %: no
+    // network of them can keep a time within ±2 % in the worst case.
+    b.run(&[
+        "find",
+        "pulse",
+        "1ms",
+        "--within",
+        "2%",
+        "--guarantee",
+        "--stock",
+        &s,
+    ])
+    .code(1)
+    .stdout_has("Nothing can meet this target: --guarantee needs the worst case within ±2.00 %");
+}
+
+#[test]
+fn a_wildly_off_closest_design_is_not_offered() {
+    let (b, s) = drawer();
+    // A one-hour one-shot from a drawer whose largest timing capacitor is 1 µF.
+    let r = b
+        .run(&["find", "pulse", "3600s", "--stock", &s])
+        .code(1)
+        .stdout_has("out of this stock's reach");
+    assert!(!r.stdout.contains("Closest from stock"), "{}", r.stdout);
+}

@@ -262,6 +262,18 @@ pub fn run(args: FindArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status>
             p.held = 0;
         }
     }
+    if let Some(reason) = crate::solve::search::guarantee_out_of_reach(&parts, &goal, &settings) {
+        if ctx.json {
+            writeln!(
+                out,
+                "{}",
+                serde_json::json!({"found": false, "result": "none", "complete": true, "reason": reason, "designs": []})
+            )?;
+        } else {
+            writeln!(out, "Nothing can meet this target: {reason}.")?;
+        }
+        return Ok(Status::NotMet);
+    }
     let outcome = solve(&parts, &goal, &settings).context("search")?;
     // A search stopped by the clock proved nothing about "nothing fits": no closest design or
     // purchase is offered for it.

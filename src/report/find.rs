@@ -300,7 +300,13 @@ pub fn text(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
                 }
                 None => writeln!(
                     out,
-                    "No design from stock comes near the target within the electrical checks."
+                    "The target is out of this stock's reach: no design from stock that passes \
+                     the electrical checks comes within {:.0} % of it{}; a different capacitor \
+                     decade or circuit is needed, not a nearby part.",
+                    crate::solve::suggest::FAR_OFF * 100.0,
+                    a.far_off
+                        .map(|e| format!(" (the closest is {} off)", pct(e)))
+                        .unwrap_or_default()
                 )?,
             }
             match &a.purchase {
@@ -505,6 +511,7 @@ pub fn json(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
         refused: &'a [(String, u64)],
         designs: Vec<JDesign<'a>>,
         closest: Option<JDesign<'a>>,
+        closest_too_far_off: Option<f64>,
         purchase: Option<JPurchase<'a>>,
     }
     let o = v.outcome;
@@ -535,6 +542,7 @@ pub fn json(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
             .advice
             .and_then(|a| a.closest.as_ref())
             .map(|d| jdesign(v.parts, 0, d)),
+        closest_too_far_off: v.advice.and_then(|a| a.far_off),
         purchase: v
             .advice
             .and_then(|a| a.purchase.as_ref())

@@ -73,6 +73,57 @@ pub fn out_of_reach(goal: &Goal, family: &Family, tol: f64) -> Option<String> {
     })
 }
 
+/// With `guarantee`, why no design can have its worst case inside the window, if none can: a
+/// network of parts each at least ±t is itself at least ±t (series and parallel both keep the
+/// smallest relative spread), and a time multiplies a resistance, a capacitance and the chip's
+/// own error. When even the tightest stocked parts spread wider than the window, the answer
+/// comes at once.
+pub fn guarantee_out_of_reach(parts: &[Part], goal: &Goal, s: &Settings) -> Option<String> {
+    if !s.guarantee {
+        return None;
+    }
+    let tightest = |kind: Kind| -> Option<f64> {
+        parts
+            .iter()
+            .filter(|p| p.kind == kind && p.available() > 0)
+            .filter(|p| {
+                kind != Kind::Capacitor
+                    || s.cap_techs
+                        .as_ref()
+                        .is_none_or(|t| t.contains(&p.technology))
+            })
+            .map(|p| {
+                let (lo, hi) = p.tolerance.factors();
+                hi / lo
+            })
+            .fold(None, |a: Option<f64>, x| Some(a.map_or(x, |a| a.min(x))))
+    };
+    let allowed = (1.0 + s.tol) / (1.0 - s.tol);
+    let pct = |x: f64| format!("±{:.2} %", (x - 1.0) / (x + 1.0) * 100.0);
+    let (spread, what) = match goal {
+        Goal::Value { kind, .. } => (tightest(*kind)?, "the tightest stocked part"),
+        Goal::Stages(stages) => {
+            let chip = stages
+                .iter()
+                .map(|g| stage_factors(g, s).map_or(0.0, |(_, ie)| ie))
+                .fold(0.0, f64::max);
+            let r = tightest(Kind::Resistor).unwrap_or(1.0);
+            let c = tightest(Kind::Capacitor).unwrap_or(1.0);
+            (
+                r * c * (1.0 + chip) / (1.0 - chip),
+                "the tightest stocked resistor and capacitor with the chip's own error",
+            )
+        }
+    };
+    (spread > allowed * (1.0 + super::goal::ROUNDING)).then(|| {
+        format!(
+            "--guarantee needs the worst case within {}, but {what} already spread {}",
+            pct(allowed),
+            pct(spread)
+        )
+    })
+}
+
 /// Search the stock for the best designs meeting `goal`.
 pub fn solve(parts: &[Part], goal: &Goal, settings: &Settings) -> Result<Outcome, SolveError> {
     let started = Instant::now();

@@ -40,7 +40,14 @@ pub struct Advice {
     pub closest: Option<Design>,
     /// One purchase that fixes it, if one was found.
     pub purchase: Option<Purchase>,
+    /// The error of the closest design when it was too far off to offer as a design (above
+    /// [`FAR_OFF`]): the target is out of this stock's reach.
+    pub far_off: Option<f64>,
 }
+
+/// A "closest design" further off than this (relative) is no design: it is not offered, and
+/// the answer says the target is out of the stock's reach instead (common practice).
+pub const FAR_OFF: f64 = 0.5;
 
 /// The preferred values of `series` nearest below and above `x` (one if `x` is one of them).
 pub fn neighbours(series: Series, x: f64) -> Vec<f64> {
@@ -178,9 +185,11 @@ pub fn advise(
             });
         }
     }
+    let far_off = closest.as_ref().map(|d| d.error).filter(|&e| e > FAR_OFF);
     Ok(Advice {
-        closest,
+        closest: closest.filter(|d| d.error <= FAR_OFF),
         purchase: best,
+        far_off,
     })
 }
 
