@@ -54,6 +54,7 @@ fn stage(name: &str, goal: StageGoal, tol: f64) -> PlanStage {
             alternatives: 1,
             guarantee: false,
             family: Family::cmos(),
+            model: onhand::timing::Model::real(),
             conditions: Conditions::ideal(Volts::from_si(9.0).expect("volts")),
             // As `onhand find` does for timing: no electrolytics or tantalum, and a known
             // capacitor rating at least 1.5 × the supply.

@@ -117,7 +117,7 @@ fn two_members_planning_for_the_last_parts_one_wins() {
                 let plan = b.write(
                     &format!("{who}.toml"),
                     &format!(
-                        "name = \"last one for {who}\"\n[[stage]]\nform = \"pulse\"\nwidth = \"109.86ms\"\n"
+                        "name = \"last one for {who}\"\n[[stage]]\nform = \"pulse\"\nwidth = \"108.8ms\"\n"
                     ),
                 );
                 let plan = plan.to_str().expect("utf-8").to_string();

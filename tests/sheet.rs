@@ -142,7 +142,7 @@ fn find_writes_the_build_sheet_of_its_best_design() {
             "--json",
             "find",
             "pulse",
-            "109.86ms",
+            "108.8ms",
             "--sheet",
             dir.to_str().expect("utf-8"),
         ])

@@ -10,7 +10,7 @@ use crate::report::find as render;
 use crate::solve::suggest::advise;
 use crate::solve::{Duty, Goal, Rank, Settings, StageGoal, family_by_name, solve};
 use crate::store::{Kind, Part, Technology};
-use crate::timing::Conditions;
+use crate::timing::{Conditions, DiodeModel, Model};
 use crate::units::eseries::Series;
 use crate::units::{
     parse_capacitance, parse_frequency, parse_ratio, parse_resistance, parse_time, parse_tolerance,
@@ -37,9 +37,16 @@ struct FindOptions {
     /// Search this CSV (the `onhand import` format) instead of the stock database.
     #[arg(long, global = true, value_name = "FILE")]
     stock: Option<PathBuf>,
-    /// Allowed deviation of each targeted quantity from its target.
-    #[arg(long, global = true, default_value = "1%", value_name = "PERCENT")]
-    tol: String,
+    /// Allowed deviation of each targeted quantity from its target (`--tol` is an old
+    /// spelling of the same option).
+    #[arg(
+        long,
+        global = true,
+        default_value = "1%",
+        value_name = "PERCENT",
+        alias = "tol"
+    )]
+    within: String,
     /// Timer family: bipolar or cmos.
     #[arg(long, global = true, default_value = "bipolar")]
     family: String,
@@ -71,11 +78,24 @@ struct FindOptions {
     /// nothing fits, the closest design and purchase advice share the same budget (at least 1 s).
     #[arg(long, global = true, default_value = "10s", value_name = "TIME")]
     time_limit: String,
-    /// Forward drop of the steering diodes (steered form); 0 is the ideal model.
-    #[arg(long, global = true, default_value = "0V", value_name = "VOLTS")]
-    diode_drop: String,
-    /// Preferred-value series for the purchase suggestion (E12 or E24).
-    #[arg(long, global = true, default_value = "E24", value_name = "SERIES")]
+    /// Steering diodes (steered form): a fixed forward drop such as 0.7V, or `ideal` for no
+    /// drop. Default: a current-dependent small-signal silicon diode (`--diode-drop` is an old
+    /// spelling).
+    #[arg(long, global = true, value_name = "VOLTS|ideal", alias = "diode-drop")]
+    diode: Option<String>,
+    /// The textbook model: no diode, output-drop, saturation, bias-current or DC-bias effect.
+    /// Default: the real board, every effect on.
+    #[arg(long, global = true)]
+    ideal: bool,
+    /// Preferred-value series for the purchase suggestion (E12 or E24; `--buy` is an old
+    /// spelling).
+    #[arg(
+        long,
+        global = true,
+        default_value = "E24",
+        value_name = "SERIES",
+        alias = "buy"
+    )]
     buy_series: String,
     /// Write SVG pictures of the best design into this folder (created if missing): the
     /// waveform of every stage and the Monte Carlo histogram; when nothing fits, the reach of
@@ -93,7 +113,7 @@ struct FindOptions {
 
 const FIND_EXAMPLES: &str = "\
 Examples:
-  onhand find value 68k --tol 1%                 a substitute for a 68 kΩ resistor
+  onhand find value 68k --within 1%              a substitute for a 68 kΩ resistor
   onhand find pulse 250ms                        a one-shot of 250 ms
   onhand find astable 1kHz --duty 60..70%        a classic astable
   onhand find steered --high 1ms --low 200us     duty below 50 % with steering diodes
@@ -102,7 +122,11 @@ Examples:
   onhand find dual pulse:250ms astable:2Hz       two stages in one 556 package
   onhand find pulse 250ms --svg pictures --netlist oneshot.cir
 
-Each targeted quantity must lie within --tol of its target (for a frequency, the period does).";
+Each targeted quantity must lie within --within of its target (for a frequency, the period
+does), its whole model band included: the default model is the real board (small-signal steering
+diodes, output drop, discharge saturation, pin bias currents, class-2 DC-bias loss); --ideal gives
+the textbook closed forms. Every position's `expression` in --json can be handed to `onhand check`.
+Exit codes: 0 found, 1 nothing meets the target, 2 error, 3 stopped at --time-limit first.";
 
 #[derive(Debug, clap::Subcommand)]
 enum Target {
@@ -172,20 +196,31 @@ enum Target {
 pub fn run(args: FindArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status> {
     let target = args.target;
     let args = *args.opts;
-    let tol = parse_tolerance(&args.tol)
+    let tol = parse_tolerance(&args.within)
         .map_err(|e| anyhow!(e))?
         .widest()
         .si();
     let family = family_by_name(&args.family)
         .ok_or_else(|| anyhow!("unknown family {:?}: use bipolar or cmos", args.family))?;
     let vcc = parse_voltage(&args.vcc).map_err(|e| anyhow!(e))?;
-    let mut conditions = Conditions::ideal(vcc);
-    conditions.diode_drop = parse_voltage(&args.diode_drop).map_err(|e| anyhow!(e))?;
-    let time_limit = parse_time(&args.time_limit).map_err(|e| anyhow!(e))?;
-    if !time_limit.is_positive() {
-        bail!("--time-limit must be above zero");
+    let conditions = Conditions::ideal(vcc);
+    let mut model = if args.ideal {
+        Model::ideal()
+    } else {
+        Model::real()
+    };
+    match args.diode.as_deref().map(str::trim) {
+        None => {}
+        Some(d) if d.eq_ignore_ascii_case("ideal") => model.diode = DiodeModel::Ideal,
+        Some(d) => {
+            let v = parse_voltage(d).map_err(|e| anyhow!("--diode {d:?}: {e}"))?;
+            model.diode = DiodeModel::Fixed(v);
+        }
     }
-    let time_limit = time_limit.si();
+    let time_limit = parse_time(&args.time_limit).map_err(|e| anyhow!(e))?.si();
+    if time_limit.is_nan() || time_limit <= 0.0 {
+        bail!("--time-limit must be above zero (e.g. 10s)");
+    }
     if !(args.voltage_margin.is_finite() && args.voltage_margin >= 1.0) {
         bail!("--voltage-margin must be 1 or more");
     }
@@ -217,6 +252,7 @@ pub fn run(args: FindArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status>
         alternatives: args.alternatives,
         guarantee: args.guarantee,
         family: family.clone(),
+        model,
         conditions,
         cap_techs,
         min_cap_rating: Some(vcc.si() * args.voltage_margin),
@@ -229,8 +265,22 @@ pub fn run(args: FindArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status>
             p.held = 0;
         }
     }
+    if let Some(reason) = crate::solve::search::guarantee_out_of_reach(&parts, &goal, &settings) {
+        if ctx.json {
+            writeln!(
+                out,
+                "{}",
+                serde_json::json!({"found": false, "result": "none", "complete": true, "reason": reason, "designs": []})
+            )?;
+        } else {
+            writeln!(out, "Nothing can meet this target: {reason}.")?;
+        }
+        return Ok(Status::NotMet);
+    }
     let outcome = solve(&parts, &goal, &settings).context("search")?;
-    let advice = if outcome.designs.is_empty() {
+    // A search stopped by the clock proved nothing about "nothing fits": no closest design or
+    // purchase is offered for it.
+    let advice = if outcome.designs.is_empty() && outcome.complete {
         // The advice shares the command's time budget: what the search left, at least a second.
         let spent = Duration::from_secs_f64(outcome.seconds);
         let rest = settings
@@ -288,10 +338,10 @@ pub fn run(args: FindArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status>
             writeln!(out, "Build sheet written: {}", f.display())?;
         }
     }
-    Ok(if outcome.designs.is_empty() {
-        Status::NotMet
-    } else {
-        Status::Success
+    Ok(match (outcome.designs.is_empty(), outcome.complete) {
+        (false, _) => Status::Success,
+        (true, true) => Status::NotMet,
+        (true, false) => Status::Stopped,
     })
 }
 
@@ -619,11 +669,30 @@ mod files {
     }
 }
 
+/// A bare number where a unit is needed is refused rather than read in seconds or hertz.
+fn needs_unit(text: &str, example: &str) -> Result<()> {
+    let t = text.trim();
+    if !t.is_empty() && t.parse::<f64>().is_ok() {
+        bail!("{t} what? give a unit, e.g. {t}{example}");
+    }
+    Ok(())
+}
+
+fn parse_seconds(s: &str) -> Result<f64> {
+    needs_unit(s, "ms")?;
+    Ok(parse_time(s).map_err(|e| anyhow!(e))?.si())
+}
+
+fn parse_hertz(s: &str) -> Result<f64> {
+    needs_unit(s, "Hz")?;
+    Ok(parse_frequency(s).map_err(|e| anyhow!(e))?.si())
+}
+
 fn goal_of(t: &Target, tol: f64) -> Result<Goal> {
-    let time = |s: &str| -> Result<f64> { Ok(parse_time(s).map_err(|e| anyhow!(e))?.si()) };
+    let time = |s: &str| parse_seconds(s);
     let period_of = |freq: &Option<String>, period: &Option<String>| -> Result<f64> {
         match (freq, period) {
-            (Some(f), None) => Ok(1.0 / parse_frequency(f).map_err(|e| anyhow!(e))?.si()),
+            (Some(f), None) => Ok(1.0 / parse_hertz(f)?),
             (None, Some(p)) => time(p),
             _ => bail!("give a frequency or --period"),
         }
@@ -689,13 +758,13 @@ pub(crate) fn stage_of(text: &str) -> Result<StageGoal> {
     let mut it = text.split(':');
     let form = it.next().unwrap_or_default().trim().to_ascii_lowercase();
     let rest: Vec<&str> = it.collect();
-    let time = |s: &str| -> Result<f64> { Ok(parse_time(s).map_err(|e| anyhow!(e))?.si()) };
+    let time = |s: &str| parse_seconds(s);
     // A value ending in "s" is a period; otherwise a frequency.
     let period = |s: &str| -> Result<f64> {
         if s.trim().ends_with('s') {
             time(s)
         } else {
-            Ok(1.0 / parse_frequency(s).map_err(|e| anyhow!(e))?.si())
+            Ok(1.0 / parse_hertz(s)?)
         }
     };
     let need = |n: usize| -> Result<()> {

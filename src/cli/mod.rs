@@ -35,6 +35,8 @@ pub enum Status {
     /// Ran correctly but the answer is "no" (nothing in stock meets the target, a check failed);
     /// exit 1.
     NotMet,
+    /// Stopped at a time limit before anything was found or ruled out; exit 3.
+    Stopped,
 }
 
 /// onhand — design and repair 555/556 timer circuits from the parts you actually have.
@@ -220,6 +222,7 @@ where
     match result {
         Ok(Status::Success) => 0,
         Ok(Status::NotMet) => 1,
+        Ok(Status::Stopped) => 3,
         Err(e) if is_broken_pipe(&e) => 0,
         Err(e) => {
             report_error(json, error_code(&e), &format!("{e:#}"));

@@ -92,6 +92,27 @@ impl Net {
         if top { joined } else { format!("({joined})") }
     }
 
+    /// The network in the grammar `onhand check` reads: `+` series, `||` parallel, parentheses
+    /// around every inner group (`(10kΩ||10kΩ)+1kΩ`). For machines and for handing a found
+    /// design to `check`; people read [`Net::describe`].
+    pub fn expression(&self, name: &dyn Fn(usize) -> String) -> String {
+        self.expression_inner(name, true)
+    }
+
+    fn expression_inner(&self, name: &dyn Fn(usize) -> String, top: bool) -> String {
+        let (parts, sep) = match self {
+            Net::Piece(i) => return name(*i),
+            Net::Series(ch) => (ch, "+"),
+            Net::Parallel(ch) => (ch, "||"),
+        };
+        let inner: Vec<String> = parts
+            .iter()
+            .map(|c| c.expression_inner(name, false))
+            .collect();
+        let joined = inner.join(sep);
+        if top { joined } else { format!("({joined})") }
+    }
+
     /// How the pieces are wired, without their values: "single", "2 in series",
     /// "2 in parallel", "(2 in parallel) in series with 1", …
     pub fn wiring(&self) -> String {

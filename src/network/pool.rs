@@ -79,13 +79,35 @@ pub struct Pool {
 /// window, so this only guards against rounding in the inverted windows.
 const SLACK: f64 = 1e-9;
 
+/// Relative widening of every window a caller hands to [`Pool::walk`] (also after each
+/// [`Step::Go`]): networks a hair outside it are handed over too, and the caller's exact test
+/// decides. A window computed through divisions and logarithms (a duty of exactly 75 %, a
+/// resistance of exactly 1005 Ω for 1 kΩ ± 0.5 %) can land a rounding error inside the part it
+/// should admit; a millionth is far above any rounding and far below any tolerance.
+pub const WIDEN: f64 = 1e-6;
+
+#[inline]
+fn widen(lo: f64, hi: f64) -> (f64, f64) {
+    (lo * (1.0 - WIDEN), hi * (1.0 + WIDEN))
+}
+
 impl Pool {
     /// A pool of these rows (rows with nothing available are dropped).
-    pub fn new(mut items: Vec<Item>) -> Self {
+    pub fn new(items: Vec<Item>) -> Self {
+        Self::with_pairs(items, true)
+    }
+
+    /// A pool of these rows; without `pairs` the two-piece lists stay empty (memory grows with
+    /// the square of the rows), so only walks of one piece may be asked of it.
+    pub fn with_pairs(mut items: Vec<Item>, pairs: bool) -> Self {
         items.retain(|i| i.avail > 0 && i.value > 0.0 && i.value.is_finite());
         items.sort_by(|x, y| x.value.total_cmp(&y.value).then(x.row.cmp(&y.row)));
+        let want = pairs;
         let mut pairs = [Vec::new(), Vec::new()];
         for (k, op) in Op::BOTH.iter().enumerate() {
+            if !want {
+                break;
+            }
             let list = &mut pairs[k];
             for a in 0..items.len() {
                 for b in a..items.len() {
@@ -193,6 +215,7 @@ impl Pool {
         if lo > hi || self.items.is_empty() {
             return true;
         }
+        let (lo, hi) = widen(lo, hi);
         let mut w = Walk {
             pool: self,
             lo,
@@ -260,8 +283,7 @@ impl Walk<'_, '_, '_, '_> {
         let c = Cand { shape, idx, value };
         match (self.f)(&c, self.used) {
             Step::Go(lo, hi) => {
-                self.lo = lo;
-                self.hi = hi;
+                (self.lo, self.hi) = if lo > hi { (lo, hi) } else { widen(lo, hi) };
                 // An empty window can hold nothing more: finish early, not aborted.
                 if lo
                     .partial_cmp(&hi)

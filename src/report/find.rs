@@ -104,6 +104,9 @@ pub(crate) fn quantity_line(q: &Quantity) -> String {
         }
     };
     let mut s = format!("{:<9} {}", q.name, v(q.nominal));
+    if q.band_lo < q.nominal || q.band_hi > q.nominal {
+        s += &format!(" (model band {} … {})", v(q.band_lo), v(q.band_hi));
+    }
     if let (Some(t), Some(e)) = (q.target, q.error) {
         s += &format!("  (target {}, off {})", v(t), pct(e));
     } else if let Some((lo, hi)) = q.window {
@@ -176,10 +179,50 @@ pub(crate) fn write_design(
     Ok(())
 }
 
+/// Which model the numbers come from, in words (the header of every find report).
+pub(crate) fn describe_model(m: &crate::timing::Model) -> String {
+    use crate::timing::DiodeModel;
+    if *m == crate::timing::Model::ideal() {
+        return "ideal (textbook closed forms, no diode drop or other effect)".into();
+    }
+    let diode = match m.diode {
+        DiodeModel::Ideal => "steering diodes ideal (no drop)".to_string(),
+        DiodeModel::Fixed(v) => format!("steering diodes a fixed {v} drop"),
+        DiodeModel::SmallSignal => {
+            "steering diodes small-signal silicon (current-dependent)".into()
+        }
+    };
+    let mut on = vec![diode];
+    for (flag, what) in [
+        (m.output_drop, "output-high drop"),
+        (m.saturation, "discharge saturation"),
+        (m.bias_currents, "pin bias currents (band)"),
+        (m.dc_bias, "class-2 DC-bias loss (band)"),
+    ] {
+        if flag {
+            on.push(what.to_string());
+        }
+    }
+    format!("real parts: {}", on.join(", "))
+}
+
+/// A network as `onhand check` reads it for a position: `150kΩ+820kΩ`, `(10nF||2.2nF)+1nF`.
+pub(crate) fn expression(parts: &[Part], p: &crate::solve::Position) -> String {
+    let leaf = |i: usize| match p.rows.get(i).and_then(|&r| parts.get(r)).map(|pt| pt.value) {
+        Some(Value::Resistance(r)) => r.to_string().replace(' ', ""),
+        Some(Value::Capacitance(c)) => c.to_string().replace(' ', ""),
+        _ => "?".into(),
+    };
+    p.net.expression(&leaf)
+}
+
 /// Plain text.
 pub fn text(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
     let o = v.outcome;
     writeln!(out, "Looking for: {}", describe_goal(v.goal, v.settings))?;
+    if matches!(v.goal, Goal::Stages(_)) {
+        writeln!(out, "Model: {}", describe_model(&v.settings.model))?;
+    }
     let stages = match v.goal {
         Goal::Stages(s) => s.len(),
         Goal::Value { .. } => 1,
@@ -187,12 +230,12 @@ pub fn text(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
     if !o.complete {
         writeln!(
             out,
-            "Search stopped at the time limit after {:.1} s: no design with fewer than {} \
-             pieces exists; {}",
+            "Search stopped at the time limit after {:.1} s. Proven so far: {}; {}",
             o.seconds,
-            o.no_design_below,
+            proven(o),
             if o.designs.is_empty() {
-                "nothing was found in the time given."
+                "no design was found in the time given, which does NOT mean none exists \
+                 (raise --time-limit)."
             } else {
                 "the designs below are the best found so far, and one with smaller error \
                  (and as few pieces as that bound) may exist."
@@ -215,16 +258,8 @@ pub fn text(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
         )?;
         write_design(out, v.parts, d, stages)?;
     }
-    if o.designs.is_empty() {
-        writeln!(
-            out,
-            "\nNothing in stock meets the target{}.",
-            if o.complete {
-                ""
-            } else {
-                " within the time limit"
-            }
-        )?;
+    if o.designs.is_empty() && o.complete {
+        writeln!(out, "\nNothing in stock meets the target.")?;
         if !o.refused.is_empty() {
             let why: Vec<String> = o.refused.iter().map(|(c, n)| format!("{c} ×{n}")).collect();
             writeln!(
@@ -262,17 +297,24 @@ pub fn text(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
                 }
                 None => writeln!(
                     out,
-                    "No design from stock comes near the target within the electrical checks."
+                    "The target is out of this stock's reach: no design from stock that passes \
+                     the electrical checks comes within {:.0} % of it{}; a different capacitor \
+                     decade or circuit is needed, not a nearby part.",
+                    crate::solve::suggest::FAR_OFF * 100.0,
+                    a.far_off
+                        .map(|e| format!(" (the closest is {} off)", pct(e)))
+                        .unwrap_or_default()
                 )?,
             }
             match &a.purchase {
                 Some(p) => {
-                    writeln!(
-                        out,
-                        "\nBuy one value to fix it: {} ({:?}); then:",
-                        format_sig(p.value, 3, unit(p.kind)),
-                        p.series
-                    )?;
+                    let what = format_sig(p.value, 3, unit(p.kind));
+                    let how_many = if p.pieces == 1 {
+                        format!("one {what}")
+                    } else {
+                        format!("{} × {what} (one value, {} pieces)", p.pieces, p.pieces)
+                    };
+                    writeln!(out, "\nBuy {how_many} ({:?}) to fix it; then:", p.series)?;
                     let mut with = v.parts.to_vec();
                     with.push(bought_row(p));
                     write_design(out, &with, &p.design, stages)?;
@@ -293,6 +335,28 @@ pub fn text(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
         )?;
     }
     Ok(())
+}
+
+/// What a stopped search proved, in words.
+fn proven(o: &Outcome) -> String {
+    if o.no_design_below <= 1 {
+        "nothing yet".to_string()
+    } else {
+        format!(
+            "no design with fewer than {} pieces exists",
+            o.no_design_below
+        )
+    }
+}
+
+/// The result in one word for JSON: `found`, `none` (proven: nothing meets the target) or
+/// `time_limit` (stopped before anything was found or ruled out).
+fn result_word(o: &Outcome) -> &'static str {
+    match (o.designs.is_empty(), o.complete) {
+        (false, _) => "found",
+        (true, true) => "none",
+        (true, false) => "time_limit",
+    }
 }
 
 /// A stand-in row for a purchased part so its piece can be labelled (the design's rows index
@@ -346,6 +410,8 @@ struct JPosition<'a> {
     network: String,
     /// How the pieces are wired, in words ("2 in parallel").
     wiring: String,
+    /// The network as `onhand check` reads it for this position.
+    expression: String,
     value: f64,
     worst_lo: f64,
     worst_hi: f64,
@@ -387,6 +453,7 @@ pub(crate) fn jdesign<'a>(parts: &'a [Part], rank: usize, d: &'a Design) -> JDes
                         .unwrap_or_else(|| "(to buy)".into())
                 }),
                 wiring: p.net.wiring(),
+                expression: expression(parts, p),
                 value: p.value,
                 worst_lo: p.lo,
                 worst_hi: p.hi,
@@ -421,6 +488,7 @@ pub fn json(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
         kind: Kind,
         value: f64,
         series: String,
+        pieces: usize,
         design: JDesign<'a>,
     }
     #[derive(Serialize)]
@@ -428,17 +496,22 @@ pub fn json(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
         goal: &'a Goal,
         tolerance: f64,
         family: &'a str,
+        model: &'a crate::timing::Model,
+        model_text: String,
         vcc: f64,
         max_pieces: usize,
         guarantee: bool,
         found: bool,
+        result: &'static str,
         complete: bool,
+        stopped_at_time_limit: bool,
         no_design_below: usize,
         seconds: f64,
         networks_seen: u64,
         refused: &'a [(String, u64)],
         designs: Vec<JDesign<'a>>,
         closest: Option<JDesign<'a>>,
+        closest_too_far_off: Option<f64>,
         purchase: Option<JPurchase<'a>>,
     }
     let o = v.outcome;
@@ -446,11 +519,15 @@ pub fn json(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
         goal: v.goal,
         tolerance: v.settings.tol,
         family: v.settings.family.name,
+        model: &v.settings.model,
+        model_text: describe_model(&v.settings.model),
         vcc: v.settings.conditions.vcc.si(),
         max_pieces: v.settings.max_pieces,
         guarantee: v.settings.guarantee,
         found: !o.designs.is_empty(),
+        result: result_word(o),
         complete: o.complete,
+        stopped_at_time_limit: !o.complete,
         no_design_below: o.no_design_below,
         seconds: o.seconds,
         networks_seen: o.networks_seen,
@@ -465,6 +542,7 @@ pub fn json(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
             .advice
             .and_then(|a| a.closest.as_ref())
             .map(|d| jdesign(v.parts, 0, d)),
+        closest_too_far_off: v.advice.and_then(|a| a.far_off),
         purchase: v
             .advice
             .and_then(|a| a.purchase.as_ref())
@@ -472,6 +550,7 @@ pub fn json(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
                 kind: p.kind,
                 value: p.value,
                 series: format!("{:?}", p.series),
+                pieces: p.pieces,
                 design: jdesign(v.parts, 0, &p.design),
             }),
     };

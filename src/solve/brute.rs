@@ -5,11 +5,12 @@
 //! tests and the benchmark compare the search against it.
 
 use super::admit::{self, CapFacts, Stage};
-use super::goal::{Duty, Goal, Settings, StageGoal};
+use super::goal::{Goal, Settings, StageGoal};
+use super::judge;
 use crate::model::{Kind, Part, Technology, Value};
 use crate::network::{Combine, Net};
-use crate::timing::Conditions;
-use crate::units::{Farads, Ohms, Volts};
+use crate::timing::{Conditions, evaluate};
+use crate::units::{Farads, Ohms};
 
 /// A network found by the brute force.
 #[derive(Debug, Clone)]
@@ -156,7 +157,7 @@ fn all_nets(parts: &[Part], rows: &[usize], combine: Combine, k: usize) -> Vec<B
 }
 
 fn within(x: f64, t: f64, tol: f64) -> bool {
-    x >= t * (1.0 - tol) && x <= t * (1.0 + tol)
+    super::goal::inside(x, t * (1.0 - tol), t * (1.0 + tol))
 }
 
 /// The best (fewest pieces, then smallest error) design by brute force, or None.
@@ -267,131 +268,65 @@ fn enumerate<'n>(
     }
 }
 
-/// The stage's error if it meets its targets and the electrical checks, else None.
+/// The stage's error if it meets its targets and the electrical checks, else None: the
+/// evaluator's numbers, judged by the same rule as the search (`judge`).
 fn stage_error(parts: &[Part], g: &StageGoal, nets: &[&BNet], s: &Settings) -> Option<f64> {
-    let tol = s.tol;
-    let mut cond: Conditions = s.conditions;
-    if let StageGoal::Square { .. } = g {
-        cond.output_high_drop =
-            Volts::from_si(s.family.output_high_drop.value).unwrap_or(Volts::ZERO);
-    }
-    let f = cond.factors().ok()?;
+    let cond: Conditions = s.conditions;
     let ie = match g {
         StageGoal::Pulse { .. } => s.family.error_one_shot.value,
         _ => s.family.error_astable.value,
     };
-    let rel = |x: f64, t: f64| ((x - t) / t).abs();
-    // Check a time: nominal in the window, and with guarantee the worst case too.
-    let time_ok = |nom: f64, lo: f64, hi: f64, t: f64| {
-        if s.guarantee {
-            within(lo * (1.0 - ie), t, tol) && within(hi * (1.0 + ie), t, tol)
-        } else {
-            within(nom, t, tol)
-        }
-    };
     let c = nets[nets.len() - 1];
-    let err = match *g {
-        StageGoal::Pulse { width } => {
-            let r = nets[0];
-            let k = f.one_shot;
-            if !time_ok(
-                k * r.value * c.value,
-                k * r.lo * c.lo,
-                k * r.hi * c.hi,
-                width,
-            ) {
-                return None;
-            }
-            rel(k * r.value * c.value, width)
-        }
-        StageGoal::Square { period } => {
-            let r = nets[0];
-            let k = f.square_high + f.square_low;
-            if !time_ok(
-                k * r.value * c.value,
-                k * r.lo * c.lo,
-                k * r.hi * c.hi,
-                period,
-            ) {
-                return None;
-            }
-            rel(k * r.value * c.value, period)
-        }
-        StageGoal::Steered { high, low } => {
-            let (ra, rb) = (nets[0], nets[1]);
-            let (kh, kl) = (f.steered_charge, f.steered_discharge);
-            let h = kh * ra.value * c.value;
-            let l = kl * rb.value * c.value;
-            if !time_ok(h, kh * ra.lo * c.lo, kh * ra.hi * c.hi, high)
-                || !time_ok(l, kl * rb.lo * c.lo, kl * rb.hi * c.hi, low)
-            {
-                return None;
-            }
-            rel(h, high).max(rel(l, low))
-        }
-        StageGoal::Astable { period, duty } => {
-            let (r1, r2) = (nets[0], nets[1]);
-            let high = |a: f64, b: f64, cc: f64| f.charge * (a + b) * cc;
-            let low = |b: f64, cc: f64| f.discharge * b * cc;
-            let h = high(r1.value, r2.value, c.value);
-            let l = low(r2.value, c.value);
-            let p = h + l;
-            let d = h / p;
-            let plo = high(r1.lo, r2.lo, c.lo) + low(r2.lo, c.lo);
-            let phi = high(r1.hi, r2.hi, c.hi) + low(r2.hi, c.hi);
-            if !time_ok(p, plo, phi, period) {
-                return None;
-            }
-            // Duty is lowest with R1 low and R2 high, highest the other way round.
-            let dlo = {
-                let hh = high(r1.lo, r2.hi, 1.0);
-                hh / (hh + low(r2.hi, 1.0))
-            };
-            let dhi = {
-                let hh = high(r1.hi, r2.lo, 1.0);
-                hh / (hh + low(r2.lo, 1.0))
-            };
-            let mut e = rel(p, period);
-            match duty {
-                Duty::Any => {}
-                Duty::Range(a, b) => {
-                    if d < a || d > b || (s.guarantee && (dlo < a || dhi > b)) {
-                        return None;
-                    }
-                }
-                Duty::Point(dt) => {
-                    let ok = if s.guarantee {
-                        within(dlo, dt, tol) && within(dhi, dt, tol)
-                    } else {
-                        within(d, dt, tol)
-                    };
-                    if !ok {
-                        return None;
-                    }
-                    e = e.max(rel(d, dt));
-                }
-            }
-            e
-        }
-    };
     let cap_rows = &c.rows;
+    // The least suitable dielectric among the pieces decides (electrolytic, then class 2).
     let tech = cap_rows
         .iter()
         .map(|&r| parts[r].technology)
-        .find(|t| t.is_electrolytic())
+        .max_by_key(|t| match t {
+            Technology::Tantalum | Technology::Electrolytic => 3,
+            Technology::Y5v | Technology::Other => 2,
+            Technology::X7r => 1,
+            _ => 0,
+        })
         .unwrap_or(Technology::Film);
-    let stage = Stage {
+    let facts = CapFacts {
+        technology: tech,
+        voltage_rating: None,
+        tolerance: parts[cap_rows[0]].tolerance,
+    };
+    // 0 nominal, 1 lowest, 2 highest, per position.
+    let pick = |n: &BNet, at: u8| match at {
+        1 => n.lo,
+        2 => n.hi,
+        _ => n.value,
+    };
+    let stage = |at: [u8; 3]| Stage {
         form: g.form(),
-        r1: Ohms::from_si(nets[0].value).unwrap_or(Ohms::ZERO),
-        r2: (nets.len() == 3).then(|| Ohms::from_si(nets[1].value).unwrap_or(Ohms::ZERO)),
-        c: Farads::from_si(c.value).unwrap_or(Farads::ZERO),
-        cap: Some(CapFacts {
-            technology: tech,
-            voltage_rating: None,
-            tolerance: parts[cap_rows[0]].tolerance,
-        }),
+        r1: Ohms::from_si(pick(nets[0], at[0])).unwrap_or(Ohms::ZERO),
+        r2: (nets.len() == 3).then(|| Ohms::from_si(pick(nets[1], at[1])).unwrap_or(Ohms::ZERO)),
+        c: Farads::from_si(pick(c, at[2])).unwrap_or(Farads::ZERO),
+        cap: Some(facts),
         conditions: cond,
         steering: crate::timing::Steering::default(),
     };
-    admit::admissible(&stage, &s.family).then_some(err)
+    let ev = |at: [u8; 3]| evaluate(&stage(at), &s.family, &s.model).ok();
+    let nominal = ev([0; 3])?;
+    let err = judge::judge(g, &nominal, None, s.tol)?;
+    if s.guarantee {
+        // Every corner: R1 (or R), R2 when the form has one, and C, each lowest or highest.
+        let mut evals = Vec::new();
+        for mask in 0..8u8 {
+            if nets.len() < 3 && mask & 2 != 0 {
+                continue;
+            }
+            evals.push(ev([
+                1 + (mask & 1),
+                1 + ((mask >> 1) & 1),
+                1 + ((mask >> 2) & 1),
+            ])?);
+        }
+        let w = judge::worst_of(&evals, ie)?;
+        judge::judge(g, &nominal, Some(&w), s.tol)?;
+    }
+    admit::admissible(&stage([0; 3]), &s.family).then_some(err)
 }

@@ -22,6 +22,26 @@ use crate::timing::Conditions;
 use serde::Serialize;
 use std::time::Duration;
 
+/// Relative allowance for floating-point rounding when a result is tested against its window:
+/// results are computed through logarithms and divisions, and a design exactly on the edge (a
+/// duty of exactly 75 %, 1005 Ω for 1 kΩ ± 0.5 %) must not be lost to the last bit. A
+/// billionth is far below any part's or target's resolution. The search and the brute force
+/// share this test.
+pub const ROUNDING: f64 = 1e-9;
+
+/// Whether `x` lies in `[lo, hi]`, allowing [`ROUNDING`].
+#[inline]
+pub fn inside(x: f64, lo: f64, hi: f64) -> bool {
+    x >= lo - ROUNDING * lo.abs() && x <= hi + ROUNDING * hi.abs()
+}
+
+/// Whether a relative error `err` is no more than `bound`, allowing [`ROUNDING`] (to first
+/// order the same allowance as [`inside`]; a negative bound admits nothing).
+#[inline]
+pub fn no_worse(err: f64, bound: f64) -> bool {
+    bound >= 0.0 && err <= bound + ROUNDING
+}
+
 /// The duty-cycle requirement of an astable.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 #[serde(rename_all = "snake_case")]
@@ -124,6 +144,9 @@ pub struct Settings {
     pub guarantee: bool,
     /// Timer family.
     pub family: Family,
+    /// Which effects beyond the ideal closed forms the evaluator includes (default: all, the
+    /// real board; `Model::ideal()` is the textbook).
+    pub model: crate::timing::Model,
     /// Supply and refinements (the square form adds the family's output drop itself).
     pub conditions: Conditions,
     /// Capacitor technologies allowed (None: all).
@@ -168,8 +191,12 @@ pub struct Quantity {
     pub unit: &'static str,
     /// The target, when this quantity has one.
     pub target: Option<f64>,
-    /// Nominal.
+    /// Nominal: what the model predicts.
     pub nominal: f64,
+    /// Lowest value the model's effects allow with every part at its nominal value.
+    pub band_lo: f64,
+    /// Highest value the model's effects allow with every part at its nominal value.
+    pub band_hi: f64,
     /// The interval this quantity must lie in (a hard constraint), when it has one.
     pub window: Option<(f64, f64)>,
     /// Relative error of the nominal against the target.
@@ -187,6 +214,8 @@ pub struct StageReport {
     pub form: Option<Form>,
     /// The quantities.
     pub quantities: Vec<Quantity>,
+    /// The model's effects the evaluator used, each with its figure and where it comes from.
+    pub effects: Vec<crate::timing::Effect>,
     /// Warnings and cautions from the electrical checks (errors never appear: such designs are
     /// refused).
     pub findings: Vec<Finding>,

@@ -9,6 +9,7 @@ pub mod admit;
 pub mod allocate;
 pub mod brute;
 pub mod goal;
+pub mod judge;
 pub mod kits;
 pub mod plan;
 pub mod reach;

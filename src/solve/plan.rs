@@ -696,6 +696,8 @@ mod tests {
                 guarantee: false,
                 family: Family::bipolar(),
                 conditions: Conditions::ideal(Volts::from_si(9.0).expect("volts")),
+                // The textbook model: these tests are about the plan, not the physics.
+                model: crate::timing::Model::ideal(),
                 cap_techs: None,
                 min_cap_rating: None,
                 time_limit: None,

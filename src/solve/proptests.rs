@@ -86,6 +86,7 @@ fn settings(tol_pct: f64, k: usize, alternatives: usize, guarantee: bool) -> Set
         alternatives,
         guarantee,
         family: Family::bipolar(),
+        model: crate::timing::Model::ideal(),
         conditions: Conditions::ideal(Volts::from_si(9.0).expect("volts")),
         cap_techs: Some(vec![Technology::Film, Technology::C0g]),
         min_cap_rating: Some(9.0),
@@ -133,7 +134,9 @@ fn recheck(parts: &[Part], d: &Design) {
         for q in &s.quantities {
             if let Some((lo, hi)) = q.window {
                 assert!(
-                    q.nominal >= lo * (1.0 - 1e-12) && q.nominal <= hi * (1.0 + 1e-12),
+                    super::goal::inside(q.nominal, lo, hi)
+                        && super::goal::inside(q.band_lo, lo, hi)
+                        && super::goal::inside(q.band_hi, lo, hi),
                     "{} {} outside {lo}..{hi}",
                     q.name,
                     q.nominal
@@ -383,5 +386,352 @@ proptest! {
             StageGoal::Pulse { width: 3f64.ln() * x(&r.2) * y(&c.1) },
         ]);
         compare(&parts, &goal, &settings(tol, k, 2, false))?;
+    }
+}
+
+/// The same stock spread over more rows: every row with `n` free pieces becomes up to three
+/// rows (other bins) whose free pieces add up to `n`; held pieces are folded away so both
+/// stocks offer exactly the same free counts.
+fn spread_rows(parts: &[Part], ways: &[usize]) -> (Vec<Part>, Vec<Part>) {
+    let mut base = Vec::new();
+    let mut spread = Vec::new();
+    for (i, p) in parts.iter().enumerate() {
+        let free = p.available();
+        let mut one = p.clone();
+        one.quantity = free;
+        one.held = 0;
+        base.push(one.clone());
+        let w = ways.get(i).copied().unwrap_or(1).clamp(1, 3) as i64;
+        let w = w.min(free.max(1));
+        let mut left = free;
+        for k in 0..w {
+            let q = if k + 1 == w { left } else { free / w };
+            left -= q;
+            let mut row = one.clone();
+            row.id = one.id * 10 + k;
+            row.bin = format!("{}-{k}", one.bin);
+            row.quantity = q;
+            spread.push(row);
+        }
+    }
+    (base, spread)
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 150, ..ProptestConfig::default() })]
+
+    /// Identical parts in several bins search as one class: the answers on the spread stock
+    /// equal those on the stock with one row per part (pieces, error, every network's value and
+    /// the ranking keys), and every piece is assigned to a row that has it.
+    #[test]
+    fn spread_stock_gives_the_same_answers(
+        rs in prop::collection::vec(resistor(), 2..6),
+        cs in prop::collection::vec(capacitor(), 1..4),
+        ways in prop::collection::vec(1..4usize, 12),
+        r1 in any::<prop::sample::Index>(),
+        r2 in any::<prop::sample::Index>(),
+        c in any::<prop::sample::Index>(),
+        shift in -1.6f64..1.6,
+        astable in any::<bool>(),
+        k in 1..4usize,
+    ) {
+        let (base, spread) = spread_rows(&drawer(&rs, &cs), &ways);
+        let res = of_kind(&base, Kind::Resistor);
+        let caps = of_kind(&base, Kind::Capacitor);
+        let (x1, x2) = (val(res[r1.index(res.len())]), val(res[r2.index(res.len())]));
+        let y = val(caps[c.index(caps.len())]);
+        let m = 1.0 + shift / 100.0;
+        // DESIGN physics table: ideal one-shot ln 3 · R · C; astable ln 2 · (R1 + 2 R2) · C.
+        let g = if astable {
+            StageGoal::Astable { period: 2f64.ln() * (x1 + 2.0 * x2) * y * m, duty: Duty::Any }
+        } else {
+            StageGoal::Pulse { width: 3f64.ln() * (x1 + x2) * y * m }
+        };
+        let goal = Goal::Stages(vec![g]);
+        let s = settings(1.0, k.min(if astable { 2 } else { 3 }), 3, false);
+        let a = solve(&base, &goal, &s).expect("search runs");
+        let b = solve(&spread, &goal, &s).expect("search runs");
+        prop_assert_eq!(a.designs.len(), b.designs.len());
+        for (da, db) in a.designs.iter().zip(&b.designs) {
+            recheck(&spread, db);
+            prop_assert_eq!(da.pieces, db.pieces);
+            prop_assert_eq!(da.error, db.error);
+            prop_assert_eq!(da.tolerance_sum, db.tolerance_sum);
+            prop_assert_eq!(da.scarcity, db.scarcity);
+            let va: Vec<f64> = da.positions.iter().map(|p| p.value).collect();
+            let vb: Vec<f64> = db.positions.iter().map(|p| p.value).collect();
+            prop_assert_eq!(va, vb);
+        }
+    }
+}
+
+#[test]
+fn too_many_distinct_values_for_pairs_is_refused_not_swallowed() {
+    // 2 500 distinct resistor values: pairs of them would need about 100 MB, so k ≥ 2 says why;
+    // single pieces still search.
+    let mut parts: Vec<Part> = (0..2500)
+        .map(|i| {
+            part(
+                i,
+                Kind::Resistor,
+                1000.0 + i as f64,
+                1.0,
+                1,
+                0,
+                Technology::MetalFilm,
+            )
+        })
+        .collect();
+    parts.push(part(
+        9000,
+        Kind::Capacitor,
+        100e-9,
+        5.0,
+        1,
+        0,
+        Technology::Film,
+    ));
+    let goal = Goal::Value {
+        kind: Kind::Resistor,
+        target: 2000.0,
+    };
+    let refused = solve(&parts, &goal, &settings(1.0, 2, 1, false));
+    assert!(
+        matches!(&refused, Err(super::goal::SolveError::Invalid(m)) if m.contains("distinct")),
+        "{refused:?}"
+    );
+    let single = solve(&parts, &goal, &settings(1.0, 1, 1, false)).expect("k = 1 runs");
+    assert_eq!(single.designs.first().map(|d| d.pieces), Some(1));
+}
+
+fn edge_settings(tol_pct: f64, k: usize) -> Settings {
+    settings(tol_pct, k, 1, false)
+}
+
+#[test]
+fn duty_exactly_on_the_window_edge_is_found() {
+    // Three 10 kΩ and one 100 nF: R1 = 10k + 10k, R2 = 10k gives duty (R1 + R2)/(R1 + 2 R2)
+    // = 3/4 exactly and f = 1/(ln 2 · 40 kΩ · 100 nF) ≈ 360.674 Hz (DESIGN physics table, ideal).
+    let parts = vec![
+        part(1, Kind::Resistor, 10e3, 1.0, 3, 0, Technology::MetalFilm),
+        part(2, Kind::Capacitor, 100e-9, 5.0, 1, 0, Technology::Film),
+    ];
+    let goal = Goal::Stages(vec![StageGoal::Astable {
+        period: 1.0 / 360.674,
+        duty: Duty::Range(0.60, 0.75),
+    }]);
+    let s = edge_settings(1.0, 3);
+    let out = solve(&parts, &goal, &s).expect("search runs");
+    assert_eq!(out.designs.first().map(|d| d.pieces), Some(4), "{out:?}");
+    assert_eq!(brute_best(&parts, &goal, &s).map(|b| b.pieces), Some(4));
+}
+
+#[test]
+fn three_piece_design_on_the_duty_edge_beats_seven() {
+    // One each of 1.1k, 2.2k, 3.3k, 4.7k, 6.8k, 100n, 220n, 470n: R1 = 2.2k, R2 = 1.1k, C = 220n
+    // gives duty exactly 75 % and 1/(ln 2 · 4.4 kΩ · 220 nF) ≈ 1490.39 Hz (DESIGN physics
+    // table, ideal model).
+    let mut parts: Vec<Part> = [1.1e3, 2.2e3, 3.3e3, 4.7e3, 6.8e3]
+        .iter()
+        .enumerate()
+        .map(|(i, &v)| {
+            part(
+                1 + i as i64,
+                Kind::Resistor,
+                v,
+                1.0,
+                1,
+                0,
+                Technology::MetalFilm,
+            )
+        })
+        .collect();
+    for (i, v) in [100e-9, 220e-9, 470e-9].iter().enumerate() {
+        // ids 10, 12, 15: a known rating of 16 V or none (see `part`), never 6.3 V.
+        let id = [10, 12, 15][i];
+        parts.push(part(id, Kind::Capacitor, *v, 5.0, 1, 0, Technology::Film));
+    }
+    let goal = Goal::Stages(vec![StageGoal::Astable {
+        period: 1.0 / 1490.39,
+        duty: Duty::Range(0.70, 0.75),
+    }]);
+    let s = edge_settings(0.2, 3);
+    let out = solve(&parts, &goal, &s).expect("search runs");
+    let best = out.designs.first().expect("a design");
+    assert_eq!(best.pieces, 3, "{best:?}");
+    assert_eq!(brute_best(&parts, &goal, &s).map(|b| b.pieces), Some(3));
+}
+
+#[test]
+fn value_exactly_on_the_window_edge_is_found() {
+    // 1 kΩ ± 0.5 % admits 995 Ω … 1005 Ω, both ends included.
+    for v in [1005.0, 995.0] {
+        let parts = vec![part(1, Kind::Resistor, v, 1.0, 1, 0, Technology::MetalFilm)];
+        let goal = Goal::Value {
+            kind: Kind::Resistor,
+            target: 1000.0,
+        };
+        let s = edge_settings(0.5, 1);
+        let out = solve(&parts, &goal, &s).expect("search runs");
+        assert_eq!(out.designs.first().map(|d| d.pieces), Some(1), "{v} Ω");
+        assert_eq!(brute_best(&parts, &goal, &s).map(|b| b.pieces), Some(1));
+    }
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 150, ..ProptestConfig::default() })]
+
+    /// Targets placed exactly on a window edge: a value whose window ends at a stocked network,
+    /// and an astable whose duty window ends at a design's duty. Search and brute force agree.
+    #[test]
+    fn window_edges_match_brute_force(
+        rs in prop::collection::vec(resistor(), 2..6),
+        cs in prop::collection::vec(capacitor(), 1..4),
+        r1 in any::<prop::sample::Index>(),
+        r2 in any::<prop::sample::Index>(),
+        c in any::<prop::sample::Index>(),
+        upper in any::<bool>(),
+        tol in prop::sample::select(vec![0.5, 1.0, 2.0]),
+        k in 1..3usize,
+        value in any::<bool>(),
+    ) {
+        let parts = drawer(&rs, &cs);
+        let res = of_kind(&parts, Kind::Resistor);
+        let (x1, x2) = (val(res[r1.index(res.len())]), val(res[r2.index(res.len())]));
+        let t = tol / 100.0;
+        if value {
+            // The network x1 + x2 sits exactly on the lower or upper edge of the window.
+            let target = (x1 + x2) / if upper { 1.0 + t } else { 1.0 - t };
+            let goal = Goal::Value { kind: Kind::Resistor, target };
+            compare(&parts, &goal, &settings(tol, k.max(2), 1, false))?;
+        } else {
+            let caps = of_kind(&parts, Kind::Capacitor);
+            let y = val(caps[c.index(caps.len())]);
+            // DESIGN physics table: period ln 2 · (R1 + 2 R2) · C, duty (R1 + R2)/(R1 + 2 R2).
+            let d = (x1 + x2) / (x1 + 2.0 * x2);
+            let duty = if upper || d >= 0.99 { Duty::Range(0.5, d) } else { Duty::Range(d, 0.99) };
+            let goal = Goal::Stages(vec![StageGoal::Astable {
+                period: 2f64.ln() * (x1 + 2.0 * x2) * y,
+                duty,
+            }]);
+            compare(&parts, &goal, &settings(tol, k, 1, false))?;
+        }
+    }
+}
+
+/// The design's stage `si` as the tolerance analysis (`timing::Analysis`, what `check` uses)
+/// sees it: every piece with its stocked tolerance and the timer's own error.
+fn analysis_of(parts: &[Part], d: &Design, g: &StageGoal, s: &Settings) -> crate::timing::Analysis {
+    use crate::timing::{Analysis, Circuit, Piece, Position, StageModel, Steering};
+    let pos = |name: &str| -> Position {
+        let p = d
+            .positions
+            .iter()
+            .find(|p| p.name == name)
+            .expect("position");
+        let combine = if p.kind == Kind::Capacitor {
+            Combine::Capacitive
+        } else {
+            Combine::Resistive
+        };
+        Position {
+            name: name.to_string(),
+            combine,
+            net: p.net.clone(),
+            pieces: p
+                .rows
+                .iter()
+                .map(|&r| Piece {
+                    value: val(&parts[r]),
+                    tolerance: parts[r].tolerance,
+                })
+                .collect(),
+        }
+    };
+    let names = g.positions();
+    let ie = match g {
+        StageGoal::Pulse { .. } => s.family.error_one_shot.value,
+        _ => s.family.error_astable.value,
+    };
+    let model = StageModel {
+        form: g.form(),
+        steering: Steering::default(),
+        r1: pos(names[0]),
+        r2: (names.len() == 3).then(|| pos(names[1])),
+        c: pos(names[names.len() - 1]),
+        conditions: s.conditions,
+        timer_error: crate::units::Ratio::from_si(ie).expect("ratio"),
+    };
+    Analysis::with_physics(&Circuit::Single(Box::new(model)), &s.family, &s.model, &[])
+        .expect("analysis")
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 60, ..ProptestConfig::default() })]
+
+    /// Designs the search finds, re-evaluated from their parts alone: the evaluator gives the
+    /// reported nominal and band exactly, and the tolerance analysis `check` uses gives the
+    /// reported worst case (to the store's exact units: mΩ and fF round a network's value by
+    /// at most a few parts in a million).
+    #[test]
+    fn found_designs_re_evaluate_to_the_same_numbers(
+        rs in prop::collection::vec(resistor(), 2..6),
+        cs in prop::collection::vec(capacitor(), 1..4),
+        r1 in any::<prop::sample::Index>(),
+        r2 in any::<prop::sample::Index>(),
+        c in any::<prop::sample::Index>(),
+        astable in any::<bool>(),
+        k in 1..3usize,
+    ) {
+        use crate::timing::{Quantity as Q, Stage, evaluate};
+        let parts = drawer(&rs, &cs);
+        let res = of_kind(&parts, Kind::Resistor);
+        let caps = of_kind(&parts, Kind::Capacitor);
+        let (x1, x2) = (val(res[r1.index(res.len())]), val(res[r2.index(res.len())]));
+        let y = val(caps[c.index(caps.len())]);
+        // DESIGN physics table: ideal one-shot ln 3 · R · C; astable ln 2 · (R1 + 2 R2) · C.
+        let g = if astable {
+            StageGoal::Astable { period: 2f64.ln() * (x1 + 2.0 * x2) * y, duty: Duty::Any }
+        } else {
+            StageGoal::Pulse { width: 3f64.ln() * x1 * y }
+        };
+        let mut s = settings(5.0, k, 3, false);
+        s.model = crate::timing::Model::real();
+        let out = solve(&parts, &Goal::Stages(vec![g]), &s).expect("search runs");
+        for d in &out.designs {
+            let get = |n: &str| d.positions.iter().find(|p| p.name == n).map(|p| p.value);
+            let ohms = |v: f64| Ohms::from_si(v).expect("ohms");
+            let stage = if astable {
+                Stage::astable(ohms(get("R1").expect("R1")), ohms(get("R2").expect("R2")),
+                    Farads::from_si(get("C").expect("C")).expect("farads"), s.conditions)
+            } else {
+                Stage::monostable(ohms(get("R").expect("R")),
+                    Farads::from_si(get("C").expect("C")).expect("farads"), s.conditions)
+            };
+            let mut stage = stage;
+            stage.cap = None;
+            let ev = evaluate(&stage, &s.family, &s.model).expect("evaluates");
+            let qs = &d.stages[0].quantities;
+            let q = |n: &str| qs.iter().find(|q| q.name == n).expect("quantity");
+            let main = if astable { (q("period"), ev.period.expect("period")) } else { (q("width"), ev.high) };
+            // Capacitor facts (dielectric) travel with the search's stage; the drawer's timing
+            // capacitors are film or C0G, on which no modelled effect depends.
+            prop_assert_eq!(main.0.nominal, main.1.nominal);
+            prop_assert_eq!(main.0.band_lo, main.1.band_lo);
+            prop_assert_eq!(main.0.band_hi, main.1.band_hi);
+            let wc = analysis_of(&parts, d, &g, &s).worst_case().expect("worst case");
+            let (which, qty) = if astable { (Q::Period, "period") } else { (Q::High, "width") };
+            let i = wc.get(which).expect("interval");
+            // Both take every corner with the band's ends at each and the chip's error on
+            // charge and discharge separately; they differ only by the store's exact units.
+            let close = |a: f64, b: f64| ((a - b) / b).abs() < 5e-6;
+            prop_assert!(close(q(qty).worst_lo, i.worst_lo), "{} vs {}", q(qty).worst_lo, i.worst_lo);
+            prop_assert!(close(q(qty).worst_hi, i.worst_hi), "{} vs {}", q(qty).worst_hi, i.worst_hi);
+            if astable {
+                let dq = q("duty");
+                let di = wc.get(Q::Duty).expect("duty");
+                prop_assert!(close(dq.worst_lo, di.worst_lo) && close(dq.worst_hi, di.worst_hi), "duty {}..{} vs {}..{}", dq.worst_lo, dq.worst_hi, di.worst_lo, di.worst_hi);
+            }
+        }
     }
 }

@@ -14,11 +14,12 @@
 use super::admit::{self, CapFacts, Family, Stage};
 use super::goal::{
     Design, Duty, Goal, Outcome, Position, Quantity, Rank, Settings, SolveError, StageGoal,
-    StageReport,
+    StageReport, inside, no_worse,
 };
+use super::judge::{self, Worst};
 use crate::model::{Kind, Part, Technology, Value};
 use crate::network::{Cand, Combine, Item, Pool, Step};
-use crate::timing::{Conditions, Factors};
+use crate::timing::{Conditions, Evaluation, Factors, evaluate};
 use crate::units::{Farads, Ohms, Volts};
 use std::cmp::Ordering;
 use std::collections::BTreeMap;
@@ -72,6 +73,57 @@ pub fn out_of_reach(goal: &Goal, family: &Family, tol: f64) -> Option<String> {
     })
 }
 
+/// With `guarantee`, why no design can have its worst case inside the window, if none can: a
+/// network of parts each at least ±t is itself at least ±t (series and parallel both keep the
+/// smallest relative spread), and a time multiplies a resistance, a capacitance and the chip's
+/// own error. When even the tightest stocked parts spread wider than the window, the answer
+/// comes at once.
+pub fn guarantee_out_of_reach(parts: &[Part], goal: &Goal, s: &Settings) -> Option<String> {
+    if !s.guarantee {
+        return None;
+    }
+    let tightest = |kind: Kind| -> Option<f64> {
+        parts
+            .iter()
+            .filter(|p| p.kind == kind && p.available() > 0)
+            .filter(|p| {
+                kind != Kind::Capacitor
+                    || s.cap_techs
+                        .as_ref()
+                        .is_none_or(|t| t.contains(&p.technology))
+            })
+            .map(|p| {
+                let (lo, hi) = p.tolerance.factors();
+                hi / lo
+            })
+            .fold(None, |a: Option<f64>, x| Some(a.map_or(x, |a| a.min(x))))
+    };
+    let allowed = (1.0 + s.tol) / (1.0 - s.tol);
+    let pct = |x: f64| format!("±{:.2} %", (x - 1.0) / (x + 1.0) * 100.0);
+    let (spread, what) = match goal {
+        Goal::Value { kind, .. } => (tightest(*kind)?, "the tightest stocked part"),
+        Goal::Stages(stages) => {
+            let chip = stages
+                .iter()
+                .map(|g| stage_factors(g, s).map_or(0.0, |(_, ie)| ie))
+                .fold(0.0, f64::max);
+            let r = tightest(Kind::Resistor).unwrap_or(1.0);
+            let c = tightest(Kind::Capacitor).unwrap_or(1.0);
+            (
+                r * c * (1.0 + chip) / (1.0 - chip),
+                "the tightest stocked resistor and capacitor with the chip's own error",
+            )
+        }
+    };
+    (spread > allowed * (1.0 + super::goal::ROUNDING)).then(|| {
+        format!(
+            "--guarantee needs the worst case within {}, but {what} already spread {}",
+            pct(allowed),
+            pct(spread)
+        )
+    })
+}
+
 /// Search the stock for the best designs meeting `goal`.
 pub fn solve(parts: &[Part], goal: &Goal, settings: &Settings) -> Result<Outcome, SolveError> {
     let started = Instant::now();
@@ -107,6 +159,9 @@ pub fn solve(parts: &[Part], goal: &Goal, settings: &Settings) -> Result<Outcome
     // the ranking is empty the error bound is the full tolerance).
     let mut no_design_below = m;
     for p in m..=m * k {
+        if st.timed_out() {
+            break;
+        }
         if settings.rank == Rank::FewestPieces
             && st.top.len() >= st.n
             && st.top.last().is_some_and(|w| w.pieces < p)
@@ -225,6 +280,53 @@ fn compositions(p: usize, m: usize, k: usize) -> Vec<Vec<usize>> {
     out
 }
 
+/// The largest ratio of an upper to a lower screening factor (at least 1).
+fn spread(lo: &Factors, hi: &Factors) -> f64 {
+    let pairs = [
+        (lo.one_shot, hi.one_shot),
+        (lo.charge, hi.charge),
+        (lo.discharge, hi.discharge),
+        (lo.steered_charge, hi.steered_charge),
+        (lo.steered_discharge, hi.steered_discharge),
+        (lo.square_high, hi.square_high),
+        (lo.square_low, hi.square_low),
+    ];
+    pairs
+        .iter()
+        .filter(|(a, b)| *a > 0.0 && b.is_finite())
+        .map(|(a, b)| b / a)
+        .fold(1.0, f64::max)
+}
+
+/// The window a screened time (closed form with the lower factors) must lie in for the
+/// evaluated time to reach `[t(1 − e), t(1 + e)]`: the lower end divided by the spread `g`.
+#[inline]
+fn swin(t: f64, e: f64, g: f64) -> (f64, f64) {
+    (t * (1.0 - e) / g, t * (1.0 + e))
+}
+
+/// Distance of the bracket `[x, g·x]` from `t`, relative (0 when it holds `t`).
+#[inline]
+fn srel(x: f64, g: f64, t: f64) -> f64 {
+    if x > t {
+        rel(x, t)
+    } else if x * g < t {
+        rel(x * g, t)
+    } else {
+        0.0
+    }
+}
+
+/// A duty bound moved by the spread: odds `d/(1 − d)` multiplied by `m` (`g` or `1/g`).
+#[inline]
+fn odds_scaled(d: f64, m: f64) -> f64 {
+    if d >= 1.0 {
+        return d;
+    }
+    let o = d / (1.0 - d) * m;
+    o / (1.0 + o)
+}
+
 /// `|x − t| / t`.
 #[inline]
 fn rel(x: f64, t: f64) -> f64 {
@@ -235,6 +337,14 @@ fn rel(x: f64, t: f64) -> f64 {
 #[inline]
 fn win(t: f64, e: f64) -> (f64, f64) {
     (t * (1.0 - e), t * (1.0 + e))
+}
+
+/// Where a network's value is taken: nominal, or at its parts' lowest or highest values.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Corner {
+    Nominal,
+    Low,
+    High,
 }
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -320,7 +430,11 @@ impl State {
 
 struct Plan {
     goal: StageGoal,
+    /// The screen's lower factors (`timing::factor_bounds`): every time the evaluator reports
+    /// lies within `[1, g]` times the closed form with these.
     f: Factors,
+    /// The screen's spread: the largest ratio of upper to lower factor (1 when exact).
+    g: f64,
     cond: Conditions,
     /// The timer's own initial error for this form.
     ie: f64,
@@ -330,6 +444,10 @@ struct Ctx<'a> {
     parts: &'a [Part],
     rpool: Pool,
     cpool: Pool,
+    /// Per pool item (`Item::row` is the class index): the stock rows of that class and their
+    /// free pieces, in stock order.
+    rclass: Vec<Vec<(usize, u32)>>,
+    cclass: Vec<Vec<(usize, u32)>>,
     stages: Vec<Plan>,
     value: Option<(Kind, f64)>,
     s: &'a Settings,
@@ -356,26 +474,87 @@ pub fn stage_factors(g: &StageGoal, s: &Settings) -> Result<(Factors, f64), Solv
     Ok((stage_conditions(g, s).factors()?, ie))
 }
 
-fn item(row: usize, p: &Part, value: f64) -> Item {
-    let (fl, fh) = p.tolerance.factors();
-    Item {
-        row,
-        value,
-        lo: value * fl,
-        hi: value * fh,
-        avail: u32::try_from(p.available()).unwrap_or(u32::MAX),
-        tol: p.tolerance.widest().si(),
+/// Most distinct classes of one kind a search over networks of two or more pieces takes: the
+/// pair lists grow with the square of the class count (2 000 classes: about 2 × 2 M pairs of
+/// 16 bytes, 64 MB), so this bounds memory whatever the stock holds.
+const MAX_CLASSES: usize = 2000;
+
+/// What the checks and the ranking can tell apart about a part: rows that agree on all of it
+/// are one class, searched once with their free counts summed (a 50 000-row stock of a few
+/// hundred values searches like a few hundred rows); pieces go back to rows only for answers.
+type ClassKey = (
+    Kind,
+    Value,
+    crate::units::Tolerance,
+    Technology,
+    Option<Volts>,
+    Option<crate::units::Watts>,
+);
+
+/// Stock rows grouped into classes, in the order each class was first met.
+#[derive(Default)]
+struct Classes {
+    index: std::collections::HashMap<ClassKey, usize>,
+    rows: Vec<Vec<(usize, u32)>>,
+}
+
+impl Classes {
+    fn add(&mut self, row: usize, p: &Part) {
+        let key = (
+            p.kind,
+            p.value,
+            p.tolerance,
+            p.technology,
+            p.voltage_rating,
+            p.power_rating,
+        );
+        let free = u32::try_from(p.available()).unwrap_or(u32::MAX);
+        let next = self.rows.len();
+        let at = *self.index.entry(key).or_insert(next);
+        if at == next {
+            self.rows.push(Vec::new());
+        }
+        self.rows[at].push((row, free));
+    }
+
+    /// One pool item per class: the first row's facts, the summed free count.
+    fn items(&self, parts: &[Part]) -> Vec<Item> {
+        self.rows
+            .iter()
+            .enumerate()
+            .filter_map(|(class, rows)| {
+                let &(first, _) = rows.first()?;
+                let p = &parts[first];
+                let value = match p.value {
+                    Value::Resistance(r) => r.si(),
+                    Value::Capacitance(c) => c.si(),
+                    Value::None => return None,
+                };
+                let (fl, fh) = p.tolerance.factors();
+                Some(Item {
+                    row: class,
+                    value,
+                    lo: value * fl,
+                    hi: value * fh,
+                    avail: rows.iter().fold(0u32, |a, r| a.saturating_add(r.1)),
+                    tol: p.tolerance.widest().si(),
+                })
+            })
+            .collect()
     }
 }
 
 impl<'a> Ctx<'a> {
     fn new(parts: &'a [Part], goal: &Goal, s: &'a Settings) -> Result<Self, SolveError> {
-        let mut rs = Vec::new();
-        let mut cs = Vec::new();
+        let mut rclass = Classes::default();
+        let mut cclass = Classes::default();
         for (row, p) in parts.iter().enumerate() {
+            if p.available() <= 0 {
+                continue;
+            }
             match (p.kind, p.value) {
-                (Kind::Resistor, Value::Resistance(r)) => rs.push(item(row, p, r.si())),
-                (Kind::Capacitor, Value::Capacitance(c)) => {
+                (Kind::Resistor, Value::Resistance(_)) => rclass.add(row, p),
+                (Kind::Capacitor, Value::Capacitance(_)) => {
                     if s.cap_techs
                         .as_ref()
                         .is_some_and(|t| !t.contains(&p.technology))
@@ -387,21 +566,54 @@ impl<'a> Ctx<'a> {
                             continue;
                         }
                     }
-                    cs.push(item(row, p, c.si()));
+                    cclass.add(row, p);
                 }
                 _ => {}
             }
         }
+        if s.max_pieces >= 2 {
+            for (what, c) in [("resistor", &rclass), ("capacitor", &cclass)] {
+                if c.rows.len() > MAX_CLASSES {
+                    return Err(SolveError::Invalid(format!(
+                        "the stock holds {} distinct {what}s (value, tolerance, technology and \
+                         ratings); networks of two or more pieces are searched over at most \
+                         {MAX_CLASSES} to bound memory: narrow the stock (e.g. --tech) or use \
+                         --pieces 1",
+                        c.rows.len()
+                    )));
+                }
+            }
+        }
+        let rs = rclass.items(parts);
+        let cs = cclass.items(parts);
         let mut stages = Vec::new();
         let value = match goal {
             Goal::Value { kind, target } => Some((*kind, *target)),
             Goal::Stages(gs) => {
+                let (_, r_max) = Pool::with_pairs(rs.clone(), false).range(s.max_pieces);
                 for g in gs {
-                    let cond = stage_conditions(g, s);
-                    let (f, ie) = stage_factors(g, s)?;
+                    // The evaluator takes the diode and output-drop figures from the model and
+                    // the family; the conditions carry only the supply and the control pin.
+                    let cond = s.conditions;
+                    let (_, ie) = stage_factors(g, s)?;
+                    let form = g.form();
+                    let ohms = |v: f64| Ohms::from_si(v.min(1e12)).unwrap_or(Ohms::ZERO);
+                    let template = Stage {
+                        form,
+                        r1: ohms(r_max),
+                        r2: form.has_r2().then(|| ohms(r_max)),
+                        c: Farads::from_si(1e-9).unwrap_or(Farads::ZERO),
+                        cap: None,
+                        conditions: cond,
+                        steering: crate::timing::Steering::default(),
+                    };
+                    let (f, fh) =
+                        // The astable charges through R1 + R2: the bounds must cover both.
+                        crate::timing::factor_bounds(&template, &s.family, &s.model, ohms(if form.has_r2() { 2.0 * r_max } else { r_max }))?;
                     stages.push(Plan {
                         goal: *g,
                         f,
+                        g: spread(&f, &fh),
                         cond,
                         ie,
                     });
@@ -411,8 +623,10 @@ impl<'a> Ctx<'a> {
         };
         Ok(Self {
             parts,
-            rpool: Pool::new(rs),
-            cpool: Pool::new(cs),
+            rpool: Pool::with_pairs(rs, s.max_pieces >= 2),
+            cpool: Pool::with_pairs(cs, s.max_pieces >= 2),
+            rclass: rclass.rows,
+            cclass: cclass.rows,
             stages,
             value,
             s,
@@ -463,10 +677,11 @@ impl<'a> Ctx<'a> {
         let ok = pool.walk(n, lo, hi, used, deadline, &mut |c, used| {
             st.seen += 1;
             let err = rel(c.value, t);
-            if err <= st.bound() {
+            if no_worse(err, st.bound()) {
                 let fits = !guarantee || {
                     let (_, l, h) = pool.span(c);
-                    l >= t * (1.0 - tol) && h <= t * (1.0 + tol)
+                    inside(l, t * (1.0 - tol), t * (1.0 + tol))
+                        && inside(h, t * (1.0 - tol), t * (1.0 + tol))
                 };
                 if fits {
                     Pool::take(c, used, 1);
@@ -569,8 +784,17 @@ impl<'a> Ctx<'a> {
         used_r: &mut [u32],
         used_c: &mut [u32],
         st: &mut State,
-        err: f64,
+        floor: f64,
     ) {
+        // The screen let it through; the evaluator decides (band inside the window, and with
+        // --guarantee the worst case with the band), and gives the error that ranks it.
+        let Some(own) = self.confirm(&st.picks, si) else {
+            return;
+        };
+        let err = floor.max(own);
+        if !no_worse(err, st.bound()) {
+            return;
+        }
         if si + 1 == self.stages.len() {
             self.offer(st, used_r, used_c, err, Some(si));
         } else if self.refuse(st, si) {
@@ -662,13 +886,13 @@ impl<'a> Ctx<'a> {
         floor: f64,
     ) {
         let (rmin, rmax) = self.rpool.range(nr);
+        let g = self.stages[si].g;
         let cw = |e: f64| {
-            let (lo, hi) = win(t, e);
+            let (lo, hi) = swin(t, e, g);
             (lo / (k * rmax), hi / (k * rmin))
         };
         let (clo, chi) = cw(st.bound());
         let dl = st.deadline;
-        let (tol, guarantee, ie) = (self.s.tol, self.s.guarantee, self.stages[si].ie);
         let ok = self
             .cpool
             .walk(nc, clo, chi, used_c, dl, &mut |cc, used_c| {
@@ -681,7 +905,7 @@ impl<'a> Ctx<'a> {
                     cand: *cc,
                 });
                 let rw = |e: f64| {
-                    let (lo, hi) = win(t, e);
+                    let (lo, hi) = swin(t, e, g);
                     (lo / (k * c), hi / (k * c))
                 };
                 let (rlo, rhi) = rw(st.bound());
@@ -689,15 +913,8 @@ impl<'a> Ctx<'a> {
                     .rpool
                     .walk(nr, rlo, rhi, used_r, dl, &mut |rc, used_r| {
                         st.seen += 1;
-                        let err = rel(k * rc.value * c, t);
-                        if err <= st.bound()
-                            && (!guarantee || {
-                                let (_, rl, rh) = self.rpool.span(rc);
-                                let (_, cl, ch) = self.cpool.span(cc);
-                                k * rl * cl * (1.0 - ie) >= t * (1.0 - tol)
-                                    && k * rh * ch * (1.0 + ie) <= t * (1.0 + tol)
-                            })
-                        {
+                        let err = srel(k * rc.value * c, g, t);
+                        if no_worse(err, st.bound()) {
                             Pool::take(rc, used_r, 1);
                             st.picks.push(Pick {
                                 stage: si,
@@ -705,7 +922,7 @@ impl<'a> Ctx<'a> {
                                 which: Which::R,
                                 cand: *rc,
                             });
-                            self.stage_done(si, split, used_r, used_c, st, floor.max(err));
+                            self.stage_done(si, split, used_r, used_c, st, floor);
                             st.picks.pop();
                             Pool::take(rc, used_r, -1);
                         }
@@ -745,6 +962,7 @@ impl<'a> Ctx<'a> {
         floor: f64,
     ) {
         let f = self.stages[si].f;
+        let g = self.stages[si].g;
         let kc = f.charge;
         let ks = f.charge + f.discharge;
         // Duty D = kc(R1+R2)/(kc·R1 + ks·R2) rises with x = R1/R2; x(D) inverts it.
@@ -755,19 +973,26 @@ impl<'a> Ctx<'a> {
                 (d * ks - kc) / (kc * (1.0 - d))
             }
         };
+        // The screened duty (lower factors) may sit off the evaluated one by the spread, in
+        // odds: widen the duty bounds accordingly before mapping them to R1/R2.
+        let xw = |a: f64, b: f64| {
+            (
+                xof(odds_scaled(a, 1.0 / g)).max(0.0),
+                xof(odds_scaled(b, g)),
+            )
+        };
         let xwin = |e: f64| match duty {
             Duty::Any => (0.0, f64::INFINITY),
-            Duty::Range(a, b) => (xof(a).max(0.0), xof(b)),
-            Duty::Point(d) => (xof(d * (1.0 - e)).max(0.0), xof(d * (1.0 + e))),
+            Duty::Range(a, b) => xw(a, b),
+            Duty::Point(d) => xw(d * (1.0 - e), d * (1.0 + e)),
         };
         let (r1min, r1max) = self.rpool.range(n1);
         let (r2min, r2max) = self.rpool.range(n2);
         let (amin, amax) = (kc * r1min + ks * r2min, kc * r1max + ks * r2max);
         let cw = |e: f64| {
-            let (lo, hi) = win(period, e);
+            let (lo, hi) = swin(period, e, g);
             (lo / amax, hi / amin)
         };
-        let (tol, guarantee, ie) = (self.s.tol, self.s.guarantee, self.stages[si].ie);
         let dl = st.deadline;
         let (clo, chi) = cw(st.bound());
         let ok = self
@@ -782,7 +1007,7 @@ impl<'a> Ctx<'a> {
                     cand: *cc,
                 });
                 let r2w = |e: f64| {
-                    let (plo, phi) = win(period, e);
+                    let (plo, phi) = swin(period, e, g);
                     let (xlo, xhi) = xwin(e);
                     (plo / c / (kc * xhi + ks), phi / c / (kc * xlo + ks))
                 };
@@ -797,7 +1022,7 @@ impl<'a> Ctx<'a> {
                         cand: *r2c,
                     });
                     let r1w = |e: f64| {
-                        let (plo, phi) = win(period, e);
+                        let (plo, phi) = swin(period, e, g);
                         let (xlo, xhi) = xwin(e);
                         (
                             ((plo / c - ks * r2) / kc).max(xlo * r2),
@@ -810,36 +1035,25 @@ impl<'a> Ctx<'a> {
                         let r1 = r1c.value;
                         let aa = kc * r1 + ks * r2;
                         let d = kc * (r1 + r2) / aa;
-                        let mut err = rel(c * aa, period);
+                        let mut err = srel(c * aa, g, period);
+                        // The screened duty's bracket in odds: [odds/g, odds·g].
+                        let (dlo, dhi) = (odds_scaled(d, 1.0 / g), odds_scaled(d, g));
                         let duty_ok = match duty {
                             Duty::Any => true,
-                            Duty::Range(lo, hi) => d >= lo && d <= hi,
+                            Duty::Range(lo, hi) => inside(dhi, lo, 1.0) && inside(dlo, 0.0, hi),
                             Duty::Point(dt) => {
-                                err = err.max(rel(d, dt));
+                                let e = if dlo > dt {
+                                    rel(dlo, dt)
+                                } else if dhi < dt {
+                                    rel(dhi, dt)
+                                } else {
+                                    0.0
+                                };
+                                err = err.max(e);
                                 true
                             }
                         };
-                        if duty_ok
-                            && err <= st.bound()
-                            && (!guarantee || {
-                                let (_, l1, h1) = self.rpool.span(r1c);
-                                let (_, l2, h2) = self.rpool.span(r2c);
-                                let (_, cl, ch) = self.cpool.span(cc);
-                                let plo = cl * (kc * l1 + ks * l2) * (1.0 - ie);
-                                let phi = ch * (kc * h1 + ks * h2) * (1.0 + ie);
-                                let dlo = kc * (l1 + h2) / (kc * l1 + ks * h2);
-                                let dhi = kc * (h1 + l2) / (kc * h1 + ks * l2);
-                                plo >= period * (1.0 - tol)
-                                    && phi <= period * (1.0 + tol)
-                                    && match duty {
-                                        Duty::Any => true,
-                                        Duty::Range(a, b) => dlo >= a && dhi <= b,
-                                        Duty::Point(dt) => {
-                                            dlo >= dt * (1.0 - tol) && dhi <= dt * (1.0 + tol)
-                                        }
-                                    }
-                            })
-                        {
+                        if duty_ok && no_worse(err, st.bound()) {
                             Pool::take(r1c, used_r, 1);
                             st.picks.push(Pick {
                                 stage: si,
@@ -847,7 +1061,7 @@ impl<'a> Ctx<'a> {
                                 which: Which::R,
                                 cand: *r1c,
                             });
-                            self.stage_done(si, split, used_r, used_c, st, floor.max(err));
+                            self.stage_done(si, split, used_r, used_c, st, floor);
                             st.picks.pop();
                             Pool::take(r1c, used_r, -1);
                         }
@@ -897,18 +1111,18 @@ impl<'a> Ctx<'a> {
         floor: f64,
     ) {
         let f = self.stages[si].f;
+        let g = self.stages[si].g;
         let (kh, kl) = (f.steered_charge, f.steered_discharge);
         let (ramin, ramax) = self.rpool.range(na);
         let (rbmin, rbmax) = self.rpool.range(nb);
         let cw = |e: f64| {
-            let (hlo, hhi) = win(high, e);
-            let (llo, lhi) = win(low, e);
+            let (hlo, hhi) = swin(high, e, g);
+            let (llo, lhi) = swin(low, e, g);
             (
                 (hlo / (kh * ramax)).max(llo / (kl * rbmax)),
                 (hhi / (kh * ramin)).min(lhi / (kl * rbmin)),
             )
         };
-        let (tol, guarantee, ie) = (self.s.tol, self.s.guarantee, self.stages[si].ie);
         let dl = st.deadline;
         let (clo, chi) = cw(st.bound());
         let ok = self
@@ -923,16 +1137,16 @@ impl<'a> Ctx<'a> {
                     cand: *cc,
                 });
                 let rbw = |e: f64| {
-                    let (lo, hi) = win(low, e);
+                    let (lo, hi) = swin(low, e, g);
                     (lo / (kl * c), hi / (kl * c))
                 };
                 let raw = |e: f64| {
-                    let (lo, hi) = win(high, e);
+                    let (lo, hi) = swin(high, e, g);
                     (lo / (kh * c), hi / (kh * c))
                 };
                 let (a, b) = rbw(st.bound());
                 let ok = self.rpool.walk(nb, a, b, used_r, dl, &mut |rbc, used_r| {
-                    let el = rel(kl * rbc.value * c, low);
+                    let el = srel(kl * rbc.value * c, g, low);
                     Pool::take(rbc, used_r, 1);
                     st.picks.push(Pick {
                         stage: si,
@@ -943,18 +1157,8 @@ impl<'a> Ctx<'a> {
                     let (a, b) = raw(st.bound());
                     let ok = self.rpool.walk(na, a, b, used_r, dl, &mut |rac, used_r| {
                         st.seen += 1;
-                        let err = el.max(rel(kh * rac.value * c, high));
-                        if err <= st.bound()
-                            && (!guarantee || {
-                                let (_, al, ah) = self.rpool.span(rac);
-                                let (_, bl, bh) = self.rpool.span(rbc);
-                                let (_, cl, ch) = self.cpool.span(cc);
-                                kh * al * cl * (1.0 - ie) >= high * (1.0 - tol)
-                                    && kh * ah * ch * (1.0 + ie) <= high * (1.0 + tol)
-                                    && kl * bl * cl * (1.0 - ie) >= low * (1.0 - tol)
-                                    && kl * bh * ch * (1.0 + ie) <= low * (1.0 + tol)
-                            })
-                        {
+                        let err = el.max(srel(kh * rac.value * c, g, high));
+                        if no_worse(err, st.bound()) {
                             Pool::take(rac, used_r, 1);
                             st.picks.push(Pick {
                                 stage: si,
@@ -962,7 +1166,7 @@ impl<'a> Ctx<'a> {
                                 which: Which::R,
                                 cand: *rac,
                             });
-                            self.stage_done(si, split, used_r, used_c, st, floor.max(err));
+                            self.stage_done(si, split, used_r, used_c, st, floor);
                             st.picks.pop();
                             Pool::take(rac, used_r, -1);
                         }
@@ -1003,11 +1207,22 @@ impl<'a> Ctx<'a> {
 
     /// The stage as the electrical checks see it, from the picks of stage `si`.
     fn stage_of(&self, picks: &[Pick], si: usize) -> Stage {
+        self.stage_at(picks, si, [Corner::Nominal; 3])
+    }
+
+    /// The stage with each slot's network at its nominal, lowest or highest value.
+    fn stage_at(&self, picks: &[Pick], si: usize, at: [Corner; 3]) -> Stage {
         let plan = &self.stages[si];
         let mut vals = [0.0f64; 3];
         let mut cap = None;
         for p in picks.iter().filter(|p| p.stage == si) {
-            vals[p.slot.min(2)] = p.cand.value;
+            let slot = p.slot.min(2);
+            let (v, lo, hi) = self.pool(p.which).span(&p.cand);
+            vals[slot] = match at[slot] {
+                Corner::Nominal => v,
+                Corner::Low => lo,
+                Corner::High => hi,
+            };
             if p.which == Which::C {
                 cap = Some(self.cap_facts(&p.cand));
             }
@@ -1025,6 +1240,46 @@ impl<'a> Ctx<'a> {
         }
     }
 
+    /// The evaluator's answer for stage `si` of `picks` (None when the form cannot run).
+    fn evaluation(&self, picks: &[Pick], si: usize, at: [Corner; 3]) -> Option<Evaluation> {
+        evaluate(&self.stage_at(picks, si, at), self.family, &self.s.model).ok()
+    }
+
+    /// The worst case of stage `si` over every corner of its positions' tolerances (the same
+    /// rule as `check`'s tolerance analysis: see [`judge::worst_of`]).
+    fn worst(&self, picks: &[Pick], si: usize) -> Option<Worst> {
+        use Corner::{High, Low, Nominal};
+        let m = self.stages[si].goal.positions().len().min(3);
+        let mut evals = Vec::with_capacity(1 << m);
+        for mask in 0..(1u32 << m) {
+            let at: [Corner; 3] = std::array::from_fn(|i| {
+                if i >= m {
+                    Nominal
+                } else if mask >> i & 1 == 1 {
+                    High
+                } else {
+                    Low
+                }
+            });
+            evals.push(self.evaluation(picks, si, at)?);
+        }
+        judge::worst_of(&evals, self.stages[si].ie)
+    }
+
+    /// The evaluator confirms what the screen let through: the stage's error if its band (and
+    /// with --guarantee its worst case) lies inside every window, else None.
+    fn confirm(&self, picks: &[Pick], si: usize) -> Option<f64> {
+        let ev = self.evaluation(picks, si, [Corner::Nominal; 3])?;
+        let goal = &self.stages[si].goal;
+        let tol = self.s.tol;
+        // Cheap first: nominal and band; the corners only for a design that passes them.
+        let err = judge::judge(goal, &ev, None, tol)?;
+        if self.s.guarantee {
+            judge::judge(goal, &ev, Some(&self.worst(picks, si)?), tol)?;
+        }
+        Some(err)
+    }
+
     /// Facts of a capacitor network: least suitable technology, lowest rating, widest tolerance.
     fn cap_facts(&self, c: &Cand) -> CapFacts {
         let rank = |t: Technology| match t {
@@ -1037,7 +1292,7 @@ impl<'a> Ctx<'a> {
         let mut facts: Option<CapFacts> = None;
         let mut unknown_rating = false;
         for &i in c.pieces() {
-            let part = &self.parts[self.cpool.items()[i as usize].row];
+            let part = &self.parts[self.cclass[self.cpool.items()[i as usize].row][0].0];
             unknown_rating |= part.voltage_rating.is_none();
             facts = Some(match facts {
                 None => CapFacts {
@@ -1077,12 +1332,50 @@ impl<'a> Ctx<'a> {
         f
     }
 
+    /// Stock rows for the pieces of every pick: within a class, each piece comes from the row
+    /// with the most free pieces left (sparing small rows), the first such row on a tie. The
+    /// class counts the search checked are the sums of these rows', so this always succeeds.
+    fn assign(&self, picks: &[Pick]) -> Vec<Vec<usize>> {
+        let mut left: std::collections::HashMap<(bool, usize), Vec<u32>> =
+            std::collections::HashMap::new();
+        picks
+            .iter()
+            .map(|p| {
+                let (pool, classes) = match p.which {
+                    Which::R => (&self.rpool, &self.rclass),
+                    Which::C => (&self.cpool, &self.cclass),
+                };
+                p.cand
+                    .pieces()
+                    .iter()
+                    .map(|&i| {
+                        let class = pool.items()[i as usize].row;
+                        let rows = &classes[class];
+                        let free = left
+                            .entry((p.which == Which::C, class))
+                            .or_insert_with(|| rows.iter().map(|r| r.1).collect());
+                        let mut best = 0;
+                        for (k, &f) in free.iter().enumerate() {
+                            if f > free[best] {
+                                best = k;
+                            }
+                        }
+                        free[best] = free[best].saturating_sub(1);
+                        rows[best].0
+                    })
+                    .collect()
+            })
+            .collect()
+    }
+
     fn build(&self, found: &Found) -> Design {
         let mut picks = found.picks.clone();
         picks.sort_by_key(|p| (p.stage, p.slot));
+        let rows = self.assign(&picks);
         let positions: Vec<Position> = picks
             .iter()
-            .map(|p| {
+            .zip(rows)
+            .map(|(p, rows)| {
                 let pool = self.pool(p.which);
                 let (value, lo, hi) = pool.span(&p.cand);
                 let (kind, combine) = match p.which {
@@ -1098,12 +1391,7 @@ impl<'a> Ctx<'a> {
                     name,
                     kind,
                     net: p.cand.shape.to_net(combine),
-                    rows: p
-                        .cand
-                        .pieces()
-                        .iter()
-                        .map(|&i| pool.items()[i as usize].row)
-                        .collect(),
+                    rows,
                     value,
                     lo,
                     hi,
@@ -1118,19 +1406,22 @@ impl<'a> Ctx<'a> {
                 vec![StageReport {
                     form: None,
                     quantities: vec![quantity("value", unit, Some(t), tol, p.value, p.lo, p.hi)],
+                    effects: Vec::new(),
                     findings: Vec::new(),
                 }]
             }
             None => (0..self.stages.len())
                 .map(|si| {
-                    let spans: Vec<(f64, f64, f64)> = positions
-                        .iter()
-                        .filter(|p| p.stage == si)
-                        .map(|p| (p.value, p.lo, p.hi))
-                        .collect();
+                    let goal = &self.stages[si].goal;
+                    let ev = self.evaluation(&picks, si, [Corner::Nominal; 3]);
+                    let wc = self.worst(&picks, si);
                     StageReport {
-                        form: Some(self.stages[si].goal.form()),
-                        quantities: stage_quantities(&self.stages[si], &spans, tol),
+                        form: Some(goal.form()),
+                        quantities: match (ev.as_ref(), wc.as_ref()) {
+                            (Some(ev), Some(wc)) => judge::quantities(goal, ev, wc, tol),
+                            _ => Vec::new(),
+                        },
+                        effects: ev.map(|e| e.effects).unwrap_or_default(),
                         findings: admit::review(&self.stage_of(&picks, si), self.family)
                             .into_iter()
                             .filter(|f| f.severity != admit::Severity::Error)
@@ -1176,127 +1467,11 @@ fn quantity(
         target,
         window: target.map(|t| win(t, tol)),
         nominal,
+        band_lo: nominal,
+        band_hi: nominal,
         error: target.map(|t| rel(nominal, t)),
         worst_lo,
         worst_hi,
-    }
-}
-
-/// Derived quantity: shown with its target, but the window belongs to another quantity.
-fn derived(mut q: Quantity) -> Quantity {
-    q.window = None;
-    q
-}
-
-fn stage_quantities(plan: &Plan, spans: &[(f64, f64, f64)], tol: f64) -> Vec<Quantity> {
-    let f = plan.f;
-    let ie = plan.ie;
-    let g = |i: usize| {
-        spans
-            .get(i)
-            .copied()
-            .unwrap_or((f64::NAN, f64::NAN, f64::NAN))
-    };
-    let times = |name, target: Option<f64>, k: f64, r: (f64, f64, f64), c: (f64, f64, f64)| {
-        quantity(
-            name,
-            "s",
-            target,
-            tol,
-            k * r.0 * c.0,
-            k * r.1 * c.1 * (1.0 - ie),
-            k * r.2 * c.2 * (1.0 + ie),
-        )
-    };
-    let freq = |p: &Quantity, target: Option<f64>| {
-        derived(quantity(
-            "frequency",
-            "Hz",
-            target,
-            tol,
-            1.0 / p.nominal,
-            1.0 / p.worst_hi,
-            1.0 / p.worst_lo,
-        ))
-    };
-    match plan.goal {
-        StageGoal::Pulse { width } => vec![times("width", Some(width), f.one_shot, g(0), g(1))],
-        StageGoal::Square { period } => {
-            let (r, c) = (g(0), g(1));
-            let p = times("period", Some(period), f.square_high + f.square_low, r, c);
-            let fq = freq(&p, Some(1.0 / period));
-            let d = f.square_high / (f.square_high + f.square_low);
-            vec![p, fq, quantity("duty", "", None, tol, d, d, d)]
-        }
-        StageGoal::Steered { high, low } => {
-            let (ra, rb, c) = (g(0), g(1), g(2));
-            let h = times("high", Some(high), f.steered_charge, ra, c);
-            let l = times("low", Some(low), f.steered_discharge, rb, c);
-            let p = derived(quantity(
-                "period",
-                "s",
-                Some(high + low),
-                tol,
-                h.nominal + l.nominal,
-                h.worst_lo + l.worst_lo,
-                h.worst_hi + l.worst_hi,
-            ));
-            let fq = freq(&p, Some(1.0 / (high + low)));
-            let d = h.nominal / p.nominal;
-            let dlo = h.worst_lo / (h.worst_lo + l.worst_hi);
-            let dhi = h.worst_hi / (h.worst_hi + l.worst_lo);
-            vec![h, l, p, fq, quantity("duty", "", None, tol, d, dlo, dhi)]
-        }
-        StageGoal::Astable { period, duty } => {
-            let (r1, r2, c) = (g(0), g(1), g(2));
-            let (kc, kd) = (f.charge, f.discharge);
-            let a = |x1: f64, x2: f64| kc * x1 + (kc + kd) * x2;
-            let p = quantity(
-                "period",
-                "s",
-                Some(period),
-                tol,
-                c.0 * a(r1.0, r2.0),
-                c.1 * a(r1.1, r2.1) * (1.0 - ie),
-                c.2 * a(r1.2, r2.2) * (1.0 + ie),
-            );
-            let fq = freq(&p, Some(1.0 / period));
-            let dv = |x1: f64, x2: f64| kc * (x1 + x2) / a(x1, x2);
-            let mut dq = quantity(
-                "duty",
-                "",
-                match duty {
-                    Duty::Point(d) => Some(d),
-                    _ => None,
-                },
-                tol,
-                dv(r1.0, r2.0),
-                dv(r1.1, r2.2),
-                dv(r1.2, r2.1),
-            );
-            if let Duty::Range(lo, hi) = duty {
-                dq.window = Some((lo, hi));
-            }
-            let high = quantity(
-                "high",
-                "s",
-                None,
-                tol,
-                kc * (r1.0 + r2.0) * c.0,
-                kc * (r1.1 + r2.1) * c.1 * (1.0 - ie),
-                kc * (r1.2 + r2.2) * c.2 * (1.0 + ie),
-            );
-            let low = quantity(
-                "low",
-                "s",
-                None,
-                tol,
-                kd * r2.0 * c.0,
-                kd * r2.1 * c.1 * (1.0 - ie),
-                kd * r2.2 * c.2 * (1.0 + ie),
-            );
-            vec![p, fq, dq, high, low]
-        }
     }
 }
 
@@ -1310,5 +1485,41 @@ mod tests {
         assert_eq!(compositions(3, 3, 3), vec![vec![1, 1, 1]]);
         assert_eq!(compositions(7, 2, 3).len(), 0);
         assert_eq!(compositions(6, 3, 4).len(), 10);
+    }
+
+    #[test]
+    fn a_search_out_of_time_says_so_and_proves_nothing_more() {
+        let parts: Vec<Part> = Vec::new();
+        let s = Settings {
+            tol: 0.01,
+            max_pieces: 2,
+            alternatives: 1,
+            guarantee: false,
+            family: Family::bipolar(),
+            model: crate::timing::Model::ideal(),
+            conditions: Conditions::ideal(Volts::from_si(9.0).unwrap_or(Volts::ZERO)),
+            cap_techs: None,
+            min_cap_rating: None,
+            time_limit: Some(std::time::Duration::ZERO),
+            rank: Rank::FewestPieces,
+        };
+        let goal = Goal::Value {
+            kind: Kind::Resistor,
+            target: 1000.0,
+        };
+        let out = solve(&parts, &goal, &s).expect("runs");
+        assert!(!out.complete, "stopped by the clock");
+        assert!(out.designs.is_empty());
+        assert_eq!(out.no_design_below, 1, "nothing proven beyond the obvious");
+        let done = solve(
+            &parts,
+            &goal,
+            &Settings {
+                time_limit: None,
+                ..s
+            },
+        )
+        .expect("runs");
+        assert!(done.complete, "an empty stock is searched to the end");
     }
 }

@@ -26,6 +26,9 @@ pub struct Purchase {
     pub value: f64,
     /// The series it was taken from.
     pub series: Series,
+    /// How many pieces of it to buy: exactly what `design` uses, and the search was re-run
+    /// with exactly that many in stock.
+    pub pieces: usize,
     /// The design with it (its rows index the parts with the purchase appended last).
     pub design: Design,
 }
@@ -37,7 +40,14 @@ pub struct Advice {
     pub closest: Option<Design>,
     /// One purchase that fixes it, if one was found.
     pub purchase: Option<Purchase>,
+    /// The error of the closest design when it was too far off to offer as a design (above
+    /// [`FAR_OFF`]): the target is out of this stock's reach.
+    pub far_off: Option<f64>,
 }
+
+/// A "closest design" further off than this (relative) is no design: it is not offered, and
+/// the answer says the target is out of the stock's reach instead (common practice).
+pub const FAR_OFF: f64 = 0.5;
 
 /// The preferred values of `series` nearest below and above `x` (one if `x` is one of them).
 pub fn neighbours(series: Series, x: f64) -> Vec<f64> {
@@ -105,6 +115,12 @@ pub fn advise(
                 ideals.push(Op::Add.invert(*target, v));
                 ideals.push(Op::Recip.invert(*target, v));
             }
+            // Several equal pieces of one bought value: n in series or n in parallel.
+            for n in 2..=s.max_pieces {
+                let n = n as f64;
+                ideals.push(*target / n);
+                ideals.push(*target * n);
+            }
             for x in ideals {
                 tries.extend(neighbours(series, x).into_iter().map(|v| (*kind, v)));
             }
@@ -150,27 +166,82 @@ pub fn advise(
             time_limit: left(),
             ..quick.clone()
         };
-        let mut with = parts.to_vec();
-        with.push(bought(kind, v, s));
-        let out = solve(&with, goal, &quick)?;
-        if let Some(d) = out.designs.into_iter().next() {
-            let better = best
-                .as_ref()
-                .is_none_or(|b| (d.pieces, d.error) < (b.design.pieces, b.design.error));
-            if better {
-                best = Some(Purchase {
-                    kind,
-                    value: v,
-                    series,
-                    design: d,
-                });
-            }
+        // Enough of it for every position at most pieces each; then exactly as many as the
+        // design uses, re-checked with exactly that many in stock.
+        let most = s.max_pieces * positions(goal);
+        let Some((d, n)) = with_bought(parts, goal, &quick, kind, v, most)? else {
+            continue;
+        };
+        let better = best
+            .as_ref()
+            .is_none_or(|b| (d.pieces, d.error, n) < (b.design.pieces, b.design.error, b.pieces));
+        if better {
+            best = Some(Purchase {
+                kind,
+                value: v,
+                series,
+                pieces: n,
+                design: d,
+            });
         }
     }
+    let far_off = closest.as_ref().map(|d| d.error).filter(|&e| e > FAR_OFF);
     Ok(Advice {
-        closest,
+        closest: closest.filter(|d| d.error <= FAR_OFF),
         purchase: best,
+        far_off,
     })
+}
+
+/// Positions of a goal (one for a value).
+fn positions(goal: &Goal) -> usize {
+    match goal {
+        Goal::Value { .. } => 1,
+        Goal::Stages(st) => st.iter().map(|g| g.positions().len()).sum(),
+    }
+}
+
+/// The best design with `most` pieces of value `v` bought, cut down to exactly the pieces it
+/// uses: the search is re-run with that many until the count stops falling. `None` when even
+/// `most` pieces do not help.
+fn with_bought(
+    parts: &[Part],
+    goal: &Goal,
+    s: &Settings,
+    kind: Kind,
+    v: f64,
+    most: usize,
+) -> Result<Option<(Design, usize)>, SolveError> {
+    let row = parts.len();
+    let mut qty = most.max(1);
+    let mut last: Option<(Design, usize)> = None;
+    loop {
+        let mut with = parts.to_vec();
+        let mut part = bought(kind, v, s);
+        part.quantity = i64::try_from(qty).unwrap_or(i64::MAX);
+        with.push(part);
+        let out = solve(&with, goal, s)?;
+        let Some(d) = out.designs.into_iter().next() else {
+            // Fewer pieces found nothing (a time limit): keep the last checked answer.
+            return Ok(last);
+        };
+        let used = d
+            .positions
+            .iter()
+            .flat_map(|p| &p.rows)
+            .filter(|&&r| r == row)
+            .count();
+        if used == 0 {
+            // The design does not use the purchase at all (cannot happen when the stock alone
+            // meets nothing); offer nothing rather than a purchase that is not needed.
+            return Ok(None);
+        }
+        if used == qty {
+            return Ok(Some((d, used)));
+        }
+        last = Some((d, used));
+        qty = used;
+    }
 }
 
 /// A part as bought: resistors 1 % metal film, capacitors 5 % film rated well above the supply.

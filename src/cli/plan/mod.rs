@@ -251,6 +251,7 @@ pub(super) fn stage_plan(spec: &PlanSpec, s: &StageSpec) -> Result<PlanStage> {
             alternatives: 1,
             guarantee: s.guarantee,
             family,
+            model: crate::timing::Model::real(),
             conditions: Conditions::ideal(spec.supply),
             cap_techs: techs(&[], timing)?,
             min_cap_rating: Some(spec.supply.si() * 1.5),
