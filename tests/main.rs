@@ -14,3 +14,5 @@ mod plan;
 mod reach;
 mod stock;
 mod store_safety;
+mod web;
+mod web_browser;
