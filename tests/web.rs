@@ -250,6 +250,14 @@ async fn reading_is_closed_by_default_and_open_by_option() {
     assert_eq!(site.quantity(site.r4k7), (50, 0));
 }
 
+/// One row of the pages' rights matrix: method, path, form fields, expected statuses.
+type PageCase = (
+    &'static str,
+    String,
+    Vec<(&'static str, &'static str)>,
+    [StatusCode; 3],
+);
+
 /// (method, path, body) → expected status for anonymous, member, organiser. Writes carry the
 /// session's token; the part row is seeded with 50 pieces, so every take succeeds.
 #[tokio::test]
@@ -262,7 +270,7 @@ async fn rights_matrix_anonymous_member_organiser() {
     let ok = StatusCode::OK;
     let no = StatusCode::FORBIDDEN;
     let anon_page = StatusCode::SEE_OTHER; // to the login page
-    let pages: Vec<(&str, String, Vec<(&str, &str)>, [StatusCode; 3])> = vec![
+    let pages: Vec<PageCase> = vec![
         ("GET", "/".into(), vec![], [anon_page, ok, ok]),
         ("GET", format!("/part/{r}"), vec![], [anon_page, ok, ok]),
         ("GET", "/holds".into(), vec![], [anon_page, ok, ok]),

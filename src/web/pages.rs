@@ -27,7 +27,7 @@ form.inline{display:inline}input,select,button,textarea{font:inherit;padding:.45
 button{background:#246;color:#fff;border:0;border-radius:.3rem;padding:.5rem .9rem;min-height:2.6rem}\
 button.quiet{background:#ddd;color:#111}.box{background:#fff;border:1px solid #ddd;border-radius:.4rem;padding:.6rem;margin:.6rem 0}\
 .ok{background:#e7f6e7;border-color:#9c9}.err{background:#fde8e8;border-color:#d99}pre{white-space:pre-wrap;overflow-x:auto;font-size:.85rem}\
-svg{max-width:100%;height:auto}label{display:inline-block;margin-right:.6rem}textarea{width:100%}";
+svg{max-width:100%;height:auto}.scroll{overflow-x:auto}label{display:inline-block;margin-right:.6rem}textarea{width:100%}";
 
 /// The page frame: head, navigation, a message line, the content.
 pub fn frame(title: &str, who: Who<'_>, note: Option<&str>, body: Markup) -> Markup {
@@ -121,6 +121,15 @@ pub fn shown(s: &str) -> String {
         .collect()
 }
 
+/// A stored UTC time (`2026-12-01T23:42:07.277Z`) as `2026-12-01 23:42:07`, short enough for
+/// a phone's table.
+pub fn when(s: &str) -> String {
+    s.chars()
+        .take(19)
+        .map(|c| if c == 'T' { ' ' } else { c })
+        .collect()
+}
+
 fn free(p: &Part) -> i64 {
     p.quantity - p.held
 }
@@ -207,12 +216,12 @@ pub fn part(who: Who<'_>, v: &PartView, note: Option<&str>) -> Markup {
         @if v.holds.is_empty() {
             p #no-holds { "Nobody." }
         } @else {
-            table #holds {
+            div.scroll { table #holds {
                 tr { th { "Plan" } th { "Unit" } th.n { "Pieces" } th { "By" } th { "Since" } }
                 @for h in &v.holds {
-                    tr { td { (shown(&h.plan)) } td { (shown(&h.member)) } td.n { (h.quantity) } td.who { (shown(&h.who)) } td { (h.created_at) } }
+                    tr { td { (shown(&h.plan)) } td { (shown(&h.member)) } td.n { (h.quantity) } td.who { (shown(&h.who)) } td { (when(&h.created_at)) } }
                 }
-            }
+            } }
         }
         @if let Some(m) = who.member {
             (count_form(who, &format!("{base}/take"), "Take", "take", html! {}))
@@ -239,11 +248,11 @@ pub fn part(who: Who<'_>, v: &PartView, note: Option<&str>) -> Markup {
 
 fn history(entries: &[crate::store::LedgerEntry], labels: Option<&[String]>) -> Markup {
     html! {
-        table #history {
+        div.scroll { table #history {
             tr { th { "When (UTC)" } @if labels.is_some() { th { "Part" } } th { "Who" } th { "What" } th.n { "Δ" } th.n { "After" } th.n { "Held Δ" } }
             @for (i, e) in entries.iter().enumerate() {
                 tr {
-                    td { (e.at) }
+                    td { (when(&e.at)) }
                     @if let Some(l) = labels { td { a href={ "/part/" (e.part_id) } { (l.get(i).map_or("", String::as_str)) } } }
                     td { (shown(&e.who)) }
                     td { (shown(&e.why)) @if let Some(plan) = &e.plan { " (" (shown(plan)) ")" } }
@@ -252,14 +261,17 @@ fn history(entries: &[crate::store::LedgerEntry], labels: Option<&[String]>) -> 
                     td.n { (e.held_delta) }
                 }
             }
-        }
+        } }
     }
 }
+
+/// Holds of one (plan, unit), in listing order.
+type Group<'a> = (&'a str, &'a str, Vec<&'a (Hold, Part)>);
 
 /// The member's holds, by plan and unit, with use and release.
 pub fn holds(who: Who<'_>, v: &HoldsView, all: bool, note: Option<&str>) -> Markup {
     // (plan, unit) groups in listing order.
-    let mut groups: Vec<(&str, &str, Vec<&(Hold, Part)>)> = Vec::new();
+    let mut groups: Vec<Group<'_>> = Vec::new();
     for hp in &v.holds {
         let (h, _) = hp;
         match groups
