@@ -336,30 +336,7 @@ pub fn design(
         f.form.as_str()
     };
     let body = html! {
-        form.box method="get" action="/design" {
-            p {
-                label { input type="radio" name="form" value="pulse" checked[form == "pulse"]; " one-shot" }
-                label { input type="radio" name="form" value="astable" checked[form == "astable"]; " astable" }
-                label { input type="radio" name="form" value="steered" checked[form == "steered"]; " steered (duty < 50 %)" }
-            }
-            p {
-                label { "width " input name="width" value=(f.width) placeholder="250ms" size="8"; }
-                label { "frequency " input name="freq" value=(f.freq) placeholder="1kHz" size="8"; }
-                label { "duty " input name="duty" value=(f.duty) placeholder="60..70%" size="8"; }
-                label { "high " input name="high" value=(f.high) placeholder="1ms" size="7"; }
-                label { "low " input name="low" value=(f.low) placeholder="200us" size="7"; }
-            }
-            p {
-                label { "within " input name="tol" value=(f.tol) placeholder="1%" size="5"; }
-                label { "supply " input name="vcc" value=(f.vcc) placeholder="9V" size="5"; }
-                label { "family " select name="family" {
-                    option value="bipolar" selected[f.family != "cmos"] { "bipolar" }
-                    option value="cmos" selected[f.family == "cmos"] { "cmos" }
-                } }
-            }
-            p.small { "Defaults as the command line: within 1 %, 9 V, bipolar family, ideal thresholds, up to 3 pieces per position, free stock only." }
-            button #find type="submit" { "Find from the stock" }
-        }
+        // The answer first: on a phone the form would push it below the fold.
         @if let Some(r) = result {
             @if let Some(svg) = &r.waveform {
                 div.box #waveform { (PreEscaped(svg)) }
@@ -384,6 +361,30 @@ pub fn design(
                     p { a href="/login" { "Log in" } " to hold these parts." }
                 }
             }
+        }
+        form.box method="get" action="/design" {
+            p {
+                label { input type="radio" name="form" value="pulse" checked[form == "pulse"]; " one-shot" }
+                label { input type="radio" name="form" value="astable" checked[form == "astable"]; " astable" }
+                label { input type="radio" name="form" value="steered" checked[form == "steered"]; " steered (duty < 50 %)" }
+            }
+            p {
+                label { "width " input name="width" value=(f.width) placeholder="250ms" size="8"; }
+                label { "frequency " input name="freq" value=(f.freq) placeholder="1kHz" size="8"; }
+                label { "duty " input name="duty" value=(f.duty) placeholder="60..70%" size="8"; }
+                label { "high " input name="high" value=(f.high) placeholder="1ms" size="7"; }
+                label { "low " input name="low" value=(f.low) placeholder="200us" size="7"; }
+            }
+            p {
+                label { "within " input name="tol" value=(f.tol) placeholder="1%" size="5"; }
+                label { "supply " input name="vcc" value=(f.vcc) placeholder="9V" size="5"; }
+                label { "family " select name="family" {
+                    option value="bipolar" selected[f.family != "cmos"] { "bipolar" }
+                    option value="cmos" selected[f.family == "cmos"] { "cmos" }
+                } }
+            }
+            p.small { "Defaults as the command line: within 1 %, 9 V, bipolar family, ideal thresholds, up to 3 pieces per position, free stock only." }
+            button #find type="submit" { "Find from the stock" }
         }
     };
     frame("Design", who, None, body)
