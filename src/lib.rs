@@ -11,5 +11,6 @@ pub mod solve;
 pub mod store;
 pub mod timing;
 pub mod units;
+pub mod web;
 
 pub use cli::run;

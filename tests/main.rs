@@ -18,3 +18,5 @@ mod safety;
 mod sheet;
 mod stock;
 mod store_safety;
+mod web;
+mod web_browser;

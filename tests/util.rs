@@ -178,3 +178,13 @@ impl Bench {
             .collect()
     }
 }
+
+/// The newest schema version this build knows (what `init` reports on a fresh store).
+pub fn latest_schema() -> String {
+    let dir = tempfile::tempdir().expect("temp dir");
+    let store = onhand::store::Store::open(&dir.path().join("v.db")).expect("open");
+    format!(
+        "schema version {}",
+        store.schema_version().expect("version")
+    )
+}

@@ -154,7 +154,15 @@ pub fn run(args: DemoArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status>
     bench.step(
         "A substitute for a missing 10 kΩ ±1 %",
         "The drawer has no 10 kΩ; the fewest pieces that make one within 1 %:",
-        &["find", "value", "10k", "--tol", "1%", "--alternatives", "2"],
+        &[
+            "find",
+            "value",
+            "10k",
+            "--within",
+            "1%",
+            "--alternatives",
+            "2",
+        ],
     )?;
     bench.step(
         "A one-shot of 500 ms",
@@ -163,7 +171,7 @@ pub fn run(args: DemoArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status>
             "find",
             "pulse",
             "500ms",
-            "--tol",
+            "--within",
             "2%",
             "--alternatives",
             "1",
@@ -172,7 +180,7 @@ pub fn run(args: DemoArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status>
     bench.step(
         "An astable at 1 kHz with 60–70 % duty",
         "The classic astable: the fewest pieces that keep both frequency and duty in their windows:",
-        &["find", "astable", "1kHz", "--duty", "60..70%", "--tol", "2%", "--alternatives", "1"],
+        &["find", "astable", "1kHz", "--duty", "60..70%", "--within", "2%", "--alternatives", "1"],
     )?;
     bench.step(
         "Duty below 50 %: a diode-steered astable",
@@ -184,7 +192,7 @@ pub fn run(args: DemoArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status>
             "1ms",
             "--low",
             "4ms",
-            "--tol",
+            "--within",
             "2%",
             "--alternatives",
             "1",

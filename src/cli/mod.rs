@@ -13,11 +13,13 @@ mod demo;
 mod find;
 mod holds;
 mod log;
+mod member;
 mod output;
 mod plan;
 mod reach;
 mod safe_write;
 mod series;
+mod serve;
 mod stock;
 
 use clap::{Parser, Subcommand};
@@ -102,6 +104,10 @@ pub enum Command {
     Reach(reach::ReachArgs),
     /// Preferred values (IEC 60063 E-series): nearest, next above and below, membership.
     Series(series::SeriesArgs),
+    /// Accounts for the web page: add, list, remove members, set a password (from stdin).
+    Member(member::MemberArgs),
+    /// Serve the web page and JSON API for members at the shared cabinet.
+    Serve(serve::ServeArgs),
     /// Print shell completions.
     Completions {
         /// bash, zsh, fish, elvish or powershell.
@@ -273,6 +279,8 @@ pub(crate) fn dispatch_with(
         Command::Plan(cmd) => plan::run(cmd, &ctx, out),
         Command::Reach(args) => reach::run(args, &ctx, out),
         Command::Series(args) => series::run(args, &ctx, out),
+        Command::Member(args) => member::run(args, &ctx, out),
+        Command::Serve(args) => serve::run(args, &ctx, out),
         Command::Completions { shell } => {
             // Generated into memory first: the generator panics on a failed write, and a
             // closed pipe (`| head -3`) must end quietly instead.

@@ -1,0 +1,536 @@
+//! Every store call the server makes, in one place, so the rules stay the store's and the
+//! handlers hold none of their own. Each function runs its store work on the pool (blocking
+//! threads) and returns plain data. Rights that depend on the data (whose hold this is) are
+//! checked here too, beside the call they guard.
+
+use super::error::WebError;
+use super::pool::Pool;
+use crate::store::{
+    Change, Hold, HoldChange, HoldFilter, ImportReport, Kind, LedgerEntry, Member, PageLogFilter,
+    Part, PartFilter, Session, Value, read_csv,
+};
+use crate::units::{parse_capacitance, parse_resistance};
+use serde::Serialize;
+
+/// A stock search as typed on the page: a value as written on parts, a kind, a bin.
+#[derive(Debug, Clone, Default, serde::Deserialize)]
+pub struct StockQuery {
+    /// `4k7`, `104`, `yellow violet red gold`, `100n`; or words found in the note.
+    #[serde(default)]
+    pub q: String,
+    /// `resistor`, `capacitor`, `trimmer`, `diode` or empty.
+    #[serde(default)]
+    pub kind: String,
+    /// An exact bin, or empty.
+    #[serde(default)]
+    pub bin: String,
+    /// Only parts at or below their low-stock mark (`1`, `on`, `true`).
+    #[serde(default)]
+    pub low: String,
+}
+
+/// What a search found, and how the typed value was read.
+#[derive(Debug, Clone, Serialize)]
+pub struct Found {
+    /// How the query text was understood, e.g. "104 read as 104 Ω or as 100 nF (code)".
+    pub read_as: Vec<String>,
+    /// Matching parts in stock order.
+    pub parts: Vec<Part>,
+}
+
+fn on(flag: &str) -> bool {
+    matches!(flag.trim(), "1" | "on" | "true" | "yes")
+}
+
+/// The filters a query stands for: one per way the value can be read (a bare `104` is both a
+/// 104 Ω resistor and a 100 nF capacitor code), or a note search when it is no value at all.
+pub fn filters_of(q: &StockQuery) -> Result<(Vec<PartFilter>, Vec<String>), WebError> {
+    let kind = match q.kind.trim() {
+        "" | "any" => None,
+        k => Some(
+            k.parse::<Kind>()
+                .map_err(|e| WebError::BadInput(e.to_string()))?,
+        ),
+    };
+    let base = PartFilter {
+        kind,
+        bin: Some(q.bin.trim().to_string()).filter(|b| !b.is_empty()),
+        low: on(&q.low),
+        ..PartFilter::default()
+    };
+    let text = q.q.trim();
+    if text.is_empty() {
+        return Ok((vec![base], Vec::new()));
+    }
+    if text.chars().count() > 100 || text.chars().any(char::is_control) {
+        return Err(WebError::BadInput(
+            "a search is at most 100 plain characters".into(),
+        ));
+    }
+    let mut filters = Vec::new();
+    let mut read_as = Vec::new();
+    let resistive = !matches!(kind, Some(Kind::Capacitor | Kind::Diode));
+    // A capacitance only when the text reads as one (`100n`, `2.2uF`) or is a three-digit
+    // marking code (`104`, `472J`); `4k7` is never 4.7 kF.
+    let digits =
+        text.chars().take(3).filter(char::is_ascii_digit).count() == 3 && text.chars().count() <= 4;
+    let capacitive = matches!(kind, None | Some(Kind::Capacitor))
+        && (kind == Some(Kind::Capacitor)
+            || digits
+            || crate::store::text::infer_kind(text) == Kind::Capacitor);
+    if resistive {
+        if let Ok(r) = parse_resistance(text) {
+            if r.is_positive() {
+                read_as.push(format!("{text} read as {}", Value::Resistance(r)));
+                filters.push(PartFilter {
+                    value: Some(Value::Resistance(r)),
+                    ..base.clone()
+                });
+            }
+        }
+    }
+    if capacitive {
+        if let Ok(c) = parse_capacitance(text) {
+            if c.is_positive() {
+                read_as.push(format!("{text} read as {}", Value::Capacitance(c)));
+                filters.push(PartFilter {
+                    value: Some(Value::Capacitance(c)),
+                    ..base.clone()
+                });
+            }
+        }
+    }
+    if filters.is_empty() {
+        read_as.push(format!("{text:?} is no value; searching the notes"));
+        filters.push(PartFilter {
+            text: Some(text.to_string()),
+            ..base
+        });
+    }
+    Ok((filters, read_as))
+}
+
+/// Parts matching a stock search.
+pub async fn search(pool: &Pool, q: &StockQuery) -> Result<Found, WebError> {
+    let (filters, read_as) = filters_of(q)?;
+    let parts = pool
+        .run(move |s| {
+            let mut all: Vec<Part> = Vec::new();
+            for f in &filters {
+                for p in s.parts(f)? {
+                    if !all.iter().any(|a| a.id == p.id) {
+                        all.push(p);
+                    }
+                }
+            }
+            Ok(all)
+        })
+        .await?;
+    Ok(Found { read_as, parts })
+}
+
+/// One part with its holds and its history, newest first.
+#[derive(Debug, Clone, Serialize)]
+pub struct PartView {
+    /// The part now.
+    pub part: Part,
+    /// Live holds of it.
+    pub holds: Vec<Hold>,
+    /// Its ledger, newest first (at most 100 entries).
+    pub history: Vec<LedgerEntry>,
+}
+
+/// Most history lines a part page shows.
+const HISTORY: usize = 100;
+
+/// A part, its holds and history.
+pub async fn part(pool: &Pool, id: i64) -> Result<PartView, WebError> {
+    pool.run(move |s| {
+        let part = s
+            .parts(&PartFilter::default())?
+            .into_iter()
+            .find(|p| p.id == id)
+            .ok_or(crate::store::StoreError::NoSuchPart(id))?;
+        let holds = s.holds(&HoldFilter {
+            part: Some(id),
+            ..HoldFilter::default()
+        })?;
+        let history = s.page_log(&PageLogFilter {
+            part: Some(id),
+            limit: Some(HISTORY),
+            ..PageLogFilter::default()
+        })?;
+        Ok(PartView {
+            part,
+            holds,
+            history,
+        })
+    })
+    .await
+}
+
+/// Take pieces off the shelf (free pieces only; the store refuses held ones).
+pub async fn take(pool: &Pool, id: i64, qty: i64, who: &Member) -> Result<Change, WebError> {
+    let who = who.name.clone();
+    pool.run(move |s| s.take(id, qty, &who, "web: take")).await
+}
+
+/// Put pieces back onto the row they came from.
+pub async fn put_back(pool: &Pool, id: i64, qty: i64, who: &Member) -> Result<Change, WebError> {
+    let who = who.name.clone();
+    pool.run(move |s| s.put_back(id, qty, &who, "web: put back"))
+        .await
+}
+
+/// Stock-take of one row (organisers).
+pub async fn recount(pool: &Pool, id: i64, counted: i64, who: &Member) -> Result<Change, WebError> {
+    organiser(who, "recount")?;
+    let who = who.name.clone();
+    pool.run(move |s| s.recount(id, counted, &who, "web: recount"))
+        .await
+}
+
+/// Hold pieces of one part for `plan` (the member's own name when empty).
+pub async fn hold_part(
+    pool: &Pool,
+    id: i64,
+    qty: i64,
+    plan: &str,
+    who: &Member,
+) -> Result<HoldChange, WebError> {
+    let plan = if plan.trim().is_empty() {
+        who.name.clone()
+    } else {
+        plan.trim().to_string()
+    };
+    let who = who.name.clone();
+    pool.run(move |s| s.hold(&plan, "", &[(id, qty)], &who, "web: hold"))
+        .await
+}
+
+/// Hold a kit: the same pieces for each of `units` units of `plan`, one hold per unit
+/// ("unit 1", "unit 2", …), all or nothing, so the kit can be used unit by unit.
+pub async fn hold_kit(
+    pool: &Pool,
+    plan: &str,
+    units: usize,
+    items: &[(i64, i64)],
+    who: &Member,
+) -> Result<HoldChange, WebError> {
+    if !(1..=500).contains(&units) {
+        return Err(WebError::BadInput("a kit is 1 to 500 units".into()));
+    }
+    if items.is_empty() {
+        return Err(WebError::BadInput("the kit names no parts".into()));
+    }
+    let names: Vec<String> = (1..=units).map(|u| format!("unit {u}")).collect();
+    let items = items.to_vec();
+    let plan = plan.trim().to_string();
+    let who = who.name.clone();
+    pool.run(move |s| {
+        let asks: Vec<(&str, i64, i64)> = names
+            .iter()
+            .flat_map(|n| items.iter().map(move |&(id, q)| (n.as_str(), id, q)))
+            .collect();
+        s.hold_for_members(&plan, &asks, &who, "web: hold kit")
+    })
+    .await
+}
+
+fn organiser(who: &Member, what: &str) -> Result<(), WebError> {
+    if who.organiser {
+        Ok(())
+    } else {
+        Err(WebError::Forbidden(format!("only an organiser may {what}")))
+    }
+}
+
+/// The live holds of `plan` (and `member`) that `who` may not touch: someone else's, unless
+/// `who` is an organiser.
+fn not_theirs(holds: &[Hold], who: &str, organiser: bool) -> Vec<String> {
+    if organiser {
+        return Vec::new();
+    }
+    let mut others: Vec<String> = holds
+        .iter()
+        .filter(|h| h.who != who)
+        .map(|h| h.who.clone())
+        .collect();
+    others.sort();
+    others.dedup();
+    others
+}
+
+/// Whether a release or use goes back to free stock or onto the boards.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Settle {
+    /// Back to free stock.
+    Release,
+    /// Built in: off the shelf and out of the hold.
+    Use,
+}
+
+/// Release or use the holds of `plan` (and `member`; all members when `None`). A member may
+/// settle only holds they made; an organiser any. All or nothing, as the store does it.
+pub async fn settle(
+    pool: &Pool,
+    how: Settle,
+    plan: &str,
+    member: Option<&str>,
+    who: &Member,
+) -> Result<HoldChange, WebError> {
+    let plan = plan.trim().to_string();
+    let member = member.map(|m| m.trim().to_string());
+    let me = who.name.clone();
+    let organiser = who.organiser;
+    pool.run(move |s| {
+        let holds = s.holds(&HoldFilter {
+            plan: Some(plan.clone()),
+            member: member.clone(),
+            ..HoldFilter::default()
+        })?;
+        let others = not_theirs(&holds, &me, organiser);
+        if !others.is_empty() {
+            return Err(crate::store::StoreError::Invalid(format!(
+                "plan {plan:?} also holds pieces for {}; only they or an organiser may settle those",
+                others.join(", ")
+            )));
+        }
+        match how {
+            Settle::Release => s.release(&plan, member.as_deref(), &[], &me, "web: release"),
+            Settle::Use => s.use_held(&plan, member.as_deref(), None, &me, "web: use"),
+        }
+    })
+    .await
+    .map_err(|e| match e {
+        WebError::Store(crate::store::StoreError::Invalid(m)) if m.contains("only they") => {
+            WebError::Forbidden(m)
+        }
+        other => other,
+    })
+}
+
+/// Holds with their parts: the member's own, or everyone's for an organiser who asks.
+#[derive(Debug, Clone, Serialize)]
+pub struct HoldsView {
+    /// (hold, part) pairs, by plan, member and age.
+    pub holds: Vec<(Hold, Part)>,
+}
+
+/// Live holds made by `who` (all holds when `everyone`).
+pub async fn holds(pool: &Pool, who: &Member, everyone: bool) -> Result<HoldsView, WebError> {
+    let me = who.name.clone();
+    pool.run(move |s| {
+        let parts = s.parts(&PartFilter::default())?;
+        let holds = s
+            .holds(&HoldFilter::default())?
+            .into_iter()
+            .filter(|h| everyone || h.who == me)
+            .filter_map(|h| {
+                let p = parts.iter().find(|p| p.id == h.part_id)?.clone();
+                Some((h, p))
+            })
+            .collect();
+        Ok(HoldsView { holds })
+    })
+    .await
+}
+
+/// Import CSV text (the `onhand import` format), or preview it with `dry_run` (organisers).
+pub async fn import(
+    pool: &Pool,
+    csv: String,
+    dry_run: bool,
+    who: &Member,
+) -> Result<ImportReport, WebError> {
+    organiser(who, "import stock")?;
+    if csv.trim().is_empty() {
+        return Err(WebError::BadInput(
+            "paste or choose a CSV file first".into(),
+        ));
+    }
+    let who = who.name.clone();
+    pool.run(move |s| {
+        let records = read_csv(&csv)?;
+        s.import(&records, "web upload", &who, dry_run)
+    })
+    .await
+}
+
+/// The ledger across the store with filters (organisers).
+pub async fn log(pool: &Pool, filter: PageLogFilter, who: &Member) -> Result<LogView, WebError> {
+    organiser(who, "read the whole log")?;
+    pool.run(move |s| {
+        let parts = s.parts(&PartFilter::default())?;
+        let entries = s.page_log(&filter)?;
+        let labels = entries
+            .iter()
+            .map(|e| {
+                parts.iter().find(|p| p.id == e.part_id).map_or_else(
+                    || format!("#{}", e.part_id),
+                    |p| format!("#{} {}", p.id, p.label()),
+                )
+            })
+            .collect();
+        Ok(LogView { entries, labels })
+    })
+    .await
+}
+
+/// Ledger entries with a label for each entry's part.
+#[derive(Debug, Clone, Serialize)]
+pub struct LogView {
+    /// Newest first.
+    pub entries: Vec<LedgerEntry>,
+    /// `#3 4.7 kΩ 1% metal film` for each entry, same order.
+    pub labels: Vec<String>,
+}
+
+/// Every member (organisers).
+pub async fn members(pool: &Pool, who: &Member) -> Result<Vec<Member>, WebError> {
+    organiser(who, "manage members")?;
+    pool.run(|s| s.members()).await
+}
+
+/// Add a member with a password (organisers). The hash is made off the async threads.
+pub async fn add_member(
+    pool: &Pool,
+    name: &str,
+    organiser_right: bool,
+    password: &str,
+    who: &Member,
+) -> Result<Member, WebError> {
+    organiser(who, "manage members")?;
+    let phc = hash(password).await?;
+    let name = name.to_string();
+    pool.run(move |s| {
+        s.add_member(&name, organiser_right)?;
+        s.set_member_password(&name, &phc)
+    })
+    .await
+}
+
+/// Remove a member (organisers; not oneself, so the cabinet keeps an organiser).
+pub async fn remove_member(pool: &Pool, name: &str, who: &Member) -> Result<Member, WebError> {
+    organiser(who, "manage members")?;
+    if name.trim().eq_ignore_ascii_case(&who.name) {
+        return Err(WebError::BadInput(
+            "you cannot remove yourself here; use `onhand member remove`".into(),
+        ));
+    }
+    let name = name.to_string();
+    pool.run(move |s| s.remove_member(&name)).await
+}
+
+async fn hash(password: &str) -> Result<String, WebError> {
+    let password = password.to_string();
+    tokio::task::spawn_blocking(move || super::auth::hash_password(&password))
+        .await
+        .map_err(|e| WebError::Internal(e.to_string()))?
+        .map_err(|e| WebError::BadInput(e.to_string()))
+}
+
+/// Check a login; on success open a session and return (member, token, csrf). The password
+/// check runs on a blocking thread; a missing account costs the same time as a wrong password.
+pub async fn login(
+    pool: &Pool,
+    name: &str,
+    password: &str,
+    seconds: i64,
+) -> Result<Option<(Member, String, String)>, WebError> {
+    let n = name.to_string();
+    let found = pool.run(move |s| s.member_with_password(&n)).await?;
+    let password = password.to_string();
+    let ok = tokio::task::spawn_blocking(move || match &found {
+        Some((m, Some(phc))) if super::auth::verify_password(&password, phc) => Some(m.clone()),
+        _ => {
+            if found.is_none() {
+                super::auth::verify_nothing(&password);
+            }
+            None
+        }
+    })
+    .await
+    .map_err(|e| WebError::Internal(e.to_string()))?;
+    let Some(member) = ok else {
+        return Ok(None);
+    };
+    let token = super::auth::new_token()?;
+    let csrf = super::auth::new_token()?;
+    let hash = super::auth::token_hash(&token);
+    let (id, c) = (member.id, csrf.clone());
+    pool.run(move |s| s.open_session(id, &hash, &c, seconds))
+        .await?;
+    Ok(Some((member, token, csrf)))
+}
+
+/// The live session for a cookie token, if any.
+pub async fn session(pool: &Pool, token: &str) -> Result<Option<Session>, WebError> {
+    let hash = super::auth::token_hash(token);
+    pool.run(move |s| s.session(&hash)).await
+}
+
+/// End the session of this cookie token.
+pub async fn logout(pool: &Pool, token: &str) -> Result<(), WebError> {
+    let hash = super::auth::token_hash(token);
+    pool.run(move |s| s.end_session(&hash)).await
+}
+
+/// The free stock snapshot the design search runs on (held pieces are not free).
+pub async fn snapshot(pool: &Pool) -> Result<Vec<Part>, WebError> {
+    pool.run(|s| s.available_parts()).await
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn q(text: &str, kind: &str) -> StockQuery {
+        StockQuery {
+            q: text.into(),
+            kind: kind.into(),
+            ..StockQuery::default()
+        }
+    }
+
+    #[test]
+    fn values_are_read_as_written_on_parts() {
+        // 4k7: resistance only. Source: IEC 60062 letter-for-decimal-point code.
+        let (f, read) = filters_of(&q("4k7", "")).expect("ok");
+        assert_eq!(f.len(), 1);
+        assert!(read[0].contains("4.7 kΩ"), "{read:?}");
+        // 104: both a 104 Ω resistor and the capacitor code for 100 nF (IEC 60062).
+        let (f, read) = filters_of(&q("104", "")).expect("ok");
+        assert_eq!(f.len(), 2, "{read:?}");
+        assert!(read.iter().any(|r| r.contains("100 nF")), "{read:?}");
+        let (f, _) = filters_of(&q("104", "capacitor")).expect("ok");
+        assert_eq!(f.len(), 1);
+        // Colour bands: yellow violet red = 4.7 kΩ (IEC 60062 colour code).
+        let (_, read) = filters_of(&q("yellow violet red gold", "")).expect("ok");
+        assert!(read[0].contains("4.7 kΩ"), "{read:?}");
+        // Not a value: a note search.
+        let (f, _) = filters_of(&q("timing", "")).expect("ok");
+        assert_eq!(f[0].text.as_deref(), Some("timing"));
+        assert!(filters_of(&q("x", "blob")).is_err());
+        assert!(filters_of(&q("a\u{0}b", "")).is_err());
+    }
+
+    #[test]
+    fn only_own_holds_unless_organiser() {
+        let h = |who: &str| Hold {
+            id: 1,
+            plan: "p".into(),
+            member: String::new(),
+            part_id: 1,
+            quantity: 1,
+            created_at: String::new(),
+            who: who.into(),
+            note: String::new(),
+            age_seconds: 0,
+        };
+        let holds = vec![h("alice"), h("bob"), h("bob")];
+        assert_eq!(not_theirs(&holds, "alice", false), vec!["bob".to_string()]);
+        assert!(not_theirs(&holds, "alice", true).is_empty());
+        assert!(not_theirs(&holds[..1], "alice", false).is_empty());
+    }
+}
