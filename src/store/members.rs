@@ -6,8 +6,6 @@
 //! strings made in `web::auth`); session tokens arrive as hashes. No hashing, no HTTP here.
 
 use super::change::LedgerEntry;
-use super::part::Part;
-use super::query::part_by_id;
 use super::{Change, Store, StoreError};
 use rusqlite::{OptionalExtension, Row, TransactionBehavior, params};
 use serde::Serialize;
@@ -233,8 +231,9 @@ impl Store {
         Ok(())
     }
 
-    /// Put `qty` pieces (1 or more) back onto row `id`, the row they were taken from, with its
-    /// ledger entry, in one IMMEDIATE transaction.
+    /// Put `qty` pieces (1 or more) back onto row `id`, the row they were taken from: the same
+    /// store function as `add '#7'` ([`Store::add_to_row`]), so it is one change of its own in
+    /// the ledger (and can be undone as one).
     pub fn put_back(
         &mut self,
         id: i64,
@@ -248,34 +247,7 @@ impl Store {
                 got: qty,
             });
         }
-        let tx = self
-            .conn
-            .transaction_with_behavior(TransactionBehavior::Immediate)?;
-        let part: Part = part_by_id(&tx, id)?;
-        let after = part
-            .quantity
-            .checked_add(qty)
-            .ok_or_else(|| StoreError::Overflow {
-                label: part.label(),
-            })?;
-        tx.prepare_cached("UPDATE part SET quantity = ?2 WHERE id = ?1")?
-            .execute(params![id, after])?;
-        tx.prepare_cached(
-            "INSERT INTO ledger (part_id, who, why, delta, quantity_after, held_after) \
-             VALUES (?1, ?2, ?3, ?4, ?5, \
-                     (SELECT COALESCE(SUM(quantity), 0) FROM hold WHERE part_id = ?1))",
-        )?
-        .execute(params![id, who, why, qty, after])?;
-        let now = part_by_id(&tx, id)?;
-        tx.commit()?;
-        Ok(Change {
-            before: part.quantity,
-            part: now,
-            created: false,
-            delta: qty,
-            updated: Vec::new(),
-            why: why.to_string(),
-        })
+        self.add_to_row(id, qty, who, why)
     }
 
     /// Ledger entries across the whole store matching `filter`, newest first.
