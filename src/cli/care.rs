@@ -144,7 +144,7 @@ fn print_undo(
     out: &mut dyn Write,
 ) -> anyhow::Result<()> {
     if ctx.json {
-        writeln!(out, "{}", serde_json::to_string(undo)?)?;
+        crate::cli::json::line(out, undo)?;
         return Ok(());
     }
     let when = store
@@ -194,7 +194,7 @@ fn run_remove(a: RemoveArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resu
     let part = resolve_part(&store, &a.part, &a.narrow)?;
     let removed = store.remove_row(part.id)?;
     if ctx.json {
-        writeln!(out, "{}", serde_json::json!({ "removed": removed }))?;
+        crate::cli::json::line(out, &serde_json::json!({ "removed": removed }))?;
     } else {
         writeln!(
             out,
@@ -213,7 +213,7 @@ fn run_merge(a: MergeArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Result
     let why = reason(a.why, &format!("merge #{} into #{}", from.id, into.id))?;
     let m = store.merge_rows(from.id, into.id, &ctx.user, &why)?;
     if ctx.json {
-        writeln!(out, "{}", serde_json::to_string(&m)?)?;
+        crate::cli::json::line(out, &m)?;
         return Ok(Status::Success);
     }
     writeln!(

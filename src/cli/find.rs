@@ -330,7 +330,7 @@ pub fn run(args: FindArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status>
             obj.insert("notes".into(), serde_json::to_value(&written.notes)?);
             obj.insert("sheets".into(), serde_json::to_value(&sheets)?);
         }
-        writeln!(out, "{}", serde_json::to_string_pretty(&j)?)?;
+        crate::cli::json::pretty(out, &j)?;
     } else {
         render::text(out, &view)?;
         written.text(out)?;
@@ -836,30 +836,6 @@ fn guess_kind(text: &str) -> Kind {
     }
 }
 
-fn tech_of(name: &str) -> Option<Technology> {
-    Some(
-        match name
-            .trim()
-            .to_ascii_lowercase()
-            .replace(['-', ' '], "_")
-            .as_str()
-        {
-            "metal_film" | "metal" | "mf" => Technology::MetalFilm,
-            "carbon_film" | "carbon" | "cf" => Technology::CarbonFilm,
-            "thick_film" | "thick" => Technology::ThickFilm,
-            "wirewound" | "ww" => Technology::Wirewound,
-            "c0g" | "np0" | "cog" => Technology::C0g,
-            "x7r" => Technology::X7r,
-            "y5v" | "z5u" => Technology::Y5v,
-            "film" | "polyester" | "polypropylene" => Technology::Film,
-            "electrolytic" | "elec" => Technology::Electrolytic,
-            "tantalum" | "tant" => Technology::Tantalum,
-            "other" | "" => Technology::Other,
-            _ => return None,
-        },
-    )
-}
-
 /// The capacitor technologies a search may use: the named ones, all, or (no list) everything but
 /// electrolytics and tantalum for timing.
 pub(crate) fn techs(list: &[String], timing: bool) -> Result<Option<Vec<Technology>>> {
@@ -878,7 +854,7 @@ pub(crate) fn techs(list: &[String], timing: bool) -> Result<Option<Vec<Technolo
         }));
     }
     list.iter()
-        .map(|t| tech_of(t).ok_or_else(|| anyhow!("unknown technology {t:?}")))
+        .map(|t| t.parse::<Technology>().map_err(|e| anyhow!("--tech: {e}")))
         .collect::<Result<Vec<_>>>()
         .map(Some)
 }

@@ -9,10 +9,10 @@ use super::stock::{
     Narrow, describe, low_warning, open_for_writing, open_store, reason, resolve_part,
 };
 use super::{Context, Status};
+use crate::report::table::Table;
 use crate::solve::plan::Buildable;
 use crate::store::{Hold, HoldAction, HoldChange, HoldFilter, Part, Store, unit_of, units_text};
 use anyhow::{Context as _, bail};
-use comfy_table::{CellAlignment, Table, presets};
 use serde::Serialize;
 use std::collections::BTreeMap;
 use std::io::Write;
@@ -279,7 +279,7 @@ fn run_use(a: UseArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Result<Sta
 /// with the part's counts after the change.
 pub fn print_change(change: &HoldChange, ctx: &Context, out: &mut dyn Write) -> anyhow::Result<()> {
     if ctx.json {
-        writeln!(out, "{}", serde_json::to_string(change)?)?;
+        crate::cli::json::line(out, change)?;
         return Ok(());
     }
     let verb = match change.action {
@@ -562,7 +562,7 @@ fn run_list(a: ListArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Result<S
                 })
             })
             .collect::<anyhow::Result<Vec<_>>>()?;
-        writeln!(out, "{}", serde_json::to_string_pretty(&listed)?)?;
+        crate::cli::json::pretty(out, &listed)?;
         return Ok(Status::Success);
     }
     if holds.is_empty() {
@@ -577,20 +577,19 @@ fn run_list(a: ListArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Result<S
         )?;
         return Ok(Status::Success);
     }
-    let mut t = Table::new();
-    t.load_style(presets::UTF8_FULL_CONDENSED);
-    t.set_header(vec![
+    let mut t = Table::new([
         "plan",
         "member",
         "part",
         "held",
         "since (UTC)",
-        "",
+        "state",
         "who",
         "note",
-    ]);
+    ])
+    .right_aligned(&[3]);
     for h in &holds {
-        t.add_row(vec![
+        t.row([
             h.plan.clone(),
             h.member.clone(),
             describe(part_of(h)?),
@@ -605,10 +604,7 @@ fn run_list(a: ListArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Result<S
             h.note.clone(),
         ]);
     }
-    if let Some(c) = t.column_mut(3) {
-        c.set_cell_alignment(CellAlignment::Right);
-    }
-    writeln!(out, "{t}")?;
+    writeln!(out, "{}", t.render(ctx.style))?;
     let pieces: i64 = holds.iter().map(|h| h.quantity).sum();
     let plans: std::collections::BTreeSet<&str> = holds.iter().map(|h| h.plan.as_str()).collect();
     writeln!(

@@ -3,9 +3,10 @@
 
 use super::stock::{Narrow, describe, open_store, rows_of_value};
 use super::{Context, Status};
+use crate::report::style::Style;
+use crate::report::table::Table;
 use crate::store::{LogEntry, LogFilter, Store};
 use anyhow::{Context as _, bail};
-use comfy_table::{CellAlignment, Table, presets};
 use std::io::Write;
 use std::path::PathBuf;
 
@@ -162,10 +163,8 @@ fn plain(text: &str) -> String {
         .collect()
 }
 
-fn to_table(entries: &[LogEntry], store: &Store) -> anyhow::Result<String> {
-    let mut t = Table::new();
-    t.load_style(presets::UTF8_FULL_CONDENSED);
-    t.set_header(vec![
+fn to_table(entries: &[LogEntry], store: &Store, style: Style) -> anyhow::Result<String> {
+    let mut t = Table::new([
         "entry",
         "when (local)",
         "who",
@@ -174,7 +173,8 @@ fn to_table(entries: &[LogEntry], store: &Store) -> anyhow::Result<String> {
         "held",
         "plan",
         "why",
-    ]);
+    ])
+    .right_aligned(&[0, 4, 5]);
     for e in entries {
         let l = &e.entry;
         let part = match store.part(l.part_id) {
@@ -203,9 +203,9 @@ fn to_table(entries: &[LogEntry], store: &Store) -> anyhow::Result<String> {
         let entry = if l.change_id == l.id {
             l.id.to_string()
         } else {
-            format!("{} (of {})", l.id, l.change_id)
+            format!("{} (change {})", l.id, l.change_id)
         };
-        t.add_row(vec![
+        t.row([
             entry,
             e.local_time.clone(),
             plain(&l.who),
@@ -216,12 +216,7 @@ fn to_table(entries: &[LogEntry], store: &Store) -> anyhow::Result<String> {
             plain(&why),
         ]);
     }
-    for col in [0, 4, 5] {
-        if let Some(c) = t.column_mut(col) {
-            c.set_cell_alignment(CellAlignment::Right);
-        }
-    }
-    Ok(t.to_string())
+    Ok(t.render(style))
 }
 
 /// Run `log`.
@@ -261,7 +256,13 @@ pub fn run(a: LogArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Result<Sta
             LogFormat::Csv => to_csv(&entries)?,
             LogFormat::Text if entries.is_empty() => b"no ledger entries match\n".to_vec(),
             LogFormat::Text => {
-                let mut s = to_table(&entries, &store)?;
+                // A file gets plain tab-separated text; a terminal gets boxes.
+                let style = if a.out.is_some() {
+                    Style::PLAIN
+                } else {
+                    ctx.style
+                };
+                let mut s = to_table(&entries, &store, style)?;
                 let pieces_in: i64 = entries.iter().map(|e| e.entry.delta.max(0)).sum();
                 let pieces_out: i64 = entries.iter().map(|e| (-e.entry.delta).max(0)).sum();
                 s.push_str(&format!(

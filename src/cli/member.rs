@@ -4,9 +4,9 @@
 
 use super::stock::open_store;
 use super::{Context, Status};
+use crate::report::table::Table;
 use crate::web::auth::hash_password;
 use anyhow::{Context as _, bail};
-use comfy_table::{Table, presets};
 use std::io::{BufRead, Write};
 
 const MEMBER_EXAMPLES: &str = "\
@@ -58,7 +58,7 @@ pub fn run(args: MemberArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resu
         Action::Add { name, organiser } => {
             let m = store.add_member(&name, organiser)?;
             if ctx.json {
-                writeln!(out, "{}", serde_json::to_string(&m)?)?;
+                crate::cli::json::line(out, &m)?;
             } else {
                 let right = if m.organiser { "organiser" } else { "member" };
                 writeln!(
@@ -71,31 +71,29 @@ pub fn run(args: MemberArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resu
         Action::List => {
             let list = store.members()?;
             if ctx.json {
-                writeln!(out, "{}", serde_json::to_string_pretty(&list)?)?;
+                crate::cli::json::pretty(out, &list)?;
             } else if list.is_empty() {
                 writeln!(
                     out,
                     "no members yet; add one with: onhand member add NAME --organiser"
                 )?;
             } else {
-                let mut t = Table::new();
-                t.load_style(presets::UTF8_FULL_CONDENSED);
-                t.set_header(["name", "right", "password", "since"]);
+                let mut t = Table::new(["name", "right", "password", "since"]);
                 for m in &list {
-                    t.add_row([
+                    t.row([
                         m.name.clone(),
                         if m.organiser { "organiser" } else { "member" }.to_string(),
                         if m.has_password { "set" } else { "not set" }.to_string(),
                         m.created_at.clone(),
                     ]);
                 }
-                writeln!(out, "{t}")?;
+                writeln!(out, "{}", t.render(ctx.style))?;
             }
         }
         Action::Remove { name } => {
             let m = store.remove_member(&name)?;
             if ctx.json {
-                writeln!(out, "{}", serde_json::json!({"removed": m}))?;
+                crate::cli::json::line(out, &serde_json::json!({"removed": m}))?;
             } else {
                 writeln!(out, "removed {}; the ledger keeps their history", m.name)?;
             }
@@ -113,7 +111,7 @@ pub fn run(args: MemberArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resu
             let phc = hash_password(password)?;
             let m = store.set_member_password(&name, &phc)?;
             if ctx.json {
-                writeln!(out, "{}", serde_json::json!({"password_set": m.name}))?;
+                crate::cli::json::line(out, &serde_json::json!({"password_set": m.name}))?;
             } else {
                 writeln!(
                     out,

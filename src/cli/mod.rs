@@ -12,6 +12,7 @@ mod context;
 mod demo;
 mod find;
 mod holds;
+mod json;
 mod log;
 mod member;
 mod output;

@@ -493,6 +493,7 @@ pub fn json(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
     }
     #[derive(Serialize)]
     struct J<'a> {
+        schema: u32,
         goal: &'a Goal,
         tolerance: f64,
         family: &'a str,
@@ -506,7 +507,6 @@ pub fn json(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
         complete: bool,
         stopped_at_time_limit: bool,
         no_design_below: usize,
-        seconds: f64,
         networks_seen: u64,
         refused: &'a [(String, u64)],
         designs: Vec<JDesign<'a>>,
@@ -516,6 +516,7 @@ pub fn json(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
     }
     let o = v.outcome;
     let j = J {
+        schema: crate::report::style::JSON_SCHEMA,
         goal: v.goal,
         tolerance: v.settings.tol,
         family: v.settings.family.name,
@@ -529,7 +530,6 @@ pub fn json(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
         complete: o.complete,
         stopped_at_time_limit: !o.complete,
         no_design_below: o.no_design_below,
-        seconds: o.seconds,
         networks_seen: o.networks_seen,
         refused: &o.refused,
         designs: o

@@ -88,7 +88,7 @@ fn add_to_row(a: AddArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Result<
     let why = super::reason(a.why, "add")?;
     let change = store.add_to_row(id, qty, &ctx.user, &why)?;
     if ctx.json {
-        writeln!(out, "{}", serde_json::to_string(&change)?)?;
+        crate::cli::json::line(out, &change)?;
         return Ok(Status::Success);
     }
     writeln!(
@@ -139,7 +139,7 @@ pub fn run(a: AddArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Result<Sta
     let mut store = super::open_for_writing(ctx)?;
     let change = store.add(&spec, qty, &ctx.user, &why)?;
     if ctx.json {
-        writeln!(out, "{}", serde_json::to_string(&change)?)?;
+        crate::cli::json::line(out, &change)?;
         return Ok(Status::Success);
     }
     let p = &change.part;

@@ -161,7 +161,7 @@ pub fn run_import(a: ImportArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::
         .import(&records, &name, &ctx.user, a.dry_run)
         .with_context(|| format!("importing {}", a.file.display()))?;
     if ctx.json {
-        writeln!(out, "{}", serde_json::to_string(&report)?)?;
+        crate::cli::json::line(out, &report)?;
         return Ok(Status::Success);
     }
     let (new, add) = if a.dry_run {

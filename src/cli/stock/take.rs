@@ -60,7 +60,7 @@ pub struct RecountArgs {
 
 fn print(change: &Change, verb: &str, ctx: &Context, out: &mut dyn Write) -> anyhow::Result<()> {
     if ctx.json {
-        writeln!(out, "{}", serde_json::to_string(change)?)?;
+        crate::cli::json::line(out, change)?;
         return Ok(());
     }
     let p = &change.part;
