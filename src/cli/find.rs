@@ -13,7 +13,7 @@ use crate::store::{Kind, Part, Technology};
 use crate::timing::{Conditions, DiodeModel, Model};
 use crate::units::eseries::Series;
 use crate::units::{
-    parse_capacitance, parse_frequency, parse_ratio, parse_resistance, parse_time, parse_tolerance,
+    parse_capacitance, parse_frequency, parse_resistance, parse_time, parse_tolerance,
     parse_voltage,
 };
 use anyhow::{Context as _, Result, anyhow, bail};
@@ -150,7 +150,8 @@ enum Target {
         /// Period instead of frequency, e.g. 1ms.
         #[arg(long, conflicts_with = "freq")]
         period: Option<String>,
-        /// Duty cycle: a window such as 60..70% or a target such as 65%.
+        /// Duty cycle: a window such as 60..70%, a point with its window such as 65%±2, or a
+        /// point alone such as 65% (±1 point, as in plan files).
         #[arg(long)]
         duty: Option<String>,
     },
@@ -804,20 +805,13 @@ pub(crate) fn stage_of(text: &str) -> Result<StageGoal> {
     })
 }
 
+/// A duty target in the one grammar every command shares (`model::parse_duty`): a range
+/// `60..75%`, a point with its window `60%±2`, or a point alone (±1 point).
 fn duty_of(text: Option<&str>) -> Result<Duty> {
     let Some(t) = text else { return Ok(Duty::Any) };
-    let ratio = |s: &str| -> Result<f64> { Ok(parse_ratio(s).map_err(|e| anyhow!(e))?.si()) };
-    Ok(match t.split_once("..") {
-        Some((a, b)) => {
-            let a = if b.trim().ends_with('%') && !a.trim().ends_with('%') {
-                format!("{a}%")
-            } else {
-                a.to_string()
-            };
-            Duty::Range(ratio(&a)?, ratio(b)?)
-        }
-        None => Duty::Point(ratio(t)?),
-    })
+    let w = crate::model::parse_duty(t).map_err(|e| anyhow!("--duty: {e}"))?;
+    let (lo, hi) = w.si();
+    Ok(Duty::Range(lo, hi))
 }
 
 /// Resistor unless the text says farads or uses a prefix only capacitors use (p, n, u, µ).
@@ -912,7 +906,16 @@ mod tests {
             Duty::Range(a, b) => assert!((a - 0.6).abs() < 1e-9 && (b - 0.7).abs() < 1e-9),
             other => panic!("{other:?}"),
         }
-        assert!(matches!(duty_of(Some("65%")), Ok(Duty::Point(_))));
+        // A point alone is the same ±1-point window in find as in plan files.
+        match duty_of(Some("65%")).expect("point") {
+            Duty::Range(a, b) => assert!((a - 0.64).abs() < 1e-9 && (b - 0.66).abs() < 1e-9),
+            other => panic!("{other:?}"),
+        }
+        match duty_of(Some("65%±2")).expect("point with window") {
+            Duty::Range(a, b) => assert!((a - 0.63).abs() < 1e-9 && (b - 0.67).abs() < 1e-9),
+            other => panic!("{other:?}"),
+        }
+        assert!(duty_of(Some("75..60%")).is_err());
     }
 
     #[test]

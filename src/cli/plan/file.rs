@@ -193,45 +193,11 @@ fn period_of(stage: &str, s: &RawStage) -> Result<Seconds, PlanFileError> {
     }
 }
 
-/// Read a duty window: `55%..70%`, `0.55..0.7`, or a single value meaning ±1 point.
+/// Read a duty window in the one grammar every command shares (`model::parse_duty`):
+/// `55%..70%`, `0.55..0.7`, `60%±2`, or a single value meaning ±1 point.
 pub fn parse_duty(text: &str) -> Result<(Ratio, Ratio), PlanFileError> {
-    let bad = |why: &str| {
-        PlanFileError(format!(
-            "duty {text:?}: {why} (expected a window such as 55%..70%)"
-        ))
-    };
-    let (a, b) = match text.split_once("..") {
-        Some((a, b)) => {
-            let b = if a.trim().ends_with('%') && !b.trim().ends_with('%') {
-                format!("{}%", b.trim())
-            } else {
-                b.to_string()
-            };
-            let a = if b.trim().ends_with('%') && !a.trim().ends_with('%') {
-                format!("{}%", a.trim())
-            } else {
-                a.to_string()
-            };
-            (
-                units::parse_ratio(&a).map_err(|e| bad(&e.to_string()))?,
-                units::parse_ratio(&b).map_err(|e| bad(&e.to_string()))?,
-            )
-        }
-        None => {
-            let d = units::parse_ratio(text).map_err(|e| bad(&e.to_string()))?;
-            let point = Ratio::from_base(10_000_000);
-            (
-                Ratio::from_base(d.base() - point.base()),
-                Ratio::from_base(d.base() + point.base()),
-            )
-        }
-    };
-    if a > b || a.base() <= 0 || b.base() >= Ratio::PER_SI {
-        return Err(bad(
-            "the window must lie strictly between 0 % and 100 %, low end first",
-        ));
-    }
-    Ok((a, b))
+    let w = crate::model::parse_duty(text).map_err(|e| PlanFileError(format!("duty: {e}")))?;
+    Ok((w.low, w.high))
 }
 
 /// Parse and validate a plan file's text.
@@ -381,6 +347,18 @@ pub fn parse_plan(text: &str) -> Result<PlanSpec, PlanFileError> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn a_duty_reads_as_it_does_in_find() {
+        let pct = |r: Ratio| r.si() * 100.0;
+        let (lo, hi) = parse_duty("65%").expect("a point");
+        assert!((pct(lo) - 64.0).abs() < 1e-9 && (pct(hi) - 66.0).abs() < 1e-9);
+        let (lo, hi) = parse_duty("65%±2").expect("a point with its window");
+        assert!((pct(lo) - 63.0).abs() < 1e-9 && (pct(hi) - 67.0).abs() < 1e-9);
+        let (lo, hi) = parse_duty("0.55..0.7").expect("a range");
+        assert!((pct(lo) - 55.0).abs() < 1e-9 && (pct(hi) - 70.0).abs() < 1e-9);
+        assert!(parse_duty("70%..55%").is_err());
+    }
 
     const KIT: &str = r#"
 name = "blinker kit"
