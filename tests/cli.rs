@@ -116,6 +116,32 @@ fn global_options_are_listed_once_in_the_top_help() {
 }
 
 #[test]
+fn user_is_refused_on_commands_that_change_nothing() {
+    let b = Bench::new().with_sample("bench-drawer.csv");
+    for args in [
+        &["--user", "ana", "list"][..],
+        &["list", "--user", "ana"][..],
+        &["--user", "ana", "find", "pulse", "10ms"][..],
+        &["--user", "ana", "holds"][..],
+    ] {
+        b.run(args)
+            .code(2)
+            .stderr_has("--user names who makes a change");
+    }
+    // On a command that writes, it is who the ledger records.
+    b.run(&["--user", "ana", "take", "#1", "--qty", "1"]).ok();
+    let log = b.run(&["--json", "log", "--last", "1"]).ok().json();
+    assert_eq!(log[0]["who"], "ana", "{log}");
+    // From the environment it is fine everywhere (set once in a shell profile).
+    let mut cmd = util::onhand();
+    cmd.arg("--db")
+        .arg(b.db())
+        .env("ONHAND_USER", "ana")
+        .arg("list");
+    crate::util::Run::from(cmd).ok();
+}
+
+#[test]
 fn errors_share_one_style_and_are_json_under_json() {
     let b = Bench::new().with_sample("bench-drawer.csv");
     // The argument parser's errors and ours start the same way.

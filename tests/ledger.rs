@@ -36,13 +36,12 @@ fn cabinet() -> (Bench, String) {
     (b, kit.to_str().expect("utf-8").to_string())
 }
 
-/// `onhand --db <bench db> --user WHO ARGS…`.
+/// `onhand --db <bench db> ARGS…` as the user WHO (`ONHAND_USER`).
 fn run_as(b: &Bench, who: &str, args: &[&str]) -> crate::util::Run {
     let mut cmd = onhand();
     cmd.arg("--db")
         .arg(b.db())
-        .arg("--user")
-        .arg(who)
+        .env("ONHAND_USER", who)
         .args(args);
     crate::util::Run::from(cmd)
 }

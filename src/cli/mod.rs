@@ -194,9 +194,10 @@ where
 {
     let args: Vec<T> = args.into_iter().collect();
     let json = wants_json(&args);
-    let parsed = command()
-        .try_get_matches_from(args)
-        .and_then(|m| <Cli as clap::FromArgMatches>::from_arg_matches(&m));
+    let parsed = command().try_get_matches_from(args).and_then(|m| {
+        refuse_user_on_reading(&m)?;
+        <Cli as clap::FromArgMatches>::from_arg_matches(&m)
+    });
     let cli = match parsed {
         Ok(cli) => cli,
         Err(e) if !e.use_stderr() => {
@@ -235,6 +236,43 @@ where
             report_error(json, error_code(&e), &format!("{e:#}"));
             2
         }
+    }
+}
+
+/// Commands that never change the stock or the ledger, so `--user` (who makes a change) means
+/// nothing to them. `ONHAND_USER` from the environment is still fine everywhere.
+const READING_COMMANDS: [&str; 12] = [
+    "list",
+    "show",
+    "export",
+    "holds",
+    "log",
+    "backup",
+    "check",
+    "find",
+    "reorder",
+    "reach",
+    "series",
+    "completions",
+];
+
+/// Refuse `--user` typed on a command that writes nothing, in the argument parser's style.
+fn refuse_user_on_reading(m: &clap::ArgMatches) -> Result<(), clap::Error> {
+    let typed = m.value_source("user") == Some(clap::parser::ValueSource::CommandLine)
+        || m.subcommand().is_some_and(|(_, sub)| {
+            sub.try_get_raw("user").is_ok_and(|v| v.is_some())
+                && sub.value_source("user") == Some(clap::parser::ValueSource::CommandLine)
+        });
+    match m.subcommand_name() {
+        Some(name) if typed && READING_COMMANDS.contains(&name) => Err(command().error(
+            clap::error::ErrorKind::ArgumentConflict,
+            format!(
+                "--user names who makes a change for the ledger; `{name}` changes nothing \
+                 (use it with add, take, recount, import, hold, release, use, plan --hold, undo, \
+                 remove, merge, restore)"
+            ),
+        )),
+        _ => Ok(()),
     }
 }
 
