@@ -489,9 +489,31 @@ pub fn parse_capacitor_marking(text: &str) -> Result<(Farads, Option<Tolerance>)
     }
 }
 
-/// Parse a time: `10ms`, `250 ms`, `1.5 s`, `100us`, `2.5` (seconds).
+/// Parse a time: `10ms`, `250 ms`, `1.5 s`, `100us`, `2.5` (seconds), and the long units the
+/// reports print (`90 min`, `1.5 h`, `2 d`).
 pub fn parse_time(text: &str) -> Result<Seconds, ParseError> {
+    if let Some(t) = long_time(text) {
+        return t;
+    }
     parse_with(text, &TIME).map(Seconds::from_base)
+}
+
+/// A time in minutes, hours or days — the units `time_text` prints for long times, so a
+/// printed time can be typed back. `None` when the text does not end in one of them.
+fn long_time(text: &str) -> Option<Result<Seconds, ParseError>> {
+    let t = text.trim();
+    let (number, per) = [("min", 60_i64), ("h", 3600), ("d", 86_400)]
+        .into_iter()
+        .find_map(|(unit, per)| t.strip_suffix(unit).map(|n| (n.trim_end(), per)))?;
+    // Only a plain number before the unit: `1.5 h`, not `1.5ms h`.
+    if number.is_empty() || !number.chars().all(|c| c.is_ascii_digit() || c == '.') {
+        return None;
+    }
+    Some(parse_with(number, &TIME).and_then(|base| {
+        base.checked_mul(per)
+            .map(Seconds::from_base)
+            .ok_or_else(|| err(text, TIME.expected, "too long"))
+    }))
 }
 
 /// Parse a frequency: `1k`, `440 Hz`, `38 kHz`, `0.5` (hertz).
@@ -517,6 +539,9 @@ fn parse_strict(text: &str, g: &Grammar, examples: &str) -> Result<i64, ParseErr
 /// Parse a time that must say its unit: `250ms`, `1.5 s`, `100u`; a bare `250` is refused with
 /// "250 what? …". For every option and argument where a time is asked for.
 pub fn parse_time_strict(text: &str) -> Result<Seconds, ParseError> {
+    if let Some(t) = long_time(text) {
+        return t;
+    }
     parse_strict(text, &TIME, "{}ms, {} s or {}us").map(Seconds::from_base)
 }
 

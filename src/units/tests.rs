@@ -121,6 +121,25 @@ fn capacitor_markings_keep_the_tolerance() {
 }
 
 #[test]
+fn long_times_read_back_as_printed() {
+    let s = |x: i64| Seconds::from_base(x * 1_000_000_000_000);
+    assert_eq!(parse_time_strict("90 min"), Ok(s(5400)));
+    assert_eq!(parse_time_strict("1h"), Ok(s(3600)));
+    assert_eq!(parse_time("1.5 h"), Ok(s(5400)));
+    assert_eq!(parse_time_strict("2 d"), Ok(s(172_800)));
+    // What time_text prints for long times is accepted back unchanged.
+    for secs in [90, 5400, 7200, 172_800] {
+        let shown = time_text(s(secs), 4);
+        assert_eq!(parse_time_strict(&shown), Ok(s(secs)), "{shown}");
+    }
+    // A prefix and a long unit together is not a time.
+    assert!(parse_time_strict("1.5ms h").is_err());
+    assert!(parse_time_strict("h").is_err());
+    // Beyond what the exact store holds (about 106 days): refused, not wrapped.
+    assert!(parse_time_strict("999999 d").is_err());
+}
+
+#[test]
 fn other_quantities() {
     assert_eq!(
         parse_time("1.5 s"),
@@ -290,7 +309,13 @@ fn bad_input_is_a_clear_error() {
     for text in ["60k", "60 %%", "%", "1e400%"] {
         assert!(parse_ratio(text).is_err(), "{text:?}");
     }
-    assert!(parse_time("1 min").is_err());
+    // Minutes are read as printed (never as milli-something); anything else after them is not.
+    assert_eq!(
+        parse_time("1 min"),
+        Ok(Seconds::from_base(60_000_000_000_000))
+    );
+    assert!(parse_time("1 mins").is_err());
+    assert!(parse_time("1 hour").is_err());
     assert!(parse_frequency("1 H").is_err());
 }
 
