@@ -13,6 +13,7 @@ use super::output::{
 use super::{Context, Status};
 use crate::network::{Combine, parse_net};
 use crate::report::schematic;
+use crate::report::style::{PERCENTILE_LABELS, sort_by_severity};
 use crate::store::spec::default_tolerance;
 use crate::store::{Kind, Technology};
 use crate::timing::evaluate::SMALL_SIGNAL_DIODE;
@@ -25,8 +26,8 @@ use crate::timing::{
 };
 use crate::units::{
     Engineering, Farads, Hertz, Ohms, Ratio, Seconds, Tolerance, Volts, Watts, format_sig,
-    parse_capacitance, parse_frequency, parse_power, parse_ratio, parse_resistance, parse_time,
-    parse_tolerance, parse_voltage,
+    parse_capacitance, parse_frequency, parse_frequency_strict, parse_power, parse_ratio,
+    parse_resistance, parse_si_number, parse_time_strict, parse_tolerance, parse_voltage,
 };
 use anyhow::{Context as _, anyhow, bail};
 use serde::Serialize;
@@ -172,7 +173,7 @@ pub struct CheckArgs {
     #[arg(long, default_value = "0.25", value_parser = parse_power, value_name = "WATTS")]
     pub r_power: Watts,
     /// Length of the trigger pulse driving a monostable (or the width stage of a pair).
-    #[arg(long, value_parser = parse_time, value_name = "TIME")]
+    #[arg(long, value_parser = parse_time_strict, value_name = "TIME")]
     pub trigger: Option<Seconds>,
     /// Monte Carlo samples (0 skips Monte Carlo).
     #[arg(long, default_value_t = 10_000)]
@@ -265,49 +266,32 @@ fn split_kv<'a>(text: &'a str, what: &str) -> anyhow::Result<(String, &'a str)> 
     Ok((k.trim().to_ascii_uppercase(), v.trim()))
 }
 
-fn parse_technology(s: &str) -> anyhow::Result<Technology> {
-    Ok(match s.trim().to_ascii_lowercase().as_str() {
-        "film" | "polyester" | "polypropylene" => Technology::Film,
-        "c0g" | "np0" | "cog" => Technology::C0g,
-        "x7r" => Technology::X7r,
-        "y5v" | "z5u" => Technology::Y5v,
-        "electrolytic" | "aluminium" | "aluminum" | "elco" => Technology::Electrolytic,
-        "tantalum" => Technology::Tantalum,
-        "other" => Technology::Other,
-        other => bail!(
-            "capacitor kind {other:?}: use film, c0g, x7r, y5v, electrolytic, tantalum or other"
-        ),
-    })
+/// `--cap NAME=KIND`: the one technology parser (`model::part`), limited to capacitors.
+fn parse_cap_technology(s: &str) -> anyhow::Result<Technology> {
+    let tech: Technology = s.parse()?;
+    if matches!(
+        tech,
+        Technology::MetalFilm
+            | Technology::CarbonFilm
+            | Technology::ThickFilm
+            | Technology::Wirewound
+    ) {
+        bail!(
+            "{tech} is not a capacitor technology; use film (mkt, polypropylene, …), c0g, x7r, \
+             y5v, electrolytic, tantalum or other"
+        );
+    }
+    Ok(tech)
 }
 
-/// A plain number with an optional SI prefix (`250n`, `10p`, `1.5m`): for figures such as
-/// pin currents, which are far below the resolution of the voltage type.
+/// A plain number with an optional SI prefix (`250n`, `10p`), through the shared SI-number
+/// parser: for figures such as pin currents, far below the resolution of the current type.
 fn si_number(text: &str) -> anyhow::Result<f64> {
-    let t = text.trim();
-    let (num, exp) = match t.chars().last() {
-        Some(c @ ('f' | 'p' | 'n' | 'u' | 'µ' | 'm' | 'k' | 'M' | 'G')) => (
-            &t[..t.len() - c.len_utf8()],
-            match c {
-                'f' => -15,
-                'p' => -12,
-                'n' => -9,
-                'u' | 'µ' => -6,
-                'm' => -3,
-                'k' => 3,
-                'M' => 6,
-                _ => 9,
-            },
-        ),
-        _ => (t, 0),
-    };
-    let v: f64 = num
-        .trim()
-        .parse()
-        .map_err(|_| anyhow!("{text:?} is not a number with an optional SI prefix"))?;
-    if !v.is_finite() || v < 0.0 {
-        bail!("{text:?} must be a finite, non-negative number");
+    let v = parse_si_number(text)?;
+    if v < 0.0 {
+        bail!("{text:?} must be a non-negative number");
     }
-    Ok(v * 10f64.powi(exp))
+    Ok(v)
 }
 
 /// Parse a family figure override in the figure's unit.
@@ -458,7 +442,10 @@ fn prepare(args: &CheckArgs) -> anyhow::Result<Prepared> {
         if !is_cap(&k) {
             bail!("--cap {t}: {k} is not a capacitor position");
         }
-        techs.insert(k, parse_technology(v)?);
+        techs.insert(
+            k,
+            parse_cap_technology(v).with_context(|| format!("--cap {t}"))?,
+        );
     }
     let mut ratings = std::collections::BTreeMap::new();
     for t in &args.rating {
@@ -745,11 +732,14 @@ fn parse_quantity_value(
         return Ok((Quantity::Duty, parse_ratio(t)?.si()));
     }
     if t.ends_with("Hz") || t.ends_with("hz") {
-        let f: Hertz = parse_frequency(&t.replace("hz", "Hz"))?;
+        let f: Hertz = parse_frequency_strict(&t.replace("hz", "Hz"))?;
         return Ok((Quantity::Frequency, f.si()));
     }
-    let s = parse_time(t).with_context(|| {
-        format!("{text:?}: give a frequency with Hz (1kHz), a time with s (10ms) or a duty with %")
+    let s = parse_time_strict(t).map_err(|e| {
+        anyhow!(
+            "{e}; give a frequency with Hz (1.0254kHz), a time with s (10ms) or a duty with % \
+             (60%)"
+        )
     })?;
     let q = match of {
         Some(OfArg::High) => Quantity::High,
@@ -991,6 +981,8 @@ pub fn run(args: CheckArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resul
         });
     }
 
+    // Most serious first in every report (text and JSON), in the one order of `report::style`.
+    sort_by_severity(&mut findings, |f| f.severity);
     let target_met = verdict.is_none_or(|v| v.guaranteed);
     let ok = !has_error(&findings) && target_met;
     let schematic = schematic_of(&prep.stages, args.form, args.vcc);
@@ -1366,7 +1358,12 @@ fn render(
             writeln!(
                 out,
                 "    {:<10} {:>12} {:>12} {:>12} {:>12} {:>12}",
-                "", "mean", "std dev", "1 %", "50 %", "99 %"
+                "",
+                "mean",
+                "std dev",
+                PERCENTILE_LABELS[0],
+                PERCENTILE_LABELS[1],
+                PERCENTILE_LABELS[2]
             )?;
             for s in &mc.stats {
                 writeln!(
