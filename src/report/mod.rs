@@ -1,6 +1,7 @@
 //! Pure renderers: tables, JSON, CSV, pictures, netlists. Nothing here reads the store or the
 //! file system; renderers return strings or write to an `impl Write`.
 
+pub mod check;
 pub mod find;
 pub mod netlist;
 pub mod pictures;
