@@ -3,6 +3,7 @@
 
 pub mod check;
 pub mod find;
+pub mod list;
 pub mod netlist;
 pub mod pictures;
 pub mod schematic;
