@@ -7,6 +7,7 @@ pub mod list;
 pub mod netlist;
 pub mod pictures;
 pub mod schematic;
+pub mod series;
 pub mod sheet;
 pub mod style;
 pub mod svg;
