@@ -1,10 +1,10 @@
 //! `onhand reach`: what the stock can reach for one circuit form — per capacitor network the
 //! spans of pulse width (one-shot) or frequency (astable, square wave) the resistor networks
 //! give with it, the holes in a range, and the one preferred-value purchase that closes most
-//! of each hole. Owns the arguments, their conversion into a [`Request`], the text and JSON
-//! report, and writing the picture (`--svg FILE`); the computation is `solve::reach`, the
-//! picture `report::pictures::reach`. Exit 0 when the whole range is reached, 1 when it has
-//! holes, 2 on bad input.
+//! of each hole. Owns the arguments, their conversion into a [`Request`] and writing the
+//! picture (`--svg FILE`); the computation is `solve::reach`, the text and JSON report
+//! `report::reach_text`, the picture `report::pictures::reach`. Exit 0 when the whole range is
+//! reached, 1 when it has holes, 2 on bad input.
 
 use super::find::{load_stock, techs};
 use super::{Context, Status};

@@ -2,8 +2,8 @@
 //! hold it, and the nearest, next lower and next higher value in each series (or in one). With
 //! `--table`: the values of one decade, or of a range, for assortments and catalogues.
 //!
-//! Needs no store. The arguments are read once into a [`Request`]; the look-ups are pure
-//! (`units::eseries`), and the text and JSON renderers write to the given output.
+//! Needs no store. The arguments are read once into a [`Request`]; the look-ups and their text
+//! are pure (`report::series` over `units::eseries`); this layer prints them.
 
 use super::{Context, Status};
 use crate::report::series::{self as report, Lookup, SeriesTable, lookup, range, table};

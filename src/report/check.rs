@@ -749,3 +749,93 @@ fn render(r: &CheckReport, out: &mut String) -> std::fmt::Result {
     writeln!(out, "\n{verdict}")?;
     Ok(())
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::model::Technology;
+    use crate::timing::assess::{CheckInput, Sampling, StageSpec, assess};
+    use crate::timing::{CapFacts, Conditions, Limits, Model, StageModel, family_by_name};
+    use crate::units::Ratio;
+
+    fn view(positions: Vec<PositionReport>) -> CheckView {
+        CheckView {
+            form: "monostable".into(),
+            supply: Volts::from_si(15.0).expect("15 V"),
+            positions,
+            default_tolerances: Vec::new(),
+            measured: None,
+            temp_span: 25.0,
+            supply_swing: Volts::ZERO,
+            ideal: false,
+            guarantee: false,
+            files: Vec::new(),
+            netlist: None,
+            notes: Vec::new(),
+        }
+    }
+
+    #[test]
+    fn findings_come_most_serious_first_and_monte_carlo_columns_are_percentiles() {
+        // A 1 MΩ / 1000 µF electrolytic one-shot at 15 V on a 16 V part: the checks raise an
+        // error (leakage), warnings and a note, the note before some warnings.
+        let tol = Tolerance::symmetric_percent(20.0).expect("tol");
+        let r = Position::single("R", Combine::Resistive, 1e6, tol);
+        let c = Position::single("C", Combine::Capacitive, 1e-3, tol);
+        let cap = CapFacts {
+            technology: Technology::Electrolytic,
+            voltage_rating: Volts::from_si(16.0),
+            tolerance: tol,
+        };
+        let input = CheckInput {
+            arrangement: Arrangement::Single,
+            stages: vec![StageSpec {
+                label: "",
+                model: StageModel {
+                    form: Form::Monostable,
+                    steering: Steering::TwoDiode,
+                    r1: r,
+                    r2: None,
+                    c,
+                    conditions: Conditions::ideal(Volts::from_si(15.0).expect("15 V")),
+                    timer_error: Ratio::ZERO,
+                },
+                cap: Some(cap),
+            }],
+            family: family_by_name("bipolar").expect("family"),
+            model: Model::real(),
+            limits: Limits::default(),
+            measured: None,
+            target: None,
+            trim: None,
+            sampling: Sampling {
+                samples: 200,
+                seed: 1,
+                spread: Spread::Uniform,
+            },
+        };
+        let a = assess(&input).expect("assess");
+        let report = build(&a, Arrangement::Single, &input.family, view(Vec::new()));
+        let ranks: Vec<u8> = report
+            .findings
+            .iter()
+            .map(|f| super::super::style::severity_rank(f.severity))
+            .collect();
+        assert!(
+            ranks.len() >= 3 && ranks.windows(2).all(|w| w[0] <= w[1]),
+            "{ranks:?}"
+        );
+        let text = text(&report);
+        let header = text
+            .lines()
+            .find(|l| l.contains("std dev"))
+            .expect("Monte Carlo header");
+        assert!(header.contains("P1") && header.contains("median") && header.contains("P99"));
+        assert!(
+            text.ends_with("result: FAILED — 1 error finding\n"),
+            "{text}"
+        );
+        let json = json(&report).expect("json");
+        assert!(json.contains("\"findings\""));
+    }
+}
