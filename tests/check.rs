@@ -682,3 +682,231 @@ fn diode_option_takes_volts_or_ideal_and_part_tol_keeps_its_old_spelling() {
     );
     assert_eq!(a["analyses"], b["analyses"]);
 }
+
+#[test]
+fn measured_frequency_infers_r1_under_the_default_model_too() {
+    // Issue 9 item 6 / brief bullet 3: without --ideal the real-part model is inverted. The check
+    // is self-consistent: the inferred R1 put back into `check` gives the measured frequency
+    // (the inverse and the forward evaluator are the same model), and the interval brackets it.
+    let v = json(
+        &[
+            "astable",
+            "R2=68k",
+            "C=10n",
+            "--measured",
+            "1.0254kHz",
+            "--samples",
+            "0",
+        ],
+        0,
+    );
+    let inf = &v["inference"];
+    assert_eq!(inf["position"], "R1", "{inf}");
+    let r1 = inf["nominal"].as_f64().expect("nominal");
+    let (lo, hi) = (
+        inf["min"].as_f64().expect("min"),
+        inf["max"].as_f64().expect("max"),
+    );
+    assert!(lo <= r1 && r1 < hi && r1 > 0.0, "{inf}");
+    let r1_text = format!("R1={r1:.3}");
+    let back = json(
+        &["astable", &r1_text, "R2=68k", "C=10n", "--samples", "0"],
+        0,
+    );
+    let f = nominal(&back, "frequency");
+    assert!((f - 1025.4).abs() < 0.5, "{f}");
+}
+
+#[test]
+fn bare_numbers_for_measured_and_target_are_refused_with_a_hint() {
+    // Issue 12: a bare number where a unit is needed is refused (it used to be read as seconds).
+    Bench::new()
+        .run(&["check", "astable", "R2=68k", "C=10n", "--measured", "1025"])
+        .code(2)
+        .stderr_has("1.0254kHz");
+    Bench::new()
+        .run(&[
+            "check", "astable", "R1=4.7k", "R2=68k", "C=10n", "--target", "1000", "--within", "2%",
+        ])
+        .code(2)
+        .stderr_has("what?");
+    Bench::new()
+        .run(&["check", "monostable", "R=10k", "C=1u", "--trigger", "20"])
+        .code(2)
+        .stderr_has("what?");
+    // With the unit they are taken.
+    json(
+        &[
+            "astable",
+            "R1=4.7k",
+            "R2=68k",
+            "C=10n",
+            "--target",
+            "1ms",
+            "--within",
+            "50%",
+            "--samples",
+            "0",
+        ],
+        0,
+    );
+}
+
+#[test]
+fn cap_technology_uses_the_one_technology_parser() {
+    // Issue 12: `add --tech mkt` worked while `check --cap` refused it (three parsers).
+    let v = json(
+        &[
+            "monostable",
+            "R=10k",
+            "C=1u",
+            "--cap",
+            "C=mkt",
+            "--samples",
+            "0",
+        ],
+        0,
+    );
+    assert!(v["findings"].is_array());
+    json(
+        &[
+            "monostable",
+            "R=10k",
+            "C=1u",
+            "--cap",
+            "C=NP0",
+            "--samples",
+            "0",
+        ],
+        0,
+    );
+    // A resistor technology is not a dielectric.
+    Bench::new()
+        .run(&[
+            "check",
+            "monostable",
+            "R=10k",
+            "C=1u",
+            "--cap",
+            "C=metal_film",
+        ])
+        .code(2)
+        .stderr_has("not a capacitor technology");
+    // Pin figures go through the shared SI-number parser.
+    json(
+        &[
+            "monostable",
+            "R=10k",
+            "C=1u",
+            "--set",
+            "threshold_current=250nA",
+            "--samples",
+            "0",
+        ],
+        0,
+    );
+    Bench::new()
+        .run(&[
+            "check",
+            "monostable",
+            "R=10k",
+            "C=1u",
+            "--set",
+            "threshold_current=lots",
+        ])
+        .code(2);
+}
+
+#[test]
+fn findings_are_listed_most_serious_first() {
+    // Brief bullet 4: this design raises an error, several warnings and a note; before the sort
+    // the error came second and the polarity note sat between warnings.
+    let rank = |s: &str| match s {
+        "error" => 0,
+        "caution" => 1,
+        "warning" => 2,
+        _ => 3,
+    };
+    let args = [
+        "monostable",
+        "R=1M",
+        "C=1000u",
+        "--cap",
+        "C=electrolytic",
+        "--rating",
+        "C=16V",
+        "--vcc",
+        "15",
+        "--samples",
+        "0",
+    ];
+    let v = json(&args, 1);
+    let sev: Vec<i32> = v["findings"]
+        .as_array()
+        .expect("findings")
+        .iter()
+        .map(|f| rank(f["severity"].as_str().unwrap_or_default()))
+        .collect();
+    assert!(
+        sev.len() >= 4 && sev.contains(&0) && sev.contains(&3),
+        "{sev:?}"
+    );
+    assert!(sev.windows(2).all(|w| w[0] <= w[1]), "{sev:?}");
+    let mut all = vec!["check"];
+    all.extend_from_slice(&args);
+    let text = Bench::new().run(&all).code(1).stdout;
+    let block = text.split("findings:").nth(1).expect("findings block");
+    let (e, n) = (
+        block.find("ERROR").expect("error"),
+        block.find("note").expect("note"),
+    );
+    let last_warning = block.rfind("warning").expect("warning");
+    assert!(e < last_warning && last_warning < n, "{block}");
+}
+
+#[test]
+fn monte_carlo_columns_are_percentiles_and_numbers_are_plain() {
+    // Issue 12 "Numbers": P1 / median / P99, not "1 %"; no scientific notation anywhere.
+    let r = Bench::new()
+        .run(&[
+            "check",
+            "astable",
+            "R1=4.7k",
+            "R2=68k",
+            "C=10n",
+            "--samples",
+            "2000",
+            "--target",
+            "1kHz",
+            "--within",
+            "5%",
+        ])
+        .code(1);
+    let header = r
+        .stdout
+        .lines()
+        .find(|l| l.contains("mean") && l.contains("std dev"))
+        .expect("Monte Carlo header");
+    for label in ["P1", "median", "P99"] {
+        assert!(header.contains(label), "{header}");
+    }
+    assert!(!header.contains("1 %"), "{header}");
+    let sci = regex_free_scientific(&r.stdout);
+    assert!(sci.is_none(), "scientific notation: {sci:?}");
+}
+
+/// The first token that looks like scientific notation (`9.9e-7`, `1E5`), if any.
+fn regex_free_scientific(text: &str) -> Option<String> {
+    text.split(|c: char| c.is_whitespace() || c == '(' || c == ')' || c == ',')
+        .find(|w| {
+            let b = w.as_bytes();
+            b.iter().enumerate().any(|(i, &c)| {
+                (c == b'e' || c == b'E')
+                    && i > 0
+                    && b[i - 1].is_ascii_digit()
+                    && b.get(i + 1)
+                        .is_some_and(|&n| n.is_ascii_digit() || n == b'-' || n == b'+')
+            })
+        })
+        .map(str::to_string)
+}

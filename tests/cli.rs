@@ -279,3 +279,47 @@ fn buyer_spellings_of_technologies_are_read_the_same_everywhere() {
         .collect();
     assert!(kinds.contains(&"diode".to_string()), "{kinds:?}");
 }
+
+#[test]
+fn counts_are_in_words_in_list_and_series() {
+    // Issue 12 "Numbers": "1 row", "1 piece", and a range of one value says "1 value".
+    let b = Bench::new();
+    b.run(&["init"]).ok();
+    b.run(&["add", "4.7k", "--qty", "1", "--bin", "A3"]).ok();
+    b.run(&["list"]).ok().stdout_has("1 row, 1 piece");
+    b.run(&["add", "100n", "--qty", "10"]).ok();
+    b.run(&["list"]).ok().stdout_has("2 rows, 11 pieces");
+    b.run(&["series", "--table", "E12", "--from", "4.7k", "--to", "5k"])
+        .ok()
+        .stdout_has(": 1 value\n");
+    b.run(&["series", "--table", "E12", "--from", "1k", "--to", "100k"])
+        .ok()
+        .stdout_has(": 25 values\n");
+}
+
+#[test]
+fn series_and_list_print_no_scientific_notation() {
+    // Issue 12 "Numbers": no `9.9e-7 %` anywhere; a value next to a series member has a tiny
+    // error, which is where an exponent would show.
+    let b = Bench::new();
+    b.run(&["init"]).ok();
+    b.run(&["add", "1u", "--qty", "3"]).ok();
+    for args in [
+        &["series", "4.7001k"][..],
+        &["series", "1.00001u", "--capacitor"],
+        &["list"],
+    ] {
+        let out = b.run(args).ok().stdout;
+        let sci = out
+            .split(|c: char| c.is_whitespace() || c == '\t')
+            .find(|w| {
+                let w = w.as_bytes();
+                (1..w.len().saturating_sub(1)).any(|i| {
+                    matches!(w[i], b'e' | b'E')
+                        && w[i - 1].is_ascii_digit()
+                        && (w[i + 1].is_ascii_digit() || w[i + 1] == b'-')
+                })
+            });
+        assert!(sci.is_none(), "{args:?}: {sci:?}\n{out}");
+    }
+}

@@ -1,35 +1,34 @@
-//! `onhand check`: evaluate a design handed in as values — times, frequency, duty, the model
-//! used, exact worst case, Monte Carlo, whether a target is guaranteed, electrical findings, the
-//! trimmer that covers the spread, and (with `--measured`) the unknown part inferred from a
-//! measurement. Owns the argument types, their conversion into the pure `timing` types, the
-//! text and JSON rendering of the result (with the text schematic), and the files it is asked
-//! for: SVG pictures (`--svg DIR`) and the SPICE netlist (`--netlist FILE`), rendered by
-//! `report` and written through `cli::output`, which `find` shares. Needs no store.
+//! `onhand check`: evaluate a design handed in as values. This layer only converts the
+//! arguments (clap) into the typed `timing::assess::CheckInput` — positions with their pieces,
+//! tolerances and technology, family, model, target, measurement — calls the pure core
+//! (`timing::assess::assess`: inference, checks, worst case, Monte Carlo, verdict, trim), writes
+//! the files asked for (SVG pictures with `--svg DIR`, the SPICE netlist with `--netlist FILE`,
+//! through `cli::output` and `ctx.files()`), and prints the report of `report::check`.
 
-use super::output::{
-    Analysed, Built, CircuitRow, FileReport, Layout, NetlistReport, Pictures, short_name, stage_of,
-    write_netlist,
-};
+use super::output::{Analysed, Built, CircuitRow, FileReport, Layout, Pictures, write_netlist};
 use super::{Context, Status};
 use crate::network::{Combine, parse_net};
-use crate::report::schematic;
+use crate::report::check::{
+    self as report, CheckView, FileLine, MeasureLine, NetlistLine, PositionReport, analysis_form,
+    tolerance_text,
+};
 use crate::store::spec::default_tolerance;
 use crate::store::{Kind, Technology};
+use crate::timing::assess::{
+    Arrangement, AssessError, CheckInput, Measurement, Sampling, StageSpec, assess,
+};
 use crate::timing::evaluate::SMALL_SIGNAL_DIODE;
 use crate::timing::tolerance::Samples;
 use crate::timing::{
-    Analysis, CapFacts, Circuit, Conditions, DiodeModel, Effect, Family, Finding, Form, Inference,
-    Interval, Limits, Model, MonteCarlo, Piece, Position, Quantity, Severity, Spread, Stage,
-    StageModel, Steering, Target, TrimPlan, Verdict, WorstCase, check_dual, check_pair,
-    check_pair_worst_case, check_stage_with, evaluate, family_by_name, has_error,
+    CapFacts, Conditions, DiodeModel, Family, Form, Limits, Model, Piece, Position, Quantity,
+    Spread, StageModel, Steering, Target, family_by_name,
 };
 use crate::units::{
-    Engineering, Farads, Hertz, Ohms, Ratio, Seconds, Tolerance, Volts, Watts, format_sig,
-    parse_capacitance, parse_frequency, parse_power, parse_ratio, parse_resistance, parse_time,
-    parse_tolerance, parse_voltage,
+    Farads, Hertz, Ohms, Ratio, Seconds, Tolerance, Volts, Watts, parse_capacitance,
+    parse_frequency, parse_frequency_strict, parse_power, parse_ratio, parse_resistance,
+    parse_si_number, parse_time_strict, parse_tolerance, parse_voltage,
 };
 use anyhow::{Context as _, anyhow, bail};
-use serde::Serialize;
 use std::io::Write;
 use std::path::PathBuf;
 
@@ -172,7 +171,7 @@ pub struct CheckArgs {
     #[arg(long, default_value = "0.25", value_parser = parse_power, value_name = "WATTS")]
     pub r_power: Watts,
     /// Length of the trigger pulse driving a monostable (or the width stage of a pair).
-    #[arg(long, value_parser = parse_time, value_name = "TIME")]
+    #[arg(long, value_parser = parse_time_strict, value_name = "TIME")]
     pub trigger: Option<Seconds>,
     /// Monte Carlo samples (0 skips Monte Carlo).
     #[arg(long, default_value_t = 10_000)]
@@ -221,18 +220,6 @@ pub struct CheckArgs {
 // ---------------------------------------------------------------------------------------------
 // Conversion of the arguments.
 
-/// A position as given: canonical name, expression, parsed network.
-#[derive(Debug, Clone, Serialize)]
-struct PositionReport {
-    name: String,
-    expression: String,
-    nominal: f64,
-    unit: &'static str,
-    tolerance: String,
-    pieces: usize,
-    inferred: bool,
-}
-
 struct StageInput {
     label: &'static str,
     prefix: &'static str,
@@ -265,49 +252,32 @@ fn split_kv<'a>(text: &'a str, what: &str) -> anyhow::Result<(String, &'a str)> 
     Ok((k.trim().to_ascii_uppercase(), v.trim()))
 }
 
-fn parse_technology(s: &str) -> anyhow::Result<Technology> {
-    Ok(match s.trim().to_ascii_lowercase().as_str() {
-        "film" | "polyester" | "polypropylene" => Technology::Film,
-        "c0g" | "np0" | "cog" => Technology::C0g,
-        "x7r" => Technology::X7r,
-        "y5v" | "z5u" => Technology::Y5v,
-        "electrolytic" | "aluminium" | "aluminum" | "elco" => Technology::Electrolytic,
-        "tantalum" => Technology::Tantalum,
-        "other" => Technology::Other,
-        other => bail!(
-            "capacitor kind {other:?}: use film, c0g, x7r, y5v, electrolytic, tantalum or other"
-        ),
-    })
+/// `--cap NAME=KIND`: the one technology parser (`model::part`), limited to capacitors.
+fn parse_cap_technology(s: &str) -> anyhow::Result<Technology> {
+    let tech: Technology = s.parse()?;
+    if matches!(
+        tech,
+        Technology::MetalFilm
+            | Technology::CarbonFilm
+            | Technology::ThickFilm
+            | Technology::Wirewound
+    ) {
+        bail!(
+            "{tech} is not a capacitor technology; use film (mkt, polypropylene, …), c0g, x7r, \
+             y5v, electrolytic, tantalum or other"
+        );
+    }
+    Ok(tech)
 }
 
-/// A plain number with an optional SI prefix (`250n`, `10p`, `1.5m`): for figures such as
-/// pin currents, which are far below the resolution of the voltage type.
+/// A plain number with an optional SI prefix (`250n`, `10p`), through the shared SI-number
+/// parser: for figures such as pin currents, far below the resolution of the current type.
 fn si_number(text: &str) -> anyhow::Result<f64> {
-    let t = text.trim();
-    let (num, exp) = match t.chars().last() {
-        Some(c @ ('f' | 'p' | 'n' | 'u' | 'µ' | 'm' | 'k' | 'M' | 'G')) => (
-            &t[..t.len() - c.len_utf8()],
-            match c {
-                'f' => -15,
-                'p' => -12,
-                'n' => -9,
-                'u' | 'µ' => -6,
-                'm' => -3,
-                'k' => 3,
-                'M' => 6,
-                _ => 9,
-            },
-        ),
-        _ => (t, 0),
-    };
-    let v: f64 = num
-        .trim()
-        .parse()
-        .map_err(|_| anyhow!("{text:?} is not a number with an optional SI prefix"))?;
-    if !v.is_finite() || v < 0.0 {
-        bail!("{text:?} must be a finite, non-negative number");
+    let v = parse_si_number(text)?;
+    if v < 0.0 {
+        bail!("{text:?} must be a non-negative number");
     }
-    Ok(v * 10f64.powi(exp))
+    Ok(v)
 }
 
 /// Parse a family figure override in the figure's unit.
@@ -339,8 +309,7 @@ fn parse_figure(text: &str, unit: &str) -> anyhow::Result<f64> {
 struct Prepared {
     family: Family,
     model: Model,
-    caps: Vec<Option<CapFacts>>,
-    stages: Vec<Built>,
+    stages: Vec<StageSpec>,
     positions: Vec<PositionReport>,
     defaults_used: Vec<String>,
     unknown: Option<String>,
@@ -458,7 +427,10 @@ fn prepare(args: &CheckArgs) -> anyhow::Result<Prepared> {
         if !is_cap(&k) {
             bail!("--cap {t}: {k} is not a capacitor position");
         }
-        techs.insert(k, parse_technology(v)?);
+        techs.insert(
+            k,
+            parse_cap_technology(v).with_context(|| format!("--cap {t}"))?,
+        );
     }
     let mut ratings = std::collections::BTreeMap::new();
     for t in &args.rating {
@@ -517,7 +489,6 @@ fn prepare(args: &CheckArgs) -> anyhow::Result<Prepared> {
     let mut defaults_used = Vec::new();
     let mut positions = Vec::new();
     let mut stages = Vec::new();
-    let mut caps = Vec::new();
     for input in &inputs {
         let mut conditions = Conditions::ideal(args.vcc);
         conditions.control = args.control;
@@ -628,18 +599,15 @@ fn prepare(args: &CheckArgs) -> anyhow::Result<Prepared> {
             conditions,
             timer_error: family.timer_error(one_shot, args.temp_span, args.supply_swing),
         };
-        let stage = stage_of(&model, cap_facts)?;
-        caps.push(cap_facts);
-        stages.push(Built {
+        stages.push(StageSpec {
             label: input.label,
-            stage,
             model,
+            cap: cap_facts,
         });
     }
     Ok(Prepared {
         family,
         model,
-        caps,
         stages,
         positions,
         defaults_used,
@@ -676,65 +644,6 @@ fn representative_drop(d: DiodeModel) -> Volts {
     }
 }
 
-fn tolerance_text(t: Tolerance) -> String {
-    if t.is_symmetric() {
-        format!("±{}", t.plus)
-    } else {
-        format!("−{} / +{}", t.minus, t.plus)
-    }
-}
-
-// ---------------------------------------------------------------------------------------------
-// The report.
-
-#[derive(Debug, Serialize)]
-struct AnalysisReport {
-    label: String,
-    form: String,
-    model: Vec<String>,
-    effects: Vec<Effect>,
-    timer_error: Vec<f64>,
-    nominal: Vec<Interval>,
-    worst_case: Option<WorstCase>,
-    monte_carlo: Option<MonteCarlo>,
-    averaging: Vec<AveragingNote>,
-}
-
-#[derive(Debug, Serialize)]
-struct AveragingNote {
-    position: String,
-    pieces: usize,
-    spread_factor: f64,
-}
-
-#[derive(Debug, Serialize)]
-struct FigureReport {
-    key: &'static str,
-    value: f64,
-    unit: &'static str,
-    provenance: &'static str,
-}
-
-#[derive(Debug, Serialize)]
-struct Report {
-    form: String,
-    family: &'static str,
-    supply: Volts,
-    positions: Vec<PositionReport>,
-    default_tolerances: Vec<String>,
-    inference: Option<Inference>,
-    analyses: Vec<AnalysisReport>,
-    target: Option<Verdict>,
-    trim: Option<TrimPlan>,
-    findings: Vec<Finding>,
-    figures: Vec<FigureReport>,
-    schematic: String,
-    files: Vec<FileReport>,
-    netlist: Option<NetlistReport>,
-    notes: Vec<String>,
-    ok: bool,
-}
-
 fn parse_quantity_value(
     text: &str,
     of: Option<OfArg>,
@@ -745,11 +654,14 @@ fn parse_quantity_value(
         return Ok((Quantity::Duty, parse_ratio(t)?.si()));
     }
     if t.ends_with("Hz") || t.ends_with("hz") {
-        let f: Hertz = parse_frequency(&t.replace("hz", "Hz"))?;
+        let f: Hertz = parse_frequency_strict(&t.replace("hz", "Hz"))?;
         return Ok((Quantity::Frequency, f.si()));
     }
-    let s = parse_time(t).with_context(|| {
-        format!("{text:?}: give a frequency with Hz (1kHz), a time with s (10ms) or a duty with %")
+    let s = parse_time_strict(t).map_err(|e| {
+        anyhow!(
+            "{e}; give a frequency with Hz (1.0254kHz), a time with s (10ms) or a duty with % \
+             (60%)"
+        )
     })?;
     let q = match of {
         Some(OfArg::High) => Quantity::High,
@@ -761,68 +673,58 @@ fn parse_quantity_value(
     Ok((q, s.si()))
 }
 
-/// Run `check`.
+/// The main timing resistor of each form: the one a trimmer usually goes in.
+fn default_trim(form: FormArg) -> &'static str {
+    match form {
+        FormArg::Monostable | FormArg::Square | FormArg::Dual => "R",
+        FormArg::Astable => "R2",
+        FormArg::Steered => "RB",
+        FormArg::Pair => "R3",
+    }
+}
+
+/// How the files lay the stages of a form out.
+fn layout_of(form: FormArg) -> Layout {
+    match form {
+        FormArg::Pair => Layout::Pair,
+        FormArg::Dual => Layout::Dual,
+        _ => Layout::Single,
+    }
+}
+
+fn arrangement_of(form: FormArg) -> Arrangement {
+    match form {
+        FormArg::Pair => Arrangement::Pair,
+        FormArg::Dual => Arrangement::Dual,
+        _ => Arrangement::Single,
+    }
+}
+
+/// Run `check`: convert the arguments, assess (the pure core), write the files asked for,
+/// render.
 pub fn run(args: CheckArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Result<Status> {
-    let mut prep = prepare(&args)?;
-    let is_pair = args.form == FormArg::Pair;
-    let is_dual = args.form == FormArg::Dual;
-    if is_dual && (args.target.is_some() || args.measured.is_some() || args.trim.is_some()) {
+    let prep = prepare(&args)?;
+    let arrangement = arrangement_of(args.form);
+    if arrangement == Arrangement::Dual
+        && (args.target.is_some() || args.measured.is_some() || args.trim.is_some())
+    {
         bail!("--target, --measured and --trim work on one circuit; check each half on its own");
     }
-    let circuit_of = |stages: &[Built]| -> anyhow::Result<Circuit> {
-        Ok(if is_pair {
-            match stages {
-                [a, b] => Circuit::Pair {
-                    pace: Box::new(a.model.clone()),
-                    width: Box::new(b.model.clone()),
-                },
-                _ => bail!("a pair has two stages"),
-            }
-        } else {
-            match stages.first() {
-                Some(s) => Circuit::Single(Box::new(s.model.clone())),
-                None => bail!("no stage"),
-            }
-        })
-    };
-    let one_shot = !is_pair
+    let one_shot = arrangement == Arrangement::Single
         && prep
             .stages
             .first()
             .is_some_and(|s| s.model.form == Form::Monostable);
-
-    // Inverse question first: fill in the unknown position.
-    let mut inference = None;
-    if let (Some(unknown), Some(measured)) = (prep.unknown.clone(), &args.measured) {
-        let (q, value) = parse_quantity_value(measured, args.of, one_shot)?;
-        let analysis = Analysis::with_physics(
-            &circuit_of(&prep.stages)?,
-            &prep.family,
-            &prep.model,
-            &prep.caps,
-        )?;
-        let pos = analysis.position(&unknown)?;
-        let inf = analysis
-            .infer(pos, q, value)
-            .with_context(|| format!("inferring {unknown} from {measured}"))?;
-        substitute(&mut prep, &unknown, inf.nominal)?;
-        inference = Some(inf);
-    }
-
-    let limits = Limits {
-        resistor_power: args.r_power,
-        trigger: args.trigger,
-    };
-    let mut findings = match (is_pair, is_dual, prep.stages.as_slice()) {
-        (true, _, [a, b]) => check_pair(&a.stage, &b.stage, &prep.family, &limits),
-        (_, true, [a, b]) => check_dual(&a.stage, &b.stage, &prep.family, &limits),
-        (_, _, [a]) => check_stage_with(&a.stage, &prep.family, &limits),
-        _ => bail!("unexpected number of stages"),
-    };
-
-    let spread = match args.spread {
-        SpreadArg::Uniform => Spread::Uniform,
-        SpreadArg::Normal => Spread::Normal,
+    let measured = match (&prep.unknown, &args.measured) {
+        (Some(position), Some(text)) => {
+            let (quantity, value) = parse_quantity_value(text, args.of, one_shot)?;
+            Some(Measurement {
+                position: position.clone(),
+                quantity,
+                value,
+            })
+        }
+        _ => None,
     };
     let target = match &args.target {
         Some(t) => {
@@ -843,162 +745,57 @@ pub fn run(args: CheckArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resul
             None
         }
     };
-
-    let circuits: Vec<CircuitRow> = if is_dual {
-        prep.stages
-            .iter()
-            .map(|s| {
-                (
-                    s.label.to_string(),
-                    s.model.form.name().to_string(),
-                    Circuit::Single(Box::new(s.model.clone())),
-                    vec![s],
-                )
-            })
-            .collect()
-    } else {
-        let form = if is_pair {
-            "pair (pace astable triggering a width monostable)".to_string()
+    let trim = args.trim.as_ref().map(|which| {
+        if which == "auto" {
+            default_trim(args.form).to_string()
         } else {
-            prep.stages
-                .first()
-                .map(|s| describe_form(&s.stage))
-                .unwrap_or_default()
-        };
-        vec![(
-            String::new(),
-            form,
-            circuit_of(&prep.stages)?,
-            prep.stages.iter().collect(),
-        )]
+            which.to_ascii_uppercase()
+        }
+    });
+    let input = CheckInput {
+        arrangement,
+        stages: prep.stages,
+        family: prep.family,
+        model: prep.model,
+        limits: Limits {
+            resistor_power: args.r_power,
+            trigger: args.trigger,
+        },
+        measured,
+        target,
+        trim,
+        sampling: Sampling {
+            samples: args.samples,
+            seed: args.seed,
+            spread: match args.spread {
+                SpreadArg::Uniform => Spread::Uniform,
+                SpreadArg::Normal => Spread::Normal,
+            },
+        },
     };
+    let assessment = assess(&input).map_err(|e| match e {
+        AssessError::Infer { position, reason } => anyhow!(
+            "inferring {position} from {}: {reason}",
+            args.measured.as_deref().unwrap_or_default()
+        ),
+        e => e.into(),
+    })?;
 
-    let mut analyses = Vec::new();
-    let mut samples: Vec<Samples> = Vec::new();
-    let mut verdict = None;
-    let mut trim = None;
-    for (label, form, circuit, built) in &circuits {
-        let caps: Vec<Option<CapFacts>> = built.iter().map(|b| b.stage.cap).collect();
-        let analysis = Analysis::with_physics(circuit, &prep.family, &prep.model, &caps)?;
-        let nominal = analysis.nominal();
-        let banded = analysis.nominal_banded();
-        let mut effects: Vec<Effect> = Vec::new();
-        for b in built {
-            let ev = evaluate(&b.stage, &prep.family, &prep.model)?;
-            for e in ev.effects {
-                let text = if b.label.is_empty() {
-                    e.text
-                } else {
-                    format!("{}: {}", b.label, e.text)
-                };
-                effects.push(Effect { text, ..e });
-            }
-        }
-        let worst = analysis.worst_case().ok();
-        if is_pair && let Some(d) = worst.as_ref().and_then(|w| w.get(Quantity::Duty)) {
-            findings.extend(check_pair_worst_case(d.max));
-        }
-        let mc = if args.samples > 0 {
-            let (mc, drawn) =
-                analysis.monte_carlo_samples(args.samples, args.seed, spread, target)?;
-            samples.push(drawn);
-            Some(mc)
-        } else {
-            samples.push(Vec::new());
-            None
-        };
-        if let (Some(t), Some(wc)) = (target, &worst) {
-            verdict = Some(analysis.verdict(wc, t)?);
-        }
-        if let Some(which) = &args.trim {
-            let name = if which == "auto" {
-                default_trim(args.form).to_string()
-            } else {
-                which.to_ascii_uppercase()
-            };
-            let pos = analysis.position(&name)?;
-            let (q, goal) = match target {
-                Some(t) => (t.quantity, t.value),
-                None => {
-                    let q = if one_shot || (is_pair && (name == "R3" || name == "C2")) {
-                        Quantity::High
-                    } else {
-                        Quantity::Period
-                    };
-                    (q, nominal[q as usize])
-                }
-            };
-            trim = Some(
-                analysis
-                    .trim(pos, q, goal)
-                    .with_context(|| format!("trim of {name}"))?,
-            );
-        }
-        let mut model = Vec::new();
-        for b in built {
-            let prefix = if b.label.is_empty() {
-                String::new()
-            } else {
-                format!("{}: ", b.label)
-            };
-            let thresholds = match b.stage.conditions.control {
-                Some(v) => format!("control pin driven at {v}, lower threshold half of it"),
-                None => "thresholds 1/3 and 2/3 of the supply".to_string(),
-            };
-            model.push(format!(
-                "{prefix}{} ({thresholds}){}",
-                if args.ideal {
-                    "ideal: the textbook model, every effect off"
-                } else {
-                    "real parts: the effects below"
-                },
-                if args.guarantee {
-                    "; family figures at their data-sheet limits (from memory)"
-                } else {
-                    ""
-                }
-            ));
-        }
-        analyses.push(AnalysisReport {
-            label: label.clone(),
-            form: form.clone(),
-            model,
-            effects,
-            timer_error: built.iter().map(|b| b.model.timer_error.si()).collect(),
-            nominal: analysis
-                .quantities()
-                .into_iter()
-                .map(|q| {
-                    let [n, lo, hi] = banded[q as usize];
-                    Interval {
-                        band_lo: lo,
-                        band_hi: hi,
-                        ..Interval::point(q, n)
-                    }
-                })
-                .collect(),
-            worst_case: worst,
-            monte_carlo: mc,
-            averaging: analysis
-                .averaging()
-                .into_iter()
-                .map(|(position, pieces)| AveragingNote {
-                    position,
-                    pieces,
-                    spread_factor: 1.0 / (pieces as f64).sqrt(),
-                })
-                .collect(),
-        });
-    }
-
-    let target_met = verdict.is_none_or(|v| v.guaranteed);
-    let ok = !has_error(&findings) && target_met;
-    let schematic = schematic_of(&prep.stages, args.form, args.vcc);
+    // The files, from the same stages the report shows.
+    let built: Vec<Built> = assessment
+        .stages
+        .iter()
+        .map(|s| Built {
+            label: s.label,
+            stage: s.stage.clone(),
+            model: s.model.clone(),
+        })
+        .collect();
     let mut files = Vec::new();
     let mut notes = Vec::new();
-    let netlist_report = match &args.netlist {
+    let netlist = match &args.netlist {
         Some(path) => {
-            let report = write_netlist(&prep.stages, layout_of(args.form), path, &ctx.files())?;
+            let report = write_netlist(&built, layout_of(args.form), path, &ctx.files())?;
             files.push(FileReport {
                 kind: "netlist",
                 path: report.path.clone(),
@@ -1008,12 +805,31 @@ pub fn run(args: CheckArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resul
         None => None,
     };
     if let Some(dir) = &args.svg {
+        let circuits: Vec<CircuitRow> = assessment
+            .analyses
+            .iter()
+            .enumerate()
+            .map(|(i, a)| {
+                (
+                    a.label.to_string(),
+                    analysis_form(&assessment, arrangement, i),
+                    a.circuit.clone(),
+                    a.stages.iter().filter_map(|&s| built.get(s)).collect(),
+                )
+            })
+            .collect();
+        let samples: Vec<Samples> = assessment
+            .analyses
+            .iter()
+            .map(|a| a.samples.clone())
+            .collect();
         let pictures = Pictures {
             dir,
             layout: layout_of(args.form),
             target,
             circuits: &circuits,
-            analysed: analyses
+            analysed: assessment
+                .analyses
                 .iter()
                 .map(|a| Analysed {
                     worst_case: a.worst_case.as_ref(),
@@ -1024,500 +840,48 @@ pub fn run(args: CheckArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resul
         };
         pictures.write(&ctx.files(), &mut files, &mut notes)?;
     }
-    let report = Report {
+    let view = CheckView {
         form: format!("{:?}", args.form).to_ascii_lowercase(),
-        family: prep.family.name,
         supply: args.vcc,
         positions: prep.positions,
         default_tolerances: prep.defaults_used,
-        inference,
-        analyses,
-        target: verdict,
-        trim,
-        findings,
-        figures: prep
-            .family
-            .figures()
+        measured: args.measured.clone(),
+        temp_span: args.temp_span,
+        supply_swing: args.supply_swing,
+        ideal: args.ideal,
+        guarantee: args.guarantee,
+        files: files
             .into_iter()
-            .map(|(key, f)| FigureReport {
-                key,
-                value: f.value,
-                unit: f.unit,
-                provenance: f.provenance.label(),
+            .map(|f| FileLine {
+                kind: f.kind,
+                path: f.path,
             })
             .collect(),
-        schematic,
-        files,
-        netlist: netlist_report,
+        netlist: netlist.map(|n| NetlistLine {
+            path: n.path,
+            measures: n
+                .measures
+                .into_iter()
+                .map(|m| MeasureLine {
+                    name: m.name,
+                    analysis: m.analysis,
+                    quantity: m.quantity,
+                })
+                .collect(),
+        }),
         notes,
-        ok,
     };
+    let report = report::build(&assessment, arrangement, &input.family, view);
     if ctx.json {
-        serde_json::to_writer_pretty(&mut *out, &report).context("writing JSON")?;
-        writeln!(out)?;
+        out.write_all(report::json(&report).context("writing JSON")?.as_bytes())?;
     } else {
-        render(&report, &prep.family, &args, out)?;
+        out.write_all(report::text(&report).as_bytes())?;
     }
-    Ok(if ok { Status::Success } else { Status::NotMet })
-}
-
-// ---------------------------------------------------------------------------------------------
-// Schematic, netlist and pictures.
-
-/// A position written plainly: `33 kΩ + 2.2 kΩ (35.2 kΩ)`, or `4.7 kΩ` for one piece.
-fn position_text(p: &Position) -> String {
-    let show = |v: f64| match p.combine {
-        Combine::Resistive => Ohms::from_si(v).map_or_else(|| format!("{v} Ω"), |o| o.to_string()),
-        Combine::Capacitive => {
-            Farads::from_si(v).map_or_else(|| format!("{v} F"), |f| f.to_string())
-        }
-    };
-    let pieces = p
-        .net
-        .describe(&|i| p.pieces.get(i).map_or_else(String::new, |x| show(x.value)));
-    if p.pieces.len() > 1 {
-        let total = match p.combine {
-            Combine::Resistive => Ohms::from_si(p.nominal()).map(|o| o.eng(4)),
-            Combine::Capacitive => Farads::from_si(p.nominal()).map(|f| f.eng(4)),
-        };
-        format!("{pieces} ({})", total.unwrap_or_default())
+    Ok(if assessment.ok {
+        Status::Success
     } else {
-        pieces
-    }
-}
-
-fn stage_parts(b: &Built) -> schematic::StageParts {
-    let m = &b.model;
-    let circuit = match (m.form, m.steering) {
-        (Form::Monostable, _) => schematic::Circuit::Monostable,
-        (Form::Astable, _) => schematic::Circuit::Astable,
-        (Form::Steered, Steering::TwoDiode) => schematic::Circuit::Steered,
-        (Form::Steered, Steering::OneDiode) => schematic::Circuit::SteeredBypass,
-        (Form::Square, _) => schematic::Circuit::Square,
-    };
-    let parts = std::iter::once(&m.r1)
-        .chain(m.r2.as_ref())
-        .chain(std::iter::once(&m.c))
-        .map(|p| (short_name(&p.name).to_string(), position_text(p)))
-        .collect();
-    schematic::StageParts {
-        circuit,
-        parts,
-        control: m.conditions.control.map(|v| v.to_string()),
-    }
-}
-
-fn schematic_of(stages: &[Built], form: FormArg, vcc: Volts) -> String {
-    let supply = format!("+{vcc}");
-    match stages {
-        [one] => schematic::single(&stage_parts(one), &supply),
-        [a, b] => schematic::dual(
-            &stage_parts(a),
-            &stage_parts(b),
-            &supply,
-            form == FormArg::Pair,
-        ),
-        _ => String::new(),
-    }
-}
-
-fn substitute(prep: &mut Prepared, name: &str, value: f64) -> anyhow::Result<()> {
-    for b in &mut prep.stages {
-        let m = &mut b.model;
-        let slots: Vec<&mut Position> = std::iter::once(&mut m.r1)
-            .chain(m.r2.as_mut())
-            .chain(std::iter::once(&mut m.c))
-            .collect();
-        for p in slots {
-            if p.name == name {
-                let tol = p.pieces.first().map(|x| x.tolerance).unwrap_or(Tolerance {
-                    minus: Ratio::ZERO,
-                    plus: Ratio::ZERO,
-                });
-                *p = Position::single(name, p.combine, value, tol);
-            }
-        }
-        let cap = b.stage.cap;
-        b.stage = stage_of(&b.model, cap)?;
-    }
-    for p in &mut prep.positions {
-        if p.name == name {
-            p.nominal = value;
-            p.expression = "inferred".into();
-            p.tolerance = "taken exact".into();
-        }
-    }
-    Ok(())
-}
-
-/// How the files lay the stages of a form out.
-fn layout_of(form: FormArg) -> Layout {
-    match form {
-        FormArg::Pair => Layout::Pair,
-        FormArg::Dual => Layout::Dual,
-        _ => Layout::Single,
-    }
-}
-
-/// The main timing resistor of each form: the one a trimmer usually goes in.
-fn default_trim(form: FormArg) -> &'static str {
-    match form {
-        FormArg::Monostable | FormArg::Square | FormArg::Dual => "R",
-        FormArg::Astable => "R2",
-        FormArg::Steered => "RB",
-        FormArg::Pair => "R3",
-    }
-}
-
-fn describe_form(stage: &Stage) -> String {
-    match stage.form {
-        Form::Monostable => "monostable (one-shot)".into(),
-        Form::Astable => "astable (classic: charge via R1+R2, discharge via R2)".into(),
-        Form::Steered => "steered astable (charge via RA, discharge via RB)".into(),
-        Form::Square => "square wave (output-driven, one resistor)".into(),
-    }
-}
-
-fn qv(q: Quantity, v: f64) -> String {
-    if !v.is_finite() {
-        return "—".into();
-    }
-    match q {
-        Quantity::Duty => format!("{:.2} %", v * 100.0),
-        Quantity::Frequency => Hertz::from_si(v).map_or_else(|| format!("{v} Hz"), |h| h.eng(4)),
-        _ => Seconds::from_si(v).map_or_else(|| format!("{v} s"), |s| s.eng(4)),
-    }
-}
-
-fn rel(x: f64, nominal: f64) -> String {
-    if nominal == 0.0 || !x.is_finite() {
-        return String::new();
-    }
-    format!("{:+.2} %", (x / nominal - 1.0) * 100.0)
-}
-
-fn si_unit(v: f64, unit: &str) -> String {
-    match unit {
-        "ratio" => format!("{:.2} %", v * 100.0),
-        "ratio/°C" => format!("{:.0} ppm/°C", v * 1e6),
-        "ratio/V" => format!("{:.2} %/V", v * 100.0),
-        u => format_sig(v, 3, u),
-    }
-}
-
-fn render(
-    r: &Report,
-    family: &Family,
-    args: &CheckArgs,
-    out: &mut dyn Write,
-) -> anyhow::Result<()> {
-    writeln!(
-        out,
-        "check: {}, {} timer, supply {}",
-        r.form,
-        r.family,
-        r.supply.eng(4)
-    )?;
-    writeln!(out, "\nparts:")?;
-    for p in &r.positions {
-        let value = if p.unit == "F" {
-            Farads::from_si(p.nominal).map_or_else(String::new, |x| x.eng(4))
-        } else {
-            Ohms::from_si(p.nominal).map_or_else(String::new, |x| x.eng(4))
-        };
-        let shown = if p.inferred {
-            format!("{value}  (inferred from the measurement, taken exact)")
-        } else if p.pieces > 1 {
-            format!(
-                "{value}  = {}  ({} pieces, each {})",
-                p.expression, p.pieces, p.tolerance
-            )
-        } else {
-            format!("{value}  {}", p.tolerance)
-        };
-        writeln!(out, "  {:<5} {shown}", p.name)?;
-    }
-    if !r.default_tolerances.is_empty() {
-        writeln!(
-            out,
-            "  (tolerance not given, common-practice default used: {})",
-            r.default_tolerances.join(", ")
-        )?;
-    }
-    writeln!(out, "\nschematic:")?;
-    write!(out, "{}", r.schematic)?;
-    if let Some(inf) = &r.inference {
-        let f = |v: f64| {
-            if inf.series == crate::units::eseries::Series::E12 {
-                Farads::from_si(v).map_or_else(String::new, |x| x.eng(3))
-            } else {
-                Ohms::from_si(v).map_or_else(String::new, |x| x.eng(3))
-            }
-        };
-        writeln!(
-            out,
-            "\ninferred {} from {}: {} (known parts nominal); between {} and {} over their tolerances and the timer error (measurement taken exact)",
-            inf.position,
-            args.measured.as_deref().unwrap_or(""),
-            f(inf.nominal),
-            f(inf.min),
-            f(inf.max)
-        )?;
-        let cands: Vec<String> = inf.candidates.iter().map(|&v| f(v)).collect();
-        writeln!(
-            out,
-            "  nearest {:?} value: {}; {:?} values inside that range: {}",
-            inf.series,
-            f(inf.nearest),
-            inf.series,
-            if cands.is_empty() {
-                "none".to_string()
-            } else {
-                cands.join(", ")
-            }
-        )?;
-    }
-    for a in &r.analyses {
-        let title = if a.label.is_empty() {
-            a.form.clone()
-        } else {
-            format!("{} — {}", a.label, a.form)
-        };
-        writeln!(out, "\n{title}")?;
-        for m in &a.model {
-            writeln!(out, "  model: {m}")?;
-        }
-        for e in &a.effects {
-            writeln!(out, "    - {} ({})", e.text, e.provenance)?;
-        }
-        writeln!(
-            out,
-            "  times (nominal, and the model band where the effects leave one):"
-        )?;
-        for i in &a.nominal {
-            let band = if i.band_lo < i.nominal || i.band_hi > i.nominal {
-                format!(
-                    "   band {} … {}",
-                    qv(i.quantity, i.band_lo),
-                    qv(i.quantity, i.band_hi)
-                )
-            } else {
-                String::new()
-            };
-            writeln!(
-                out,
-                "    {:<10} {}{band}",
-                i.quantity.label(),
-                qv(i.quantity, i.nominal)
-            )?;
-        }
-        let errs: Vec<String> = a
-            .timer_error
-            .iter()
-            .map(|e| format!("±{:.2} %", e * 100.0))
-            .collect();
-        match &a.worst_case {
-            Some(wc) => {
-                writeln!(
-                    out,
-                    "  worst case (exact: every piece at each limit, {} corners; timer error {} = initial + {} °C drift + {} supply drift):",
-                    wc.corners,
-                    errs.join(" / "),
-                    args.temp_span,
-                    args.supply_swing.eng(3)
-                )?;
-                for i in &wc.intervals {
-                    let with_band = if i.worst_lo < i.min || i.worst_hi > i.max {
-                        format!(
-                            "; with the model band {} … {}",
-                            qv(i.quantity, i.worst_lo),
-                            qv(i.quantity, i.worst_hi)
-                        )
-                    } else {
-                        String::new()
-                    };
-                    writeln!(
-                        out,
-                        "    {:<10} {} … {}   ({} / {}){with_band}",
-                        i.quantity.label(),
-                        qv(i.quantity, i.min),
-                        qv(i.quantity, i.max),
-                        rel(i.min, i.nominal),
-                        rel(i.max, i.nominal)
-                    )?;
-                }
-            }
-            None => writeln!(
-                out,
-                "  worst case: too many pieces for the exact corner search"
-            )?,
-        }
-        if let Some(mc) = &a.monte_carlo {
-            writeln!(
-                out,
-                "  Monte Carlo ({} samples, seed {}, {}):",
-                mc.samples,
-                mc.seed,
-                match mc.spread {
-                    Spread::Uniform => "uniform within each tolerance",
-                    Spread::Normal => "normal, tolerance = 3σ",
-                }
-            )?;
-            writeln!(
-                out,
-                "    {:<10} {:>12} {:>12} {:>12} {:>12} {:>12}",
-                "", "mean", "std dev", "1 %", "50 %", "99 %"
-            )?;
-            for s in &mc.stats {
-                writeln!(
-                    out,
-                    "    {:<10} {:>12} {:>12} {:>12} {:>12} {:>12}",
-                    s.quantity.label(),
-                    qv(s.quantity, s.mean),
-                    qv(s.quantity, s.std_dev),
-                    qv(s.quantity, s.p1),
-                    qv(s.quantity, s.p50),
-                    qv(s.quantity, s.p99)
-                )?;
-            }
-        }
-        for n in &a.averaging {
-            writeln!(
-                out,
-                "  note: {}'s {} equal pieces average their random errors: its random spread is about 1/√{} = {:.2} of one part's (the worst case does not shrink)",
-                n.position, n.pieces, n.pieces, n.spread_factor
-            )?;
-        }
-    }
-    if let Some(v) = &r.target {
-        let (a, b) = v.target.band();
-        let q = v.target.quantity;
-        writeln!(
-            out,
-            "\ntarget: {} {} within ±{} ({} … {}): {}",
-            q.label(),
-            qv(q, v.target.value),
-            v.target.within,
-            qv(q, a),
-            qv(q, b),
-            if v.guaranteed {
-                "GUARANTEED — every corner, with the model band, lies inside".to_string()
-            } else {
-                format!(
-                    "NOT guaranteed — worst case with the model band {} … {}{}",
-                    qv(q, v.interval.worst_lo),
-                    qv(q, v.interval.worst_hi),
-                    if v.nominal_inside {
-                        ""
-                    } else {
-                        "; even the nominal value misses"
-                    }
-                )
-            }
-        )?;
-        if let Some(share) = r
-            .analyses
-            .first()
-            .and_then(|a| a.monte_carlo.as_ref())
-            .and_then(|m| m.within_target)
-        {
-            writeln!(
-                out,
-                "  Monte Carlo: {:.1} % of samples inside",
-                share * 100.0
-            )?;
-        }
-    }
-    if let Some(t) = &r.trim {
-        let ohm = |v: f64| Ohms::from_si(v).map_or_else(String::new, |x| x.eng(3));
-        writeln!(
-            out,
-            "\ntrim: to set {} to {} in every corner the position needs {} … {} (nominal {})",
-            t.quantity.label(),
-            qv(t.quantity, t.goal),
-            ohm(t.need_min),
-            ohm(t.need_max),
-            ohm(t.need_nominal)
-        )?;
-        match t.fixed {
-            Some(f) => writeln!(
-                out,
-                "  fit a {} fixed resistor ({}, E24) in series with a {} trimmer (track {}, from memory); nominal setting at {:.0} % of its travel",
-                ohm(f),
-                tolerance_text(t.fixed_tolerance),
-                ohm(t.trimmer),
-                tolerance_text(t.trimmer_tolerance),
-                t.nominal_setting * 100.0
-            )?,
-            None => writeln!(
-                out,
-                "  a {} trimmer alone (track {}); nominal setting at {:.0} % — mind the discharge current at its low end if it is R1",
-                ohm(t.trimmer),
-                tolerance_text(t.trimmer_tolerance),
-                t.nominal_setting * 100.0
-            )?,
-        }
-    }
-    let figs: Vec<String> = family
-        .figures()
-        .into_iter()
-        .map(|(k, f)| {
-            let mark = if f.provenance == crate::timing::Provenance::FromMemory {
-                String::new()
-            } else {
-                format!(" ({})", f.provenance.label())
-            };
-            format!("{k} {}{mark}", si_unit(f.value, f.unit))
-        })
-        .collect();
-    writeln!(
-        out,
-        "\ntimer figures ({}, from memory unless marked; override with --set KEY=VALUE):",
-        family.name
-    )?;
-    for chunk in figs.chunks(4) {
-        writeln!(out, "  {}", chunk.join(", "))?;
-    }
-    writeln!(out, "\nfindings:")?;
-    if r.findings.is_empty() {
-        writeln!(out, "  none")?;
-    }
-    for f in &r.findings {
-        let sev = match f.severity {
-            Severity::Error => "ERROR",
-            Severity::Warning => "warning",
-            Severity::Caution => "CAUTION",
-            Severity::Note => "note",
-        };
-        writeln!(out, "  {sev:<8} {:<22} {}", f.code, f.message)?;
-    }
-    let errors = r
-        .findings
-        .iter()
-        .filter(|f| f.severity == Severity::Error)
-        .count();
-    let verdict = match (errors, r.target.map(|v| v.guaranteed)) {
-        (0, None | Some(true)) => "result: sound".to_string(),
-        (0, Some(false)) => "result: target not guaranteed".to_string(),
-        (n, _) => format!(
-            "result: FAILED — {n} error finding{}",
-            if n == 1 { "" } else { "s" }
-        ),
-    };
-    if !r.files.is_empty() || !r.notes.is_empty() {
-        writeln!(out, "\nfiles written:")?;
-        for f in &r.files {
-            writeln!(out, "  {:<10} {}", f.kind, f.path)?;
-        }
-        if let Some(n) = &r.netlist {
-            writeln!(out, "  (run the netlist with: ngspice -b {})", n.path)?;
-        }
-        for n in &r.notes {
-            writeln!(out, "  note: {n}")?;
-        }
-    }
-    writeln!(out, "\n{verdict}")?;
-    Ok(())
+        Status::NotMet
+    })
 }
 
 #[cfg(test)]

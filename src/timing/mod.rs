@@ -4,6 +4,7 @@
 //! checks (`checks`) and tolerance analysis — worst case, Monte Carlo, trim, inverse
 //! (`tolerance`). Pure functions; no I/O, no store, no rendering.
 
+pub mod assess;
 pub mod checks;
 pub mod design;
 pub mod evaluate;

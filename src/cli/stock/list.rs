@@ -4,8 +4,9 @@ use super::{
     Context, Narrow, Status, describe, low_warning, open_store, parse_kind, parse_tech,
     resolve_part,
 };
+use crate::report::list::{self as report, rating, safe};
 use crate::report::table::Table;
-use crate::store::{Kind, Part, PartFilter, PartText, Value, text};
+use crate::store::{Kind, PartFilter, PartText, Value, text};
 use crate::units::count;
 use anyhow::{Context as _, bail};
 use std::io::Write;
@@ -77,57 +78,6 @@ fn bound(text: &str, kind: Option<Kind>, option: &str) -> anyhow::Result<Value> 
     }
 }
 
-fn rating(p: &Part) -> String {
-    match (p.voltage_rating, p.power_rating) {
-        (Some(v), Some(w)) => format!("{} {}", text::volts_text(v), text::watts_text(w)),
-        (Some(v), None) => text::volts_text(v),
-        (None, Some(w)) => text::watts_text(w),
-        (None, None) => String::new(),
-    }
-}
-
-/// The stock table.
-pub fn table(parts: &[Part]) -> Table {
-    let mut t = Table::new([
-        "#", "kind", "value", "tol", "tech", "rating", "package", "bin", "qty", "held", "free",
-        "low", "note",
-    ])
-    .right_aligned(&[2, 8, 9, 10, 11]);
-    for p in parts {
-        let low = match p.low_stock {
-            Some(l) if p.quantity <= l => format!("{l} LOW"),
-            Some(l) => l.to_string(),
-            None => String::new(),
-        };
-        let value = match p.kind {
-            Kind::Diode => String::new(),
-            _ => p.value.to_string(),
-        };
-        t.row([
-            format!("#{}", p.id),
-            p.kind.to_string(),
-            value,
-            crate::model::read::tolerance_cell(p.kind, p.tolerance),
-            p.technology.label().to_string(),
-            rating(p),
-            safe(&p.package),
-            safe(&p.bin),
-            p.quantity.to_string(),
-            p.held.to_string(),
-            p.available().to_string(),
-            low,
-            safe(&p.note),
-        ]);
-    }
-    t
-}
-
-/// Stored text as it may reach a terminal: control characters shown as escapes (rows stored
-/// before they were refused on input, or written by other tools, cannot act on the screen).
-fn safe(s: &str) -> String {
-    text::for_terminal(s).into_owned()
-}
-
 /// Run `list`.
 pub fn run_list(a: ListArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Result<Status> {
     let kind = parse_kind(a.kind.as_deref())?;
@@ -155,25 +105,7 @@ pub fn run_list(a: ListArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resu
         writeln!(out, "{}", serde_json::to_string_pretty(&parts)?)?;
         return Ok(Status::Success);
     }
-    if parts.is_empty() {
-        writeln!(out, "no parts match")?;
-        return Ok(Status::Success);
-    }
-    writeln!(out, "{}", table(&parts).render(ctx.style))?;
-    // Summed wide: two rows near the largest count must never wrap to a negative total.
-    let pieces: i128 = parts.iter().map(|p| i128::from(p.quantity)).sum();
-    let held: i128 = parts.iter().map(|p| i128::from(p.held)).sum();
-    let rows = count(parts.len(), "row", "rows");
-    let pieces_text = count(pieces, "piece", "pieces");
-    if held == 0 {
-        writeln!(out, "{rows}, {pieces_text}")?;
-    } else {
-        writeln!(
-            out,
-            "{rows}, {pieces_text} ({held} held for plans, {} free)",
-            pieces - held
-        )?;
-    }
+    out.write_all(report::text(&parts, ctx.style).as_bytes())?;
     Ok(Status::Success)
 }
 
