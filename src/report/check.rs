@@ -140,6 +140,7 @@ pub struct FigureReport {
 /// The whole report of `check`, as JSON prints it (text renders the same data).
 #[derive(Debug, Clone, Serialize)]
 pub struct CheckReport {
+    schema: u32,
     form: String,
     family: &'static str,
     supply: Volts,
@@ -249,6 +250,7 @@ pub fn build(
     let mut findings = assessment.findings.clone();
     sort_by_severity(&mut findings, |f| f.severity);
     CheckReport {
+        schema: super::style::JSON_SCHEMA,
         form: view.form,
         family: family.name,
         supply: view.supply,

@@ -102,7 +102,7 @@ pub fn run_list(a: ListArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resu
     let store = open_store(ctx)?;
     let parts = store.parts(&filter).context("reading stock")?;
     if ctx.json {
-        writeln!(out, "{}", serde_json::to_string_pretty(&parts)?)?;
+        crate::cli::json::pretty(out, &parts)?;
         return Ok(Status::Success);
     }
     out.write_all(report::text(&parts, ctx.style).as_bytes())?;
@@ -116,7 +116,7 @@ pub fn run_show(a: ShowArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resu
     let ledger = store.ledger(Some(part.id))?;
     if ctx.json {
         let v = serde_json::json!({ "part": part, "ledger": ledger });
-        writeln!(out, "{}", serde_json::to_string_pretty(&v)?)?;
+        crate::cli::json::pretty(out, &v)?;
         return Ok(Status::Success);
     }
     writeln!(out, "{}", describe(&part))?;
