@@ -41,6 +41,7 @@
 //! the timing error of the simulation (about 0.05 % at worst).
 
 use crate::network::{Combine, Net};
+use crate::timing::checks::{CONTROL_DECOUPLING, PAIR_COUPLING};
 use crate::timing::evaluate::{DiodeModel, Model, SMALL_SIGNAL_DIODE};
 use crate::timing::family::Family;
 use crate::timing::{Conditions, FormError, cycle_si};
@@ -109,12 +110,6 @@ pub const MEAS_PERIOD: &str = "period";
 
 /// How many time steps at least per shortest phase.
 const STEPS_PER_PHASE: f64 = 2000.0;
-
-/// Pull-up of the width stage's trigger in a pair (as in the text schematic).
-const PAIR_PULL_UP: f64 = 10e3;
-/// Largest coupling capacitor from the pace output to the width stage's trigger (as in the
-/// text schematic); smaller when the width is short, so the trigger dip stays under 1/50 of it.
-const PAIR_COUPLING_MAX: f64 = 1e-9;
 
 /// A design to simulate: its form, parts and operating conditions (one piece per position).
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
@@ -726,9 +721,9 @@ impl Netlist {
             Some(v) => self.line(&format!("V{ctrl} {ctrl} 0 DC {}", num(v.si()))),
             None => {
                 self.comment(&format!(
-                    "{ctrl} left to the internal divider (2/3 of the supply), decoupled by 10 nF as in the schematic"
+                    "{ctrl} left to the internal divider (2/3 of the supply), decoupled as in the schematic"
                 ));
-                self.line(&format!("C{ctrl} {ctrl} 0 10n"));
+                self.line(&format!("C{ctrl} {ctrl} 0 {}", num(CONTROL_DECOUPLING)));
                 self.line(&format!(".ic v({ctrl})={}", num(cond.vcc.si() * 2.0 / 3.0)));
             }
         }
@@ -792,14 +787,16 @@ impl Netlist {
             let width = t.high;
             match &trigger {
                 Trigger::From(src) => {
-                    // Coupling small enough that the trigger dip (R·C·ln 3 below a third of
-                    // the supply) stays under 1/50 of the width.
-                    let cc = PAIR_COUPLING_MAX.min(width / (50.0 * PAIR_PULL_UP * 3f64.ln()));
+                    // The same coupling as the text schematic and the checks.
+                    let k = PAIR_COUPLING;
                     self.comment(&format!(
-                        "trigger: falling edge of {src} through a coupling capacitor, pull-up to the supply"
+                        "trigger: falling edge of {src} through a coupling capacitor, pull-up to the supply, clamp diode to the supply"
                     ));
-                    self.line(&format!("Rpull{sfx} {trig} vcc {}", num(PAIR_PULL_UP)));
-                    self.line(&format!("Ccouple{sfx} {src} {trig} {}", time(cc)));
+                    self.line(&format!("Rpull{sfx} {trig} vcc {}", num(k.pull_up)));
+                    self.line(&format!("Ccouple{sfx} {src} {trig} {}", num(k.capacitor)));
+                    if k.clamp {
+                        self.line(&format!("Dclamp{sfx} {trig} vcc onhand_ss"));
+                    }
                 }
                 Trigger::Own | Trigger::None => {
                     let vcc = cond.vcc.si();
@@ -1138,8 +1135,9 @@ mod tests {
         );
         let text = pair(&pace, &width).expect("netlist");
         assert!(text.contains("Rpull_B trig_b vcc 10k\n"), "{text}");
-        // Width ln 3·10 kΩ·10 nF = 110 µs: coupling 110 µs / (50·10 kΩ·ln 3) = 200 pF.
-        assert!(text.contains("Ccouple_B out_a trig_b 200p\n"), "{text}");
+        // The coupling of the checks and the schematic: 1 nF, 10 kΩ and the clamp diode.
+        assert!(text.contains("Ccouple_B out_a trig_b 1n\n"), "{text}");
+        assert!(text.contains("Dclamp_B trig_b vcc onhand_ss\n"), "{text}");
         assert!(
             text.contains("Xtimer_A 0 cap_a out_a ctrl_a cap_a dis_a vcc q_a onhand_switch_timer"),
             "{text}"
