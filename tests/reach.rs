@@ -195,9 +195,9 @@ fn find_writes_pictures_and_a_netlist_that_ngspice_agrees_with() {
             "find",
             "pulse",
             "11ms",
-            // The exported netlist still carries the textbook timer (closing note of issue 9),
-            // so the round trip through ngspice is checked on the textbook model.
-            "--ideal",
+            // The drawer's closest under the default model is about 1.1 % off 11 ms.
+            "--tol",
+            "2%",
             "--stock",
             &stock,
             "--svg",
@@ -229,7 +229,8 @@ fn find_writes_pictures_and_a_netlist_that_ngspice_agrees_with() {
         .map(|q| num(&q["nominal"]))
         .expect("width");
     if util::have_tool("ngspice", &["-v"]) {
-        // Debian's ngspice simulates the netlist; the measured width must match the prediction.
+        // Source: Debian package ngspice, transient simulation of the exported (default, real
+        // parts) netlist; the measured width must match the default prediction within 1 %.
         let out = std::process::Command::new("ngspice")
             .arg("-b")
             .arg(&cir)

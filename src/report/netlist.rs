@@ -5,25 +5,32 @@
 //! [`render`] for a one-piece [`Design`]), a pace stage firing a width monostable ([`pair`]),
 //! or two independent halves of a dual package ([`dual`]). Every position is written as its
 //! real pieces in series and parallel (`R1a`, `R1b`, …), not as one equivalent value. The
-//! behavioural timer model (`spice/onhand_timer.lib`, our own) is embedded with `include_str!`,
-//! so the exported file needs nothing beside it.
+//! switch-level timer model (`spice/onhand_switch_timer.lib`, our own) is embedded with
+//! `include_str!`, so the exported file needs nothing beside it.
 //!
 //! # The model
-//! The subcircuit `onhand_timer` takes its nodes in the order of the 8-pin package
-//! (1 GND, 2 TRIG, 3 OUT, 4 RESET, 5 CTRL, 6 THR, 7 DIS, 8 VCC):
+//! The subcircuit `onhand_switch_timer` (nodes GND, TRIG, OUT, CTRL, THR, DIS, VCC and the latch
+//! node Q) has no behavioural sources at all:
 //! - an internal 5k/5k/5k divider sets CTRL at 2/3·VCC unless CTRL is driven, and the trigger
 //!   reference at CTRL/2, so the thresholds are exactly those of [`crate::timing::forms`];
-//! - two comparators and a set-dominant SR latch are B-sources built from `u()` (unit step);
-//!   the latch holds its state through an RC of time constant `tl` (set here to 1/100 of the
-//!   largest time step, so it never shows in the timing);
-//! - a voltage-controlled switch `S` (on-resistance `ron` 0.1 Ω, off 1 TΩ) discharges DIS while
-//!   the latch is clear; RESET below 0.7 V (common practice) clears the latch;
-//! - the output is a B-source at `q·(VCC − hdrop)` behind `rout` (10 mΩ): rail-to-rail when
-//!   `hdrop` is 0, or sitting `hdrop` below the supply when high.
+//! - the comparators are voltage-controlled switches (`S`) whose control inputs draw no current;
+//!   they set and clear a latch made of switches and a 100 pF node (`Q`, 1 V = output high);
+//! - the discharge switch ends on a DC source of `vsat` volts: the discharge transistor's
+//!   saturation voltage ([`SpiceParts::saturation`]; the family's figure, from memory);
+//! - the output is two switches, the high side sitting `hdrop` below the supply (the family's
+//!   output-high drop in the output-driven form, from the stage's conditions).
 //!
-//! Steering diodes (`onhand_diode`) are a behavioural element with a fixed forward drop `vf`: a
-//! conductance of 1 kS above `vf` and 1 pS leakage, so the drop does not move with current as a
-//! junction's would. That is the diode the closed forms assume.
+//! Steering diodes are, by default, the junction diode `onhand_ss` (`D` model, IS 2.52 nA, N 1.752,
+//! RS 0.568 Ω, from memory — the figures of
+//! [`crate::timing::evaluate::SMALL_SIGNAL_DIODE`]), so their drop follows the charging current
+//! as the default model's does. With a fixed drop (`--diode VOLTS`) or the textbook model they
+//! are `onhand_diode`: a behavioural element with a fixed forward drop `vf` (a conductance of
+//! 1 kS above `vf` and 1 pS leakage), which is what those models assume.
+//!
+//! [`stage`], [`pair`], [`dual`] and [`render`] write the default real parts
+//! ([`SpiceParts::for_conditions`]); [`stage_with`], [`pair_with`], [`dual_with`] and
+//! [`render_with`] take the parts explicitly ([`SpiceParts::of`] a model and family,
+//! [`SpiceParts::textbook`] for `--ideal`).
 //!
 //! Each netlist starts with the capacitor empty (`.ic`, `uic`). The start-up cycle from 0 V is
 //! longer than the rest, so the `.meas` lines skip it: a monostable is triggered three times and
@@ -34,13 +41,63 @@
 //! the timing error of the simulation (about 0.05 % at worst).
 
 use crate::network::{Combine, Net};
+use crate::timing::checks::{CONTROL_DECOUPLING, PAIR_COUPLING};
+use crate::timing::evaluate::{DiodeModel, Model, SMALL_SIGNAL_DIODE};
+use crate::timing::family::Family;
 use crate::timing::{Conditions, FormError, cycle_si};
 use crate::units::{Farads, Ohms, Volts};
 
 pub use crate::timing::{Form, Steering};
 
-/// Text of the behavioural timer and diode subcircuits, embedded in every netlist.
-pub const TIMER_LIBRARY: &str = include_str!("../../spice/onhand_timer.lib");
+/// Text of the switch-level timer, the junction diode model and the fixed-drop diode, embedded
+/// in every netlist.
+pub const TIMER_LIBRARY: &str = include_str!("../../spice/onhand_switch_timer.lib");
+
+/// The real parts a netlist carries beyond the stage's own conditions (which already hold the
+/// supply, control voltage, fixed diode drop and output-high drop).
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+pub struct SpiceParts {
+    /// Steering diodes as the junction `onhand_ss` (true) or as the fixed drop of the stage's
+    /// conditions (false; a drop of 0 is the ideal diode).
+    pub junction_diodes: bool,
+    /// Voltage left on the discharge pin while the discharge switch is on, volts.
+    pub saturation: f64,
+}
+
+impl SpiceParts {
+    /// The textbook timer: no saturation, diodes with the conditions' fixed drop (0 in `--ideal`).
+    pub fn textbook() -> Self {
+        Self {
+            junction_diodes: false,
+            saturation: 0.0,
+        }
+    }
+
+    /// The parts matching an evaluator model and family: junction diodes for the small-signal
+    /// diode model, the family's discharge saturation when the model includes it.
+    pub fn of(model: &Model, family: &Family) -> Self {
+        Self {
+            junction_diodes: model.diode == DiodeModel::SmallSignal,
+            saturation: if model.saturation {
+                family.discharge_saturation.value.max(0.0)
+            } else {
+                0.0
+            },
+        }
+    }
+
+    /// The default real parts, read from the conditions alone (what [`stage`], [`pair`],
+    /// [`dual`] and [`render`] use): the bipolar family's discharge saturation (0.1 V, from
+    /// memory), and junction diodes when the conditions carry the small-signal diode's drop at
+    /// 1 mA (how `check` and `find` pass the default diode on), else the conditions' fixed drop.
+    pub fn for_conditions(cond: &Conditions) -> Self {
+        let representative = SMALL_SIGNAL_DIODE.drop_at(1e-3);
+        Self {
+            junction_diodes: (cond.diode_drop.si() - representative).abs() < 1e-6,
+            saturation: Family::bipolar().discharge_saturation.value.max(0.0),
+        }
+    }
+}
 
 /// Name of the `.meas` result holding a monostable's pulse width, in seconds.
 pub const MEAS_WIDTH: &str = "width";
@@ -53,12 +110,6 @@ pub const MEAS_PERIOD: &str = "period";
 
 /// How many time steps at least per shortest phase.
 const STEPS_PER_PHASE: f64 = 2000.0;
-
-/// Pull-up of the width stage's trigger in a pair (as in the text schematic).
-const PAIR_PULL_UP: f64 = 10e3;
-/// Largest coupling capacitor from the pace output to the width stage's trigger (as in the
-/// text schematic); smaller when the width is short, so the trigger dip stays under 1/50 of it.
-const PAIR_COUPLING_MAX: f64 = 1e-9;
 
 /// A design to simulate: its form, parts and operating conditions (one piece per position).
 #[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
@@ -239,6 +290,11 @@ pub fn render(design: &Design) -> Result<String, NetlistError> {
     stage(&design.stage_net()?)
 }
 
+/// [`render`] with the real parts given explicitly.
+pub fn render_with(design: &Design, parts: &SpiceParts) -> Result<String, NetlistError> {
+    stage_with(&design.stage_net()?, parts)
+}
+
 /// Monostable: R from the supply to the capacitor (THR and DIS), TRIG driven by a pulse source
 /// that dips to 0 V three times, each dip a tenth of the expected width.
 pub fn monostable(r: Ohms, c: Farads, cond: &Conditions) -> Result<String, NetlistError> {
@@ -284,13 +340,18 @@ fn one_piece(
 /// with the output high and an empty capacitor. Results: [`MEAS_WIDTH`] for a monostable,
 /// [`MEAS_HIGH`], [`MEAS_LOW`], [`MEAS_PERIOD`] otherwise.
 pub fn stage(s: &StageNet) -> Result<String, NetlistError> {
+    stage_with(s, &SpiceParts::for_conditions(&s.conditions))
+}
+
+/// [`stage`] with the real parts given explicitly.
+pub fn stage_with(s: &StageNet, parts: &SpiceParts) -> Result<String, NetlistError> {
     let t = Timed::of(s)?;
     let mut n = Netlist::new(
         &format!("{}, {}", describe(s.form), t.parts),
         s.conditions.vcc,
     );
     let step = t.shortest() / STEPS_PER_PHASE;
-    let stop = n.stage(s, &t, "", Trigger::Own, step)?;
+    let stop = n.stage(s, &t, "", Trigger::Own, parts)?;
     n.tran(step, stop);
     Ok(n.finish())
 }
@@ -300,6 +361,15 @@ pub fn stage(s: &StageNet) -> Result<String, NetlistError> {
 /// [`MEAS_PERIOD`] (of the pace output), [`MEAS_WIDTH`] and [`MEAS_LOW`] of the width stage's
 /// output, which is the pair's output.
 pub fn pair(pace: &StageNet, width: &StageNet) -> Result<String, NetlistError> {
+    pair_with(pace, width, &SpiceParts::for_conditions(&pace.conditions))
+}
+
+/// [`pair`] with the real parts given explicitly.
+pub fn pair_with(
+    pace: &StageNet,
+    width: &StageNet,
+    parts: &SpiceParts,
+) -> Result<String, NetlistError> {
     if !pace.form.is_periodic() || width.form != Form::Monostable {
         return Err(NetlistError::PairForms);
     }
@@ -314,8 +384,8 @@ pub fn pair(pace: &StageNet, width: &StageNet) -> Result<String, NetlistError> {
         pace.conditions.vcc,
     );
     let step = tp.shortest().min(tw.shortest()) / STEPS_PER_PHASE;
-    let stop = n.stage(pace, &tp, "a", Trigger::None, step)?;
-    n.stage(width, &tw, "b", Trigger::From("out_a".into()), step)?;
+    let stop = n.stage(pace, &tp, "a", Trigger::None, parts)?;
+    n.stage(width, &tw, "b", Trigger::From("out_a".into()), parts)?;
     let h = num(half_output(&width.conditions));
     // Pulses of out_b start at each fall of out_a (start-up + k·period); count edges only from
     // the middle of the low stretch after the second pulse, so that start-up edges (and any
@@ -339,6 +409,11 @@ pub fn pair(pace: &StageNet, width: &StageNet) -> Result<String, NetlistError> {
 /// Two independent stages of a dual package sharing the supply. Results are named with
 /// [`meas_name`]: `a_period`, `b_width`, …
 pub fn dual(a: &StageNet, b: &StageNet) -> Result<String, NetlistError> {
+    dual_with(a, b, &SpiceParts::for_conditions(&a.conditions))
+}
+
+/// [`dual`] with the real parts given explicitly.
+pub fn dual_with(a: &StageNet, b: &StageNet, parts: &SpiceParts) -> Result<String, NetlistError> {
     let (ta, tb) = (Timed::of(a)?, Timed::of(b)?);
     let mut n = Netlist::new(
         &format!(
@@ -351,8 +426,8 @@ pub fn dual(a: &StageNet, b: &StageNet) -> Result<String, NetlistError> {
         a.conditions.vcc,
     );
     let step = ta.shortest().min(tb.shortest()) / STEPS_PER_PHASE;
-    let sa = n.stage(a, &ta, "a", Trigger::Own, step)?;
-    let sb = n.stage(b, &tb, "b", Trigger::Own, step)?;
+    let sa = n.stage(a, &ta, "a", Trigger::Own, parts)?;
+    let sb = n.stage(b, &tb, "b", Trigger::Own, parts)?;
     n.tran(step, sa.max(sb));
     Ok(n.finish())
 }
@@ -525,7 +600,7 @@ impl Netlist {
         };
         n.comment("Written by onhand. Nodes: vcc supply, cap timing capacitor, out output,");
         n.comment("trig trigger, dis discharge, ctrl control (with _a/_b per stage of a pair).");
-        n.comment("Behavioural timer model below; run with: ngspice -b THIS_FILE");
+        n.comment("Switch-level timer model below; run with: ngspice -b THIS_FILE");
         n.text.push_str(TIMER_LIBRARY);
         if !TIMER_LIBRARY.ends_with('\n') {
             n.text.push('\n');
@@ -624,7 +699,7 @@ impl Netlist {
         t: &Timed,
         tag: &str,
         trigger: Trigger,
-        step: f64,
+        parts: &SpiceParts,
     ) -> Result<f64, NetlistError> {
         let cond = &s.conditions;
         let (cap, dis, out, trig, ctrl) = (
@@ -646,13 +721,28 @@ impl Netlist {
             Some(v) => self.line(&format!("V{ctrl} {ctrl} 0 DC {}", num(v.si()))),
             None => {
                 self.comment(&format!(
-                    "{ctrl} left to the internal divider (2/3 of the supply), decoupled by 10 nF as in the schematic"
+                    "{ctrl} left to the internal divider (2/3 of the supply), decoupled as in the schematic"
                 ));
-                self.line(&format!("C{ctrl} {ctrl} 0 10n"));
+                self.line(&format!("C{ctrl} {ctrl} 0 {}", num(CONTROL_DECOUPLING)));
                 self.line(&format!(".ic v({ctrl})={}", num(cond.vcc.si() * 2.0 / 3.0)));
             }
         }
         let vf = num(cond.diode_drop.si());
+        let junction = parts.junction_diodes;
+        if s.form == Form::Steered {
+            self.comment(if junction {
+                "steering diodes: junction onhand_ss (IS 2.52n, N 1.752, RS 0.568; from memory)"
+            } else {
+                "steering diodes: fixed forward drop (onhand_diode)"
+            });
+        }
+        let diode = |name: &str, a: &str, k: &str| {
+            if junction {
+                format!("D{name} {a} {k} onhand_ss")
+            } else {
+                format!("Xd{name} {a} {k} onhand_diode vf={vf}")
+            }
+        };
         let sfx = if tag.is_empty() {
             String::new()
         } else {
@@ -672,14 +762,14 @@ impl Netlist {
                 match s.steering {
                     Steering::TwoDiode => {
                         let db = node("db", tag);
-                        self.line(&format!("Xdcharge{sfx} {dis} {cap} onhand_diode vf={vf}"));
-                        self.line(&format!("Xddischarge{sfx} {cap} {db} onhand_diode vf={vf}"));
-                        self.network(rb, Combine::Resistive, tag, &db, &dis);
+                        self.line(&diode(&format!("charge{sfx}"), &dis, &cap));
+                        self.network(rb, Combine::Resistive, tag, &cap, &db);
+                        self.line(&diode(&format!("discharge{sfx}"), &db, &dis));
                     }
                     Steering::OneDiode => {
                         self.comment("one diode bypassing RB while charging");
                         self.network(rb, Combine::Resistive, tag, &dis, &cap);
-                        self.line(&format!("Xdbypass{sfx} {dis} {cap} onhand_diode vf={vf}"));
+                        self.line(&diode(&format!("bypass{sfx}"), &dis, &cap));
                     }
                 }
             }
@@ -697,14 +787,16 @@ impl Netlist {
             let width = t.high;
             match &trigger {
                 Trigger::From(src) => {
-                    // Coupling small enough that the trigger dip (R·C·ln 3 below a third of
-                    // the supply) stays under 1/50 of the width.
-                    let cc = PAIR_COUPLING_MAX.min(width / (50.0 * PAIR_PULL_UP * 3f64.ln()));
+                    // The same coupling as the text schematic and the checks.
+                    let k = PAIR_COUPLING;
                     self.comment(&format!(
-                        "trigger: falling edge of {src} through a coupling capacitor, pull-up to the supply"
+                        "trigger: falling edge of {src} through a coupling capacitor, pull-up to the supply, clamp diode to the supply"
                     ));
-                    self.line(&format!("Rpull{sfx} {trig} vcc {}", num(PAIR_PULL_UP)));
-                    self.line(&format!("Ccouple{sfx} {src} {trig} {}", time(cc)));
+                    self.line(&format!("Rpull{sfx} {trig} vcc {}", num(k.pull_up)));
+                    self.line(&format!("Ccouple{sfx} {src} {trig} {}", num(k.capacitor)));
+                    if k.clamp {
+                        self.line(&format!("Dclamp{sfx} {trig} vcc onhand_ss"));
+                    }
                 }
                 Trigger::Own | Trigger::None => {
                     let vcc = cond.vcc.si();
@@ -731,13 +823,18 @@ impl Netlist {
                 }
             }
         }
-        self.line(&format!(
-            "Xtimer{sfx} 0 {thr_trig} {out} vcc {ctrl} {cap} {dis_pin} vcc onhand_timer hdrop={} tl={} q0={}",
-            num(cond.output_high_drop.si()),
-            time(step / 100.0),
-            u8::from(!one_shot)
+        let q = node("q", tag);
+        self.comment(&format!(
+            "timer: discharge saturation {} V, output-high drop {} V",
+            num(parts.saturation),
+            num(cond.output_high_drop.si())
         ));
-        self.line(&format!(".ic v({cap})=0"));
+        self.line(&format!(
+            "Xtimer{sfx} 0 {thr_trig} {out} {ctrl} {cap} {dis_pin} vcc {q} onhand_switch_timer vsat={} hdrop={}",
+            num(parts.saturation),
+            num(cond.output_high_drop.si()),
+        ));
+        self.line(&format!(".ic v({cap})=0 v({q})={}", u8::from(!one_shot)));
         if !one_shot && !matches!(trigger, Trigger::None) {
             self.cycle_measures(cond, tag, &out);
         }
@@ -830,7 +927,7 @@ mod tests {
         ] {
             let text = render(&design(form, r2)).expect("netlist");
             assert!(text.starts_with("onhand timer design: "), "{text}");
-            assert!(text.contains(".subckt onhand_timer gnd trig out reset ctrl thr dis vcc"));
+            assert!(text.contains(".subckt onhand_switch_timer gnd trig out ctrl thr dis vcc q"));
             assert!(text.contains("Xtimer 0 "));
             assert!(text.contains(".tran "));
             assert!(text.contains(".ic v(cap)=0"));
@@ -872,7 +969,7 @@ mod tests {
         d.output_high_drop = v(1.5);
         let text = render(&d).expect("netlist");
         assert!(text.contains("Vctrl ctrl 0 DC 5\n"), "{text}");
-        assert!(text.contains("hdrop=1.5 "), "{text}");
+        assert!(text.contains("hdrop=1.5\n"), "{text}");
         // Edges are measured at half of the 7.5 V swing.
         assert!(text.contains("val=3.75 rise=2"), "{text}");
     }
@@ -1012,6 +1109,14 @@ mod tests {
             "{text}"
         );
         assert!(!text.contains("Xddischarge"), "{text}");
+        // The default diode (the small-signal diode's drop at 1 mA) is the junction model.
+        s.conditions.diode_drop = v(SMALL_SIGNAL_DIODE.drop_at(1e-3));
+        let text = stage(&s).expect("netlist");
+        assert!(text.contains("Dbypass dis cap onhand_ss\n"), "{text}");
+        assert!(text.contains("vsat=100m"), "{text}");
+        let text = stage_with(&s, &SpiceParts::textbook()).expect("netlist");
+        assert!(text.contains("onhand_diode vf="), "{text}");
+        assert!(text.contains("vsat=0 "), "{text}");
     }
 
     #[test]
@@ -1030,14 +1135,15 @@ mod tests {
         );
         let text = pair(&pace, &width).expect("netlist");
         assert!(text.contains("Rpull_B trig_b vcc 10k\n"), "{text}");
-        // Width ln 3·10 kΩ·10 nF = 110 µs: coupling 110 µs / (50·10 kΩ·ln 3) = 200 pF.
-        assert!(text.contains("Ccouple_B out_a trig_b 200p\n"), "{text}");
+        // The coupling of the checks and the schematic: 1 nF, 10 kΩ and the clamp diode.
+        assert!(text.contains("Ccouple_B out_a trig_b 1n\n"), "{text}");
+        assert!(text.contains("Dclamp_B trig_b vcc onhand_ss\n"), "{text}");
         assert!(
-            text.contains("Xtimer_A 0 cap_a out_a vcc ctrl_a cap_a dis_a vcc"),
+            text.contains("Xtimer_A 0 cap_a out_a ctrl_a cap_a dis_a vcc q_a onhand_switch_timer"),
             "{text}"
         );
         assert!(
-            text.contains("Xtimer_B 0 trig_b out_b vcc ctrl_b cap_b cap_b vcc"),
+            text.contains("Xtimer_B 0 trig_b out_b ctrl_b cap_b cap_b vcc q_b onhand_switch_timer"),
             "{text}"
         );
         let meas: Vec<&str> = text.lines().filter(|l| l.starts_with(".meas")).collect();

@@ -6,6 +6,8 @@
 //! 7 GND; timer B: 8 TRIG, 9 OUT, 10 RESET, 11 CTRL, 12 THR, 13 DIS; 14 VCC) — the usual
 //! industry pinout, `from memory`; check the data sheet of the part in hand.
 
+use crate::timing::checks::{CONTROL_DECOUPLING, PAIR_COUPLING};
+use crate::units::format_sig;
 use std::fmt::Write as _;
 
 /// The circuit around one timer.
@@ -56,7 +58,12 @@ fn pin_roles(stage: &StageParts, tag: &str, trig_from: &str) -> Vec<(&'static st
         (
             "CTRL",
             stage.control.as_ref().map_or_else(
-                || "10 nF to ground (decoupling)".to_string(),
+                || {
+                    format!(
+                        "{} to ground (decoupling)",
+                        format_sig(CONTROL_DECOUPLING, 3, "F")
+                    )
+                },
                 |v| format!("driven at {v}"),
             ),
         ),
@@ -148,8 +155,19 @@ pub fn single(stage: &StageParts, supply: &str) -> String {
 /// The schematic of two stages in the 14-pin dual package. When `chained`, output A triggers
 /// stage B through a small coupling network so that B's trigger pulse stays short.
 pub fn dual(a: &StageParts, b: &StageParts, supply: &str, chained: bool) -> String {
+    let k = PAIR_COUPLING;
+    let coupling = format!(
+        "output A through {}, {} pull-up to supply{}",
+        format_sig(k.capacitor, 3, "F"),
+        format_sig(k.pull_up, 3, "Ω"),
+        if k.clamp {
+            ", clamp diode to supply (cathode at supply)"
+        } else {
+            ""
+        }
+    );
     let trig_b = if chained {
-        "output A through 1 nF, 10 kΩ pull-up to supply"
+        coupling.as_str()
     } else {
         "trigger input B"
     };

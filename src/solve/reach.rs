@@ -498,17 +498,13 @@ impl<'a> Prep<'a> {
         }
     }
 
-    /// Largest charging resistance an electrolytic of `c` farads allows (leakage rule).
-    fn leak_limit(&self, c: f64, tech: Technology) -> f64 {
+    /// Largest charging resistance an electrolytic of `c` farads with voltage rating `rating`
+    /// allows (the checks' leakage rule, [`crate::timing::checks::leakage_estimate`]).
+    fn leak_limit(&self, c: f64, tech: Technology, rating: Option<f64>) -> f64 {
         if !tech.is_electrolytic() {
             return f64::INFINITY;
         }
-        let cv = 0.01 * c * self.vcc;
-        let leak = if tech == Technology::Electrolytic {
-            cv.max(3e-6)
-        } else {
-            cv
-        };
+        let leak = crate::timing::checks::leakage_estimate(tech, c, rating, self.vcc);
         // leak / (V / R) ≤ ½  ⇔  R ≤ V / (2·leak).
         self.charge_v / (leak / LEAK_SHARE)
     }
@@ -770,7 +766,8 @@ impl<'a> Prep<'a> {
             // one in the seventh digit: keep a hair's margin below the maximum.
             i = i.max(e.partition_point(|x| 1.0 / (x.a * c) > fmax * (1.0 - 1e-6)));
         }
-        let limit = self.leak_limit(c, cap.tech) * (1.0 - 1e-7);
+        let limit =
+            self.leak_limit(c, cap.tech, cap.facts.voltage_rating.map(|v| v.si())) * (1.0 - 1e-7);
         let charge = |x: &Entry| x.r1 + x.r2;
         let mut spans = Vec::new();
         if limit.is_infinite() {
@@ -1332,7 +1329,7 @@ mod tests {
         req.cap_techs = None;
         let prep = Prep::new(&req).expect("prep");
         let c = 100e-6;
-        let limit = prep.leak_limit(c, Technology::Electrolytic);
+        let limit = prep.leak_limit(c, Technology::Electrolytic, Some(25.0));
         let facts = CapFacts {
             technology: Technology::Electrolytic,
             voltage_rating: Some(Volts::from_si(25.0).expect("v")),
@@ -1341,7 +1338,10 @@ mod tests {
         let ok = |r: f64| admit::admissible(&prep.stage(r, 0.0, c, Some(facts)), &req.family);
         assert!(ok(limit * 0.99), "just inside the leakage limit");
         assert!(!ok(limit * 1.01), "just outside the leakage limit");
-        assert!(prep.leak_limit(c, Technology::Film).is_infinite());
+        assert!(
+            prep.leak_limit(c, Technology::Film, Some(25.0))
+                .is_infinite()
+        );
     }
 
     #[test]

@@ -31,6 +31,16 @@
 //! - Supply outside the family range: Error. Output-driven square wave on a family whose output
 //!   does not reach the rail: Warning. One-shot trigger pulse not shorter than the output pulse:
 //!   Error.
+//! - Minimum trigger pulse: a trigger dip shorter than [`MIN_TRIGGER_PULSE`] (1 µs, from
+//!   memory — a conservative figure for both families) may not set the latch: Warning. The
+//!   pair's coupling network ([`PAIR_COUPLING`]: 1 nF series capacitor, 10 kΩ pull-up to the
+//!   supply, clamp diode from the trigger to the supply — the same parts in the schematic and
+//!   the netlist) makes a dip of `R·C·ln(Voh/(Vcc − Vtrig))`; Error when the pace output's step
+//!   cannot pull the trigger below its threshold, or the dip outlasts the pulse; a Note that the
+//!   clamp diode is needed (without it the trigger rises to `Vcc + Voh` on each rising edge).
+//! - Electrolytic leakage (above) is the datasheet maximum at the capacitor's **rating**
+//!   (`0.01·C·V_rated`, from memory), not at the supply; the supply stands in when the rating is
+//!   unknown.
 //! - Cautions (people can get hurt): supply above 50 V, capacitor energy ½·C·V² above 1 J, a
 //!   polarised capacitor of 100 µF or more at 35 V or more, a resistor dissipating over 1 W.
 //!
@@ -230,6 +240,12 @@ pub fn check_stage_with(stage: &Stage, family: &Family, limits: &Limits) -> Vec<
                 times.high.eng(3)
             ),
         )));
+    }
+    if stage.form == Form::Monostable
+        && let Some(trig) = limits.trigger
+        && let Some(finding) = check_trigger_minimum(trig)
+    {
+        out.push(finding);
     }
     if stage.form == Form::Square && !family.rail_to_rail() {
         out.push(f((
@@ -526,12 +542,12 @@ fn check_bias(stage: &Stage, family: &Family, out: &mut Vec<Finding>) {
         && cap.technology.is_electrolytic()
         && charge_i > 0.0
     {
-        let cv = 0.01 * stage.c.si() * vcc; // 0.01·C[µF]·V µA equals 0.01·C[F]·V A.
-        let leak = if cap.technology == Technology::Electrolytic {
-            cv.max(3e-6)
-        } else {
-            cv
-        };
+        let leak = leakage_estimate(
+            cap.technology,
+            stage.c.si(),
+            cap.voltage_rating.map(|v| v.si()),
+            vcc,
+        );
         let share = leak / charge_i;
         let sev = if share > 0.5 {
             Some(Severity::Error)
@@ -545,8 +561,9 @@ fn check_bias(stage: &Stage, family: &Family, out: &mut Vec<Finding>) {
                 sev,
                 "leakage",
                 format!(
-                    "the electrolytic may leak up to {} (0.01·C·V µA rule{}, from memory) against a charging current of {} at the threshold ({:.0} % of it){}",
+                    "the electrolytic may leak up to {} (0.01·C·V µA at its rating {}{}, from memory: the datasheet maximum) against a charging current of {} at the threshold ({:.0} % of it){}",
                     amps(leak),
+                    cap.voltage_rating.map_or_else(|| format!("unknown, taken as the supply {}", volts(vcc)), |v| v.eng(3)),
                     if cap.technology == Technology::Electrolytic { ", at least 3 µA" } else { "" },
                     amps(charge_i),
                     share * 100.0,
@@ -659,6 +676,155 @@ fn check_capacitor(stage: &Stage, out: &mut Vec<Finding>) {
     }
 }
 
+/// Largest leakage of an electrolytic: the datasheet maximum `0.01·C·V µA` (aluminium at least
+/// 3 µA; from memory) is given at the **rated** voltage, so `V` is the rating — an upper bound at
+/// any lower working voltage. Without a rating the supply stands in. Zero for every
+/// non-electrolytic dielectric.
+pub fn leakage_estimate(tech: Technology, c: f64, rating: Option<f64>, vcc: f64) -> f64 {
+    if !tech.is_electrolytic() {
+        return 0.0;
+    }
+    let at = rating.filter(|r| *r > 0.0).unwrap_or(vcc);
+    // 0.01·C[µF]·V µA equals 0.01·C[F]·V A.
+    let leak = 0.01 * c * at;
+    if tech == Technology::Electrolytic {
+        leak.max(3e-6)
+    } else {
+        leak
+    }
+}
+
+/// Shortest trigger dip that reliably sets the latch: 1 µs (from memory; data sheets give a
+/// fraction of that, this is a conservative figure for both families).
+pub const MIN_TRIGGER_PULSE: f64 = 1e-6;
+
+/// The network coupling a pair's pace output into the width stage's trigger.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Coupling {
+    /// Series capacitor from the pace output to the trigger, farads.
+    pub capacitor: f64,
+    /// Pull-up from the trigger to the supply, ohms.
+    pub pull_up: f64,
+    /// A clamp diode from the trigger (anode) to the supply (cathode).
+    pub clamp: bool,
+}
+
+/// Capacitor decoupling an undriven control pin, farads: 10 nF (common practice), the same in
+/// the schematic and the netlist.
+pub const CONTROL_DECOUPLING: f64 = 10e-9;
+
+/// The pair's coupling, the same parts in the schematic and the netlist: 1 nF, 10 kΩ and a
+/// small-signal clamp diode (common practice for an edge-triggered one-shot).
+pub const PAIR_COUPLING: Coupling = Coupling {
+    capacitor: 1e-9,
+    pull_up: 10e3,
+    clamp: true,
+};
+
+/// What a coupling does on the pace output's falling edge.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct TriggerDip {
+    /// How long the trigger stays under its threshold, seconds; `None` when it never gets there.
+    pub below: Option<f64>,
+    /// The trigger threshold, volts.
+    pub threshold: f64,
+    /// The lowest the trigger goes, volts.
+    pub lowest: f64,
+    /// How high the trigger would rise on the rising edge without the clamp, volts.
+    pub unclamped_peak: f64,
+}
+
+/// The dip through `k` when the pace output (swinging 0…`voh`) falls, for a trigger threshold
+/// `vtrig` and supply `vcc`: the trigger starts at `vcc − voh` and recovers as
+/// `vcc − voh·e^(−t/RC)`, so it stays below `vtrig` for `RC·ln(voh/(vcc − vtrig))`.
+pub fn trigger_dip(k: &Coupling, vcc: f64, voh: f64, vtrig: f64) -> TriggerDip {
+    let lowest = vcc - voh;
+    let below = (lowest < vtrig && vcc > vtrig)
+        .then(|| k.pull_up * k.capacitor * (voh / (vcc - vtrig)).ln());
+    TriggerDip {
+        below,
+        threshold: vtrig,
+        lowest,
+        unclamped_peak: vcc + voh,
+    }
+}
+
+/// The findings on a pair's trigger coupling for a pulse of `width` seconds.
+fn coupling_findings(dip: &TriggerDip, k: &Coupling, width: f64, vcc: f64) -> Vec<Finding> {
+    let mut out = Vec::new();
+    match dip.below {
+        None => out.push(f((
+            // A Warning: the output-high drop is a typical light-load figure, so the margin
+            // either way is within its spread.
+            Severity::Warning,
+            "trigger-coupling",
+            format!(
+                "with the family's output-high drop the pace output's falling edge pulls the width stage's trigger only down to {}, not below its threshold {}: the one-shot may never fire; use a CMOS timer, which swings closer to the supply",
+                volts(dip.lowest),
+                volts(dip.threshold)
+            ),
+        ))),
+        Some(t) if t >= width => out.push(f((
+            Severity::Error,
+            "trigger-coupling",
+            format!(
+                "the coupling ({} nF, {} kΩ pull-up) holds the trigger low for {}, not shorter than the pulse {}: the pulse is stretched; use a smaller coupling capacitor",
+                k.capacitor * 1e9,
+                k.pull_up / 1e3,
+                Seconds::from_si(t).map_or_else(|| format!("{t} s"), |x| x.eng(3)),
+                Seconds::from_si(width).map_or_else(|| format!("{width} s"), |x| x.eng(3)),
+            ),
+        ))),
+        Some(t) if t < MIN_TRIGGER_PULSE => out.push(f((
+            Severity::Warning,
+            "trigger-pulse-width",
+            format!(
+                "the coupling makes a trigger dip of only {}, under the {} the latch needs to set reliably (from memory); use a larger coupling capacitor",
+                Seconds::from_si(t).map_or_else(|| format!("{t} s"), |x| x.eng(3)),
+                Seconds::from_si(MIN_TRIGGER_PULSE).map_or_else(String::new, |x| x.eng(3)),
+            ),
+        ))),
+        Some(_) => {}
+    }
+    if k.clamp {
+        out.push(f((
+            Severity::Note,
+            "trigger-clamp",
+            format!(
+                "keep the clamp diode from the width stage's trigger to the supply: on each rising edge of the pace output the coupling capacitor would lift the trigger to about {}, above the supply {} (common practice)",
+                volts(dip.unclamped_peak),
+                volts(vcc)
+            ),
+        )));
+    } else {
+        out.push(f((
+            Severity::Warning,
+            "trigger-clamp",
+            format!(
+                "no clamp diode on the width stage's trigger: each rising edge of the pace output lifts it to about {}, above the supply {}; add a small-signal diode from the trigger to the supply",
+                volts(dip.unclamped_peak),
+                volts(vcc)
+            ),
+        )));
+    }
+    out
+}
+
+/// A trigger pulse given for a one-shot that is too short to set the latch.
+fn check_trigger_minimum(trig: Seconds) -> Option<Finding> {
+    (trig.si() < MIN_TRIGGER_PULSE).then(|| {
+        f((
+            Severity::Warning,
+            "trigger-pulse-width",
+            format!(
+                "trigger pulse {} is shorter than the {} the latch needs to set reliably (from memory): the one-shot may miss it",
+                trig.eng(3),
+                Seconds::from_si(MIN_TRIGGER_PULSE).map_or_else(String::new, |x| x.eng(3)),
+            ),
+        ))
+    })
+}
+
 fn prefixed(label: &str, mut v: Vec<Finding>) -> Vec<Finding> {
     for x in &mut v {
         x.message = format!("{label}: {}", x.message);
@@ -722,6 +888,18 @@ pub fn check_pair(pace: &Stage, width: &Stage, family: &Family, limits: &Limits)
                     period.eng(4)
                 ),
             )));
+        }
+        if limits.trigger.is_none() {
+            let vcc = width.conditions.vcc.si();
+            let voh = vcc
+                - pace
+                    .conditions
+                    .output_high_drop
+                    .si()
+                    .max(family.output_high_drop.value);
+            let vtrig = width.conditions.thresholds().map_or(vcc / 3.0, |(_, l)| l);
+            let dip = trigger_dip(&PAIR_COUPLING, vcc, voh, vtrig);
+            out.extend(coupling_findings(&dip, &PAIR_COUPLING, wd, vcc));
         }
         if low.si() >= wd && limits.trigger.is_none() {
             out.push(f((
@@ -1108,5 +1286,106 @@ mod tests {
                 .any(|x| x.code == "discharge-dump")
         };
         assert!(has(&big) && !has(&small));
+    }
+
+    #[test]
+    fn leakage_is_the_datasheet_figure_at_the_rating() {
+        // from memory: at most 0.01·C·V µA at the rated voltage (aluminium at least 3 µA).
+        let al = Technology::Electrolytic;
+        let at = leakage_estimate(al, 100e-6, Some(16.0), 9.0);
+        assert!((at - 16e-6).abs() < 1e-12, "{at}");
+        let none = leakage_estimate(al, 100e-6, None, 9.0);
+        assert!((none - 9e-6).abs() < 1e-12, "{none}");
+        let floor = leakage_estimate(al, 1e-6, Some(50.0), 9.0);
+        assert!((floor - 3e-6).abs() < 1e-12, "{floor}");
+        let ta = leakage_estimate(Technology::Tantalum, 1e-6, Some(50.0), 9.0);
+        assert!((ta - 0.5e-6).abs() < 1e-12, "{ta}");
+        assert_eq!(
+            leakage_estimate(Technology::Film, 1e-6, Some(50.0), 9.0),
+            0.0
+        );
+        // In the check: 100 µF rated 16 V, 120 kΩ at 9 V charges with 25 µA at the threshold.
+        // At the rating the leak is 16 µA (64 %): an Error; the old rule at the supply gave
+        // 9 µA (36 %), a Warning — this fails before the rating was used.
+        let mut s = Stage::monostable(r(120e3), c(100e-6), Conditions::ideal(v(9.0)));
+        s.cap = Some(CapFacts {
+            technology: al,
+            voltage_rating: Some(v(16.0)),
+            tolerance: Tolerance::symmetric_percent(20.0).expect("tol"),
+        });
+        let found = check_stage(&s, &Family::cmos());
+        assert!(
+            codes(&found, Severity::Error).contains(&"leakage"),
+            "{found:?}"
+        );
+    }
+
+    #[test]
+    fn a_trigger_pulse_too_short_for_the_latch_is_flagged() {
+        // from memory: 1 µs is the conservative minimum trigger pulse.
+        let s = Stage::monostable(r(100e3), c(100e-9), Conditions::ideal(v(9.0)));
+        let short = Limits {
+            trigger: Some(Seconds::from_si(0.5e-6).expect("s")),
+            ..Limits::default()
+        };
+        let found = check_stage_with(&s, &Family::bipolar(), &short);
+        assert!(
+            codes(&found, Severity::Warning).contains(&"trigger-pulse-width"),
+            "{found:?}"
+        );
+        let fine = Limits {
+            trigger: Some(Seconds::from_si(5e-6).expect("s")),
+            ..Limits::default()
+        };
+        let found = check_stage_with(&s, &Family::bipolar(), &fine);
+        assert!(!found.iter().any(|f| f.code == "trigger-pulse-width"));
+    }
+
+    #[test]
+    fn the_pair_coupling_dip_and_its_clamp() {
+        // Full swing at 9 V, trigger at 3 V: below for 10 kΩ·1 nF·ln(9/6) = 4.05 µs; without
+        // the clamp the rising edge lifts the trigger to 18 V.
+        let d = trigger_dip(&PAIR_COUPLING, 9.0, 9.0, 3.0);
+        let t = d.below.expect("fires");
+        assert!((t - 10e-6 * 1.5f64.ln()).abs() < 1e-12, "{t}");
+        assert_eq!(d.unclamped_peak, 18.0);
+        // A swing that stops above the trigger level never fires.
+        assert!(
+            trigger_dip(&PAIR_COUPLING, 5.0, 3.3, 5.0 / 3.0)
+                .below
+                .is_none()
+        );
+        let cond = Conditions::ideal(v(9.0));
+        let pace = Stage::astable(r(1e3), r(10e3), c(100e-9), cond);
+        let width = Stage::monostable(r(10e3), c(10e-9), cond);
+        let found = check_pair(&pace, &width, &Family::cmos(), &Limits::default());
+        assert!(
+            codes(&found, Severity::Note).contains(&"trigger-clamp"),
+            "{found:?}"
+        );
+        assert!(!found.iter().any(|f| f.code == "trigger-coupling"));
+        // Bipolar at 5 V: the output high sits 1.7 V down (from memory), the trigger only
+        // reaches 1.7 V against its 1.67 V level.
+        let cond = Conditions::ideal(v(5.0));
+        let pace = Stage::astable(r(1e3), r(10e3), c(100e-9), cond);
+        let width = Stage::monostable(r(10e3), c(10e-9), cond);
+        let found = check_pair(&pace, &width, &Family::bipolar(), &Limits::default());
+        assert!(
+            codes(&found, Severity::Warning).contains(&"trigger-coupling"),
+            "{found:?}"
+        );
+        // A dip that outlasts the pulse: an Error.
+        let k = Coupling {
+            capacitor: 1e-6,
+            clamp: false,
+            ..PAIR_COUPLING
+        };
+        let dip = trigger_dip(&k, 9.0, 9.0, 3.0);
+        let fs = coupling_findings(&dip, &k, 1e-3, 9.0);
+        assert!(
+            codes(&fs, Severity::Error).contains(&"trigger-coupling"),
+            "{fs:?}"
+        );
+        assert!(codes(&fs, Severity::Warning).contains(&"trigger-clamp"));
     }
 }

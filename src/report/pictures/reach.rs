@@ -28,16 +28,6 @@ pub struct Reach {
     range: (f64, f64),
 }
 
-/// Merge overlapping spans (in place order does not matter).
-pub fn merge_spans(spans: Vec<(f64, f64)>) -> Vec<(f64, f64)> {
-    merge(spans)
-}
-
-/// The gaps of `covered` (merged) inside `range`.
-pub fn holes(covered: &[(f64, f64)], range: (f64, f64)) -> Vec<(f64, f64)> {
-    gaps(covered, range)
-}
-
 /// Most lines of purchases under the frame.
 const MAX_NOTES: usize = 6;
 
@@ -299,10 +289,11 @@ mod tests {
 
     #[test]
     fn spans_merge_and_holes_are_the_complement() {
-        let merged = merge_spans(vec![(3.0, 4.0), (1.0, 2.0), (1.5, 2.5)]);
+        // The picture uses solve's merge and gaps (one copy of each).
+        let merged = merge(vec![(3.0, 4.0), (1.0, 2.0), (1.5, 2.5)]);
         assert_eq!(merged, vec![(1.0, 2.5), (3.0, 4.0)]);
         assert_eq!(
-            holes(&merged, (0.5, 5.0)),
+            gaps(&merged, (0.5, 5.0)),
             vec![(0.5, 1.0), (2.5, 3.0), (4.0, 5.0)]
         );
     }

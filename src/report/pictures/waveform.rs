@@ -2,7 +2,8 @@
 //! thresholds drawn and the high and low times labelled.
 
 use crate::report::svg::{Anchor, Frame, Svg, Swatch, legend_rows, text_width};
-use crate::timing::{Conditions, FormError};
+use crate::timing::evaluate::{DiodeModel, Model, SMALL_SIGNAL_DIODE, evaluate};
+use crate::timing::{Conditions, Family, Form, FormError, Stage, Steering};
 use crate::units::Engineering as _;
 use crate::units::{Farads, Ohms, format_sig};
 
@@ -44,35 +45,135 @@ fn tau(r: Ohms, c: Farads) -> f64 {
     r.si() * c.si()
 }
 
+/// The time constant that carries an exponential from `v0` toward `vt` to `vend` in exactly
+/// `duration`; `fallback` when no exponential toward `vt` passes `vend`.
+fn fitted_tau(duration: f64, v0: f64, vt: f64, vend: f64, fallback: f64) -> f64 {
+    let ratio = (vt - v0) / (vt - vend);
+    if ratio.is_finite() && ratio > 1.0 && duration > 0.0 {
+        duration / ratio.ln()
+    } else {
+        fallback
+    }
+}
+
+/// The model the conditions state on their own: the fixed diode drop and output-high drop they
+/// carry, nothing else (what the closed forms assume), with the family they imply.
+fn stated(cond: &Conditions) -> (Family, Model) {
+    let mut family = Family::bipolar();
+    let drop = cond.output_high_drop.si();
+    let output_drop = drop > 0.0 && family.set("output_high_drop", drop).is_ok();
+    let diode = if cond.diode_drop.si() > 0.0 {
+        DiodeModel::Fixed(cond.diode_drop)
+    } else {
+        DiodeModel::Ideal
+    };
+    (
+        family,
+        Model {
+            diode,
+            output_drop,
+            ..Model::ideal()
+        },
+    )
+}
+
 impl Waveform {
-    /// A monostable fired twice: capacitor from empty to the upper threshold through R.
-    pub fn monostable(r: Ohms, c: Farads, cond: &Conditions) -> Result<Self, FormError> {
+    /// The picture of `stage` with the times of the one evaluator ([`evaluate`] with `family`
+    /// and `model`), so a picture and `check` give the same high and low times. The curves head
+    /// for the model's targets (saturation, diode drop at 1 mA for the small-signal diode, the
+    /// output-high drop) with a time constant fitted to meet the thresholds at those times.
+    pub fn of_stage(stage: &Stage, family: &Family, model: &Model) -> Result<Self, FormError> {
+        let e = evaluate(stage, family, model)?;
+        let cond = &stage.conditions;
         let (vu, vl) = cond.thresholds()?;
         let vcc = cond.vcc.si();
-        let width = tau(r, c) * cond.factors()?.one_shot;
-        let rest = width * 0.6;
-        Ok(Self {
-            title: format!(
-                "Monostable: R = {}, C = {}, Vcc = {}",
-                r.eng(4),
-                c.eng(4),
-                cond.vcc
+        let vsat = if model.saturation {
+            family.discharge_saturation.value.max(0.0)
+        } else {
+            0.0
+        };
+        let voh = if model.output_drop {
+            vcc - family.output_high_drop.value
+        } else {
+            vcc
+        };
+        let vf = match model.diode {
+            DiodeModel::Ideal => 0.0,
+            DiodeModel::Fixed(v) => v.si(),
+            DiodeModel::SmallSignal => SMALL_SIGNAL_DIODE.drop_at(1e-3),
+        };
+        let (r1, c) = (stage.r1, stage.c);
+        let r2 = stage.r2.unwrap_or(Ohms::ZERO);
+        let high = e.high.nominal;
+        let low = e.low.map_or(0.0, |b| b.nominal);
+        let name = |n: &str, r: Ohms| format!("{n} = {}", r.eng(4));
+        let tail = format!("C = {}, Vcc = {}", c.eng(4), cond.vcc);
+        if stage.form == Form::Monostable {
+            let t0 = tau(r1, c);
+            let mut w = Self::monostable_times(vcc, (vu, vl), high, vsat, t0);
+            w.title = format!("Monostable: {}, {tail}", name("R", r1));
+            return Ok(w);
+        }
+        let (title, charge, discharge) = match (stage.form, stage.steering) {
+            (Form::Astable, _) => (
+                format!("Astable: {}, {}, {tail}", name("R1", r1), name("R2", r2)),
+                (vcc, tau(Ohms::from_base(r1.base() + r2.base()), c)),
+                (vsat, tau(r2, c)),
             ),
+            (Form::Steered, Steering::TwoDiode) => (
+                format!(
+                    "Diode-steered astable: {}, {}, {tail}",
+                    name("Ra", r1),
+                    name("Rb", r2)
+                ),
+                (vcc - vf, tau(r1, c)),
+                (vsat + vf, tau(r2, c)),
+            ),
+            (Form::Steered, Steering::OneDiode) => (
+                format!(
+                    "Diode-steered astable (one diode): {}, {}, {tail}",
+                    name("Ra", r1),
+                    name("Rb", r2)
+                ),
+                (vcc - vf, tau(r1, c)),
+                (vsat, tau(r2, c)),
+            ),
+            _ => (
+                format!("Square wave from the output: {}, {tail}", name("R", r1)),
+                (voh, tau(r1, c)),
+                (0.0, tau(r1, c)),
+            ),
+        };
+        let tc = fitted_tau(high, vl, charge.0, vu, charge.1);
+        let td = fitted_tau(low, vu, discharge.0, vl, discharge.1);
+        Self::two_phase(
+            title,
+            vcc,
+            (vu, vl),
+            (high, charge.0, tc),
+            (low, discharge.0, td),
+        )
+    }
+
+    fn monostable_times(vcc: f64, (vu, vl): (f64, f64), width: f64, vsat: f64, t0: f64) -> Self {
+        let tc = fitted_tau(width, vsat, vcc, vu, t0);
+        Self {
+            title: String::new(),
             vcc,
             upper: vu,
             lower: vl,
             cycle: vec![
                 Segment {
                     duration: width,
-                    v0: 0.0,
+                    v0: vsat,
                     vt: vcc,
-                    tau: tau(r, c),
+                    tau: tc,
                     output_high: true,
                 },
                 Segment {
-                    duration: rest,
-                    v0: 0.0,
-                    vt: 0.0,
+                    duration: width * 0.6,
+                    v0: vsat,
+                    vt: vsat,
                     tau: 0.0,
                     output_high: false,
                 },
@@ -80,52 +181,26 @@ impl Waveform {
             cycles: 2,
             spans: vec![(format!("pulse {}", format_sig(width, 3, "s")), 0.0, width)],
             triggered: true,
-        })
+        }
+    }
+
+    /// A monostable fired twice: capacitor from empty to the upper threshold through R (the
+    /// times of [`evaluate`] with the model the conditions state; see [`Waveform::of_stage`]).
+    pub fn monostable(r: Ohms, c: Farads, cond: &Conditions) -> Result<Self, FormError> {
+        let (family, model) = stated(cond);
+        Self::of_stage(&Stage::monostable(r, c, *cond), &family, &model)
     }
 
     /// A classic astable: charge through R1+R2 toward Vcc, discharge through R2 toward 0.
     pub fn astable(r1: Ohms, r2: Ohms, c: Farads, cond: &Conditions) -> Result<Self, FormError> {
-        let (vu, vl) = cond.thresholds()?;
-        let k = cond.factors()?;
-        let tc = tau(Ohms::from_base(r1.base() + r2.base()), c);
-        let td = tau(r2, c);
-        Self::two_phase(
-            format!(
-                "Astable: R1 = {}, R2 = {}, C = {}, Vcc = {}",
-                r1.eng(4),
-                r2.eng(4),
-                c.eng(4),
-                cond.vcc
-            ),
-            cond.vcc.si(),
-            (vu, vl),
-            (tc * k.charge, cond.vcc.si(), tc),
-            (td * k.discharge, 0.0, td),
-        )
+        let (family, model) = stated(cond);
+        Self::of_stage(&Stage::astable(r1, r2, c, *cond), &family, &model)
     }
 
     /// A diode-steered astable: charge through Ra toward Vcc − Vf, discharge through Rb toward Vf.
     pub fn steered(ra: Ohms, rb: Ohms, c: Farads, cond: &Conditions) -> Result<Self, FormError> {
-        let (vu, vl) = cond.thresholds()?;
-        let k = cond.factors()?;
-        let vf = cond.diode_drop.si();
-        Self::two_phase(
-            format!(
-                "Diode-steered astable: Ra = {}, Rb = {}, C = {}, Vcc = {}",
-                ra.eng(4),
-                rb.eng(4),
-                c.eng(4),
-                cond.vcc
-            ),
-            cond.vcc.si(),
-            (vu, vl),
-            (
-                tau(ra, c) * k.steered_charge,
-                cond.vcc.si() - vf,
-                tau(ra, c),
-            ),
-            (tau(rb, c) * k.steered_discharge, vf, tau(rb, c)),
-        )
+        let (family, model) = stated(cond);
+        Self::of_stage(&Stage::steered(ra, rb, c, *cond), &family, &model)
     }
 
     /// A diode-steered astable wired with one diode across Rb: charge through Ra and the diode
@@ -136,45 +211,16 @@ impl Waveform {
         c: Farads,
         cond: &Conditions,
     ) -> Result<Self, FormError> {
-        let (vu, vl) = cond.thresholds()?;
-        let k = cond.factors()?;
-        let vf = cond.diode_drop.si();
-        Self::two_phase(
-            format!(
-                "Diode-steered astable (one diode): Ra = {}, Rb = {}, C = {}, Vcc = {}",
-                ra.eng(4),
-                rb.eng(4),
-                c.eng(4),
-                cond.vcc
-            ),
-            cond.vcc.si(),
-            (vu, vl),
-            (
-                tau(ra, c) * k.steered_charge,
-                cond.vcc.si() - vf,
-                tau(ra, c),
-            ),
-            (tau(rb, c) * k.discharge, 0.0, tau(rb, c)),
-        )
+        let (family, model) = stated(cond);
+        let mut stage = Stage::steered(ra, rb, c, *cond);
+        stage.steering = Steering::OneDiode;
+        Self::of_stage(&stage, &family, &model)
     }
 
     /// An output-driven square wave: one resistor from the output to the capacitor.
     pub fn square(r: Ohms, c: Farads, cond: &Conditions) -> Result<Self, FormError> {
-        let (vu, vl) = cond.thresholds()?;
-        let k = cond.factors()?;
-        let voh = cond.vcc.si() - cond.output_high_drop.si();
-        Self::two_phase(
-            format!(
-                "Square wave from the output: R = {}, C = {}, Vcc = {}",
-                r.eng(4),
-                c.eng(4),
-                cond.vcc
-            ),
-            cond.vcc.si(),
-            (vu, vl),
-            (tau(r, c) * k.square_high, voh, tau(r, c)),
-            (tau(r, c) * k.square_low, 0.0, tau(r, c)),
-        )
+        let (family, model) = stated(cond);
+        Self::of_stage(&Stage::square(r, c, *cond), &family, &model)
     }
 
     fn two_phase(
@@ -402,9 +448,14 @@ mod tests {
         );
         let one = Waveform::steered_bypass(ra, rb, cap, &c).expect("one diode");
         let two = Waveform::steered(ra, rb, cap, &c).expect("two diodes");
-        // Same charge phase; the discharge has no diode, so it heads to 0 V and is shorter.
-        assert_eq!(one.cycle[0], two.cycle[0]);
+        // The discharge has no diode, so it heads to 0 V and is shorter; the charge phase is the
+        // evaluator's (RB shunting the diode), the same times `check` prints.
         assert_eq!(one.cycle[1].vt, 0.0);
+        let mut st = Stage::steered(ra, rb, cap, c);
+        st.steering = Steering::OneDiode;
+        let (fam, model) = stated(&c);
+        let e = evaluate(&st, &fam, &model).expect("evaluate");
+        assert!((one.cycle[0].duration - e.high.nominal).abs() < 1e-15);
         assert!(one.cycle[1].duration < two.cycle[1].duration);
         let d = one.cycle[1];
         assert!((d.at(d.duration) - one.lower).abs() < 1e-9);
@@ -421,5 +472,35 @@ mod tests {
         let seg = w.cycle[0];
         assert!((seg.at(seg.duration) - w.upper).abs() < 1e-9);
         assert!(w.to_svg().contains("pulse 1.1 s"));
+    }
+
+    #[test]
+    fn the_real_model_picture_carries_the_evaluator_times() {
+        // Default real parts: the bipolar family's saturation and output drop, the small-signal
+        // diode. The picture's phases are the evaluator's times, and each curve meets its
+        // threshold at the end of its phase.
+        let (ra, rb, cap) = (
+            Ohms::from_base(10_000_000),
+            Ohms::from_base(4_700_000),
+            Farads::from_base(100_000_000),
+        );
+        let fam = Family::bipolar();
+        for stage in [
+            Stage::steered(ra, rb, cap, cond()),
+            Stage::astable(ra, rb, cap, cond()),
+            Stage::square(ra, cap, cond()),
+            Stage::monostable(ra, cap, cond()),
+        ] {
+            let w = Waveform::of_stage(&stage, &fam, &Model::real()).expect("picture");
+            let e = evaluate(&stage, &fam, &Model::real()).expect("evaluate");
+            assert!((w.cycle[0].duration - e.high.nominal).abs() < 1e-15);
+            let end = w.cycle[0].at(w.cycle[0].duration);
+            assert!((end - w.upper).abs() < 1e-9, "{:?}: {end}", stage.form);
+            if let Some(low) = e.low {
+                assert!((w.cycle[1].duration - low.nominal).abs() < 1e-15);
+                let d = w.cycle[1];
+                assert!((d.at(d.duration) - w.lower).abs() < 1e-9);
+            }
+        }
     }
 }
