@@ -330,6 +330,13 @@ fn check_netlists_round_trip_through_ngspice() {
         ],
         // The bipolar square wave with its output-high drop.
         &["square", "R=4.7k", "C=100n"],
+        // The textbook model exports the textbook circuit (no saturation, ideal diodes, output
+        // to the rail), and a CMOS part its own saturation: the netlist follows the report.
+        &[
+            "steered", "RA=10k", "RB=4.7k", "C=100n", "--vcc", "9", "--ideal",
+        ],
+        &["astable", "R1=1k", "R2=10k", "C=100n", "--ideal"],
+        &["astable", "R1=1k", "R2=10k", "C=100n", "--family", "cmos"],
         &[
             "steered",
             "RA=10k",

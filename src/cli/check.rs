@@ -795,7 +795,13 @@ pub fn run(args: CheckArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resul
     let mut notes = Vec::new();
     let netlist = match &args.netlist {
         Some(path) => {
-            let report = write_netlist(&built, layout_of(args.form), path, &ctx.files())?;
+            let report = write_netlist(
+                &built,
+                layout_of(args.form),
+                (&input.model, &input.family),
+                path,
+                &ctx.files(),
+            )?;
             files.push(FileReport {
                 kind: "netlist",
                 path: report.path.clone(),
@@ -825,6 +831,7 @@ pub fn run(args: CheckArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resul
             .collect();
         let pictures = Pictures {
             dir,
+            physics: (&input.model, &input.family),
             layout: layout_of(args.form),
             target,
             circuits: &circuits,

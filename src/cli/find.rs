@@ -544,7 +544,7 @@ mod files {
             _ => Layout::Dual,
         };
         if let Some(path) = w.netlist {
-            let report = write_netlist(&builts, layout, path, &w.writer)?;
+            let report = write_netlist(&builts, layout, (&s.model, &s.family), path, &w.writer)?;
             written.files.push(FileReport {
                 kind: "netlist",
                 path: report.path.clone(),
@@ -600,6 +600,7 @@ mod files {
         }
         let pictures = Pictures {
             dir,
+            physics: (&s.model, &s.family),
             layout,
             target,
             circuits: &circuits,

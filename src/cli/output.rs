@@ -9,9 +9,10 @@ use crate::report::netlist;
 use crate::report::pictures::{Histogram, Waveform};
 use crate::timing::tolerance::Samples;
 use crate::timing::{
-    CapFacts, Circuit, Form, MonteCarlo, Position, Quantity, Spread, Stage, StageModel, Steering,
-    Target, WorstCase,
+    CapFacts, Circuit, Form, MonteCarlo, Position, Quantity, Spread, Stage, StageModel, Target,
+    WorstCase,
 };
+use crate::timing::{Family, Model};
 use crate::units::{Farads, Ohms, Seconds};
 use anyhow::{Context as _, anyhow, bail};
 use serde::Serialize;
@@ -121,15 +122,19 @@ fn single_measures(form: Form, tag: &str, analysis: usize) -> Vec<MeasureReport>
 
 /// Write the SPICE netlist of `stages` laid out as `layout` to `path` (folders created) through
 /// the one safe writer.
+/// The parts in it are the ones the report's numbers came from: `model` (real or textbook) and
+/// the family's figures.
 pub(super) fn write_netlist(
     stages: &[Built],
     layout: Layout,
+    physics: (&Model, &Family),
     path: &Path,
     writer: &FileWriter,
 ) -> anyhow::Result<NetlistReport> {
+    let parts = netlist::SpiceParts::of(physics.0, physics.1);
     let (text, measures) = match (layout, stages) {
         (Layout::Pair, [a, b]) => (
-            netlist::pair(&stage_net(a), &stage_net(b)),
+            netlist::pair_with(&stage_net(a), &stage_net(b), &parts),
             [
                 (netlist::MEAS_WIDTH, Quantity::High),
                 (netlist::MEAS_LOW, Quantity::Low),
@@ -143,13 +148,13 @@ pub(super) fn write_netlist(
             })
             .collect(),
         ),
-        (Layout::Dual, [a, b]) => (netlist::dual(&stage_net(a), &stage_net(b)), {
+        (Layout::Dual, [a, b]) => (netlist::dual_with(&stage_net(a), &stage_net(b), &parts), {
             let mut m = single_measures(a.model.form, "a", 0);
             m.extend(single_measures(b.model.form, "b", 1));
             m
         }),
         (_, [one]) => (
-            netlist::stage(&stage_net(one)),
+            netlist::stage_with(&stage_net(one), &parts),
             single_measures(one.model.form, "", 0),
         ),
         _ => bail!("unexpected number of stages"),
@@ -165,23 +170,10 @@ pub(super) fn write_netlist(
     })
 }
 
-/// The waveform of one stage at its nominal values and real conditions.
-pub(super) fn waveform_of(b: &Built) -> anyhow::Result<Waveform> {
-    let st = &b.stage;
-    let cond = &st.conditions;
-    let need_r2 = || {
-        st.r2
-            .ok_or_else(|| anyhow!("this form needs a second resistor"))
-    };
-    Ok(match (st.form, st.steering) {
-        (Form::Monostable, _) => Waveform::monostable(st.r1, st.c, cond)?,
-        (Form::Astable, _) => Waveform::astable(st.r1, need_r2()?, st.c, cond)?,
-        (Form::Steered, Steering::TwoDiode) => Waveform::steered(st.r1, need_r2()?, st.c, cond)?,
-        (Form::Steered, Steering::OneDiode) => {
-            Waveform::steered_bypass(st.r1, need_r2()?, st.c, cond)?
-        }
-        (Form::Square, _) => Waveform::square(st.r1, st.c, cond)?,
-    })
+/// The waveform of one stage at its nominal values, with the times the evaluator gives under
+/// `model` (so a picture never disagrees with the report beside it).
+pub(super) fn waveform_of(b: &Built, family: &Family, model: &Model) -> anyhow::Result<Waveform> {
+    Ok(Waveform::of_stage(&b.stage, family, model)?)
 }
 
 /// One analysed circuit: label, description, the circuit, its stages.
@@ -197,6 +189,8 @@ pub(super) struct Pictures<'a> {
     pub(super) target: Option<Target>,
     /// The circuits analysed.
     pub(super) circuits: &'a [CircuitRow<'a>],
+    /// The timing model and family the report's numbers came from.
+    pub(super) physics: (&'a Model, &'a Family),
     /// Per circuit: its worst case and Monte Carlo summary.
     pub(super) analysed: Vec<Analysed<'a>>,
     /// Per circuit: the Monte Carlo samples.
@@ -259,7 +253,8 @@ impl Pictures<'_> {
                 } else {
                     "waveform.svg".to_string()
                 };
-                let w = waveform_of(b).with_context(|| format!("drawing {name}"))?;
+                let w = waveform_of(b, self.physics.1, self.physics.0)
+                    .with_context(|| format!("drawing {name}"))?;
                 self.save(writer, &name, &w.to_svg(), "waveform", files)?;
             }
             let Some(a) = self.analysed.get(i) else {
