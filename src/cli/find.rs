@@ -265,7 +265,11 @@ pub fn run(args: FindArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status>
             p.held = 0;
         }
     }
-    if let Some(reason) = crate::solve::search::guarantee_out_of_reach(&parts, &goal, &settings) {
+    // Said at once, not after the time limit: no part could meet the window, or no network of
+    // the stock comes near the target.
+    if let Some(reason) = crate::solve::search::guarantee_out_of_reach(&parts, &goal, &settings)
+        .or_else(|| crate::solve::search::stock_out_of_reach(&parts, &goal, &settings))
+    {
         if ctx.json {
             writeln!(
                 out,
