@@ -261,16 +261,34 @@ fn main() {
     for _ in 0..RUNS {
         let t0 = Instant::now();
         let mut stmt = conn.prepare_cached(OLD_QUERY).expect("prepare");
-        let n = stmt
+        // Every column read, as `Store::parts` reads them into a part.
+        let rows: Vec<_> = stmt
             .query_map([], |r| {
                 Ok((
-                    r.get::<_, i64>(0)?,
-                    r.get::<_, String>(9)?,
-                    r.get::<_, i64>(13)?,
+                    (
+                        r.get::<_, i64>(0)?,
+                        r.get::<_, String>(1)?,
+                        r.get::<_, i64>(2)?,
+                        r.get::<_, i64>(3)?,
+                        r.get::<_, i64>(4)?,
+                        r.get::<_, String>(5)?,
+                        r.get::<_, Option<i64>>(6)?,
+                    ),
+                    (
+                        r.get::<_, Option<i64>>(7)?,
+                        r.get::<_, String>(8)?,
+                        r.get::<_, String>(9)?,
+                        r.get::<_, i64>(10)?,
+                        r.get::<_, Option<i64>>(11)?,
+                        r.get::<_, String>(12)?,
+                        r.get::<_, i64>(13)?,
+                    ),
                 ))
             })
             .expect("query")
-            .count();
+            .collect::<Result<_, _>>()
+            .expect("rows");
+        let n = rows.len();
         old.push(t0.elapsed().as_secs_f64());
         assert_eq!(n, big_rows);
     }
@@ -283,7 +301,7 @@ fn main() {
         assert_eq!(n, big_rows);
     }
     println!(
-        "  before (subquery per row, SQL sort, reading 3 columns): median {:.1} ms",
+        "  before (subquery per row, SQL sort, every column read): median {:.1} ms",
         median(&old) * 1e3
     );
     println!(
