@@ -595,3 +595,25 @@ fn a_wildly_off_closest_design_is_not_offered() {
         .stdout_has("out of this stock's reach");
     assert!(!r.stdout.contains("Closest from stock"), "{}", r.stdout);
 }
+
+#[test]
+fn a_target_beyond_the_stock_says_why_at_once() {
+    let (b, _) = drawer();
+    let s = crate::util::repo_path("sample-stock/makerspace-cabinet.csv");
+    let s = s.to_str().expect("utf-8 path");
+    // One hour: the cabinet's largest timing capacitors (film and X7R, electrolytics left out)
+    // and 10 MΩ resistors, three in series or parallel, stay far below ln 3 · R · C = 3600 s
+    // (the monostable's closed form, common practice).
+    let j = b
+        .run(&["--json", "find", "pulse", "3600s", "--stock", s])
+        .code(1)
+        .json();
+    assert_eq!(j["complete"], true);
+    assert!(j["designs"].as_array().is_some_and(|d| d.is_empty()));
+    let reason = j["reason"].as_str().expect("reason");
+    assert!(reason.contains("largest R×C"), "{reason}");
+    assert!(reason.contains("out of this stock's reach"), "{reason}");
+    // Inside the reach the search still runs and finds a design.
+    b.run(&["--json", "find", "pulse", "10ms", "--stock", s])
+        .ok();
+}

@@ -480,3 +480,35 @@ fn a_marking_read_off_the_part_carries_its_tolerance() {
         .ok()
         .stdout_has("4.7 kΩ 1%");
 }
+
+#[test]
+fn a_large_import_streams_and_refuses_a_bad_row_near_the_end_whole() {
+    let b = Bench::new();
+    b.run(&["add", "4.7k", "--qty", "5", "--bin", "A1"]).ok();
+    let before = rows(&b);
+    // 20 000 invented rows, one piece each in its own bin; spreadsheet row 19 998 (header =
+    // row 1) has a quantity that is not a number.
+    let mut csv = String::from("value,bin,quantity\n");
+    for i in 0..20_000 {
+        if i + 2 == 19_998 {
+            csv.push_str(&format!("10k,Z{i},lots\n"));
+        } else {
+            csv.push_str(&format!("10k,Z{i},1\n"));
+        }
+    }
+    let path = b.write("large.csv", &csv);
+    let path = path.to_str().expect("utf-8");
+    let r = b.run(&["import", path]).code(2).stderr_has("row 19998");
+    assert!(r.stderr.contains("quantity"), "{}", r.stderr);
+    // Nothing of the file was kept, not even the 19 996 good rows before the bad one.
+    assert_eq!(rows(&b), before);
+    b.run(&["import", "--dry-run", path])
+        .code(2)
+        .stderr_has("row 19998");
+    // Fixed, the whole file goes in, each row in its own bin.
+    let fixed = b.write("fixed.csv", &csv.replace(",lots\n", ",1\n"));
+    b.run(&["import", fixed.to_str().expect("utf-8")])
+        .ok()
+        .stdout_has("20000 new, 0 topped up");
+    assert_eq!(rows(&b).len(), 20_001);
+}

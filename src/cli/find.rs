@@ -266,7 +266,17 @@ pub fn run(args: FindArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status>
             p.held = 0;
         }
     }
-    if let Some(reason) = crate::solve::search::guarantee_out_of_reach(&parts, &goal, &settings) {
+    // Said at once, not after the time limit: no part could meet the window, or no network of
+    // the stock comes near the target (unless --svg asks for the picture of the stock's reach
+    // around the target, which the full search draws).
+    if let Some(reason) = crate::solve::search::guarantee_out_of_reach(&parts, &goal, &settings)
+        .or_else(|| {
+            args.svg
+                .is_none()
+                .then(|| crate::solve::search::stock_out_of_reach(&parts, &goal, &settings))
+                .flatten()
+        })
+    {
         if ctx.json {
             writeln!(
                 out,

@@ -124,6 +124,119 @@ pub fn guarantee_out_of_reach(parts: &[Part], goal: &Goal, s: &Settings) -> Opti
     })
 }
 
+/// How far beyond the stock's bounds a time must lie before [`stock_out_of_reach`] calls it out
+/// of reach: the bounds use the closed-form factors, and the real-part effects (output drop,
+/// saturation, bias currents, DC-bias loss) move a time by far less than this factor of 2.
+const REACH_MARGIN: f64 = 2.0;
+
+/// Why the stock cannot make a stage's time at all, if it cannot: every network of at most
+/// `max_pieces` resistors lies between the smallest pieces in parallel and the largest in series
+/// (capacitors the other way round), so every time lies between the form's factor times the
+/// smallest and the largest R×C. A target more than [`REACH_MARGIN`] beyond either end is out of
+/// reach, and the answer comes at once with the reason instead of a "closest design" far off.
+pub fn stock_out_of_reach(parts: &[Part], goal: &Goal, s: &Settings) -> Option<String> {
+    let Goal::Stages(stages) = goal else {
+        return None;
+    };
+    let k = s.max_pieces.max(1);
+    // The free pieces of a kind, smallest first, one entry per piece (at most k of each end are
+    // needed, so the counts are capped at k).
+    let pieces = |resistive: bool, any_tech: bool| -> Vec<f64> {
+        let mut v: Vec<f64> = Vec::new();
+        for p in parts.iter().filter(|p| p.available() > 0) {
+            let x = match p.value {
+                Value::Resistance(r) if resistive => r.si(),
+                Value::Capacitance(c) if !resistive => {
+                    let tech_ok = any_tech
+                        || s.cap_techs
+                            .as_ref()
+                            .is_none_or(|t| t.contains(&p.technology));
+                    let rating_ok = match (s.min_cap_rating, p.voltage_rating) {
+                        (Some(min), Some(v)) => v.si() >= min,
+                        _ => true,
+                    };
+                    if !(tech_ok && rating_ok) {
+                        continue;
+                    }
+                    c.si()
+                }
+                _ => continue,
+            };
+            if x > 0.0 && x.is_finite() {
+                let n = usize::try_from(p.available()).unwrap_or(k).min(k);
+                v.extend(std::iter::repeat_n(x, n));
+            }
+        }
+        v.sort_by(f64::total_cmp);
+        v
+    };
+    let rs = pieces(true, false);
+    let cs = pieces(false, false);
+    // Every technology: whether the ones left out (electrolytics for timing) would reach.
+    let cs_any = pieces(false, true);
+    if rs.is_empty() || cs.is_empty() {
+        return None;
+    }
+    let sum = |v: &[f64]| v.iter().sum::<f64>();
+    let inv_sum = |v: &[f64]| 1.0 / v.iter().map(|x| 1.0 / x).sum::<f64>();
+    let top = |v: &[f64]| v[v.len().saturating_sub(k)..].to_vec();
+    let bottom = |v: &[f64]| v[..k.min(v.len())].to_vec();
+    let (r_max, c_max) = (sum(&top(&rs)), sum(&top(&cs)));
+    let c_max_any = sum(&top(&cs_any));
+    let (r_min, c_min) = (inv_sum(&bottom(&rs)), inv_sum(&bottom(&cs)));
+    let ohms = |x: f64| crate::units::format_sig(x, 3, "Ω");
+    let farads = |x: f64| crate::units::format_sig(x, 3, "F");
+    let secs = |x: f64| crate::units::format_sig(x, 3, "s");
+    stages.iter().find_map(|g| {
+        let (f, _) = stage_factors(g, s).ok()?;
+        // The time targeted and its factor per R×C; the astable's two resistors each lie in
+        // [r_min, r_max], so its period lies in (2·charge + discharge)·R·C of those bounds.
+        let (what, target, per_rc) = match *g {
+            StageGoal::Pulse { width } => ("a pulse", width, f.one_shot),
+            StageGoal::Astable { period, .. } => ("a period", period, 2.0 * f.charge + f.discharge),
+            StageGoal::Steered { high, low } => (
+                "a period",
+                high + low,
+                f.steered_charge + f.steered_discharge,
+            ),
+            StageGoal::Square { period } => ("a period", period, f.square_high + f.square_low),
+        };
+        let longest = per_rc * r_max * c_max;
+        let shortest = per_rc * r_min * c_min;
+        if target * (1.0 - s.tol) > longest * REACH_MARGIN {
+            Some(format!(
+                "{what} {} is out of this stock's reach: the largest R×C it reaches with at \
+                 most {k} pieces per position is {} × {} (largest pieces in series and in \
+                 parallel), about {} at most; a larger capacitor or resistor, or a counter after \
+                 the timer, is needed{}",
+                secs(target),
+                ohms(r_max),
+                farads(c_max),
+                secs(longest),
+                if target * (1.0 - s.tol) > per_rc * r_max * c_max_any * REACH_MARGIN {
+                    ""
+                } else {
+                    ". The stock's electrolytic capacitors were left out (leaky, wide \
+                     tolerance); allow them with --tech film,c0g,x7r,electrolytic if the timing \
+                     can live with it"
+                }
+            ))
+        } else if target * (1.0 + s.tol) * REACH_MARGIN < shortest {
+            Some(format!(
+                "{what} {} is out of this stock's reach: the smallest R×C it reaches with at \
+                 most {k} pieces per position is {} × {} (smallest pieces in parallel and in \
+                 series), about {} at least; a smaller capacitor or resistor is needed",
+                secs(target),
+                ohms(r_min),
+                farads(c_min),
+                secs(shortest)
+            ))
+        } else {
+            None
+        }
+    })
+}
+
 /// Search the stock for the best designs meeting `goal`.
 pub fn solve(parts: &[Part], goal: &Goal, settings: &Settings) -> Result<Outcome, SolveError> {
     let started = Instant::now();

@@ -70,49 +70,87 @@ fn without_bom(data: &str) -> &str {
 /// cell, so the file is refused instead. Follows the reader's rules: a quote opens a cell only
 /// at its start, `""` inside is a quote, and blank lines are not rows.
 fn unterminated_quote(data: &str) -> Option<(usize, usize)> {
-    let (mut in_quote, mut at_start, mut has_content) = (false, true, false);
-    let (mut line, mut record) = (1usize, 0usize);
-    let mut opened = (0, 0);
-    let mut chars = data.chars().peekable();
-    while let Some(c) = chars.next() {
-        if in_quote {
+    let mut q = QuoteScan::default();
+    data.chars().for_each(|c| q.step(c));
+    q.open()
+}
+
+/// The state of [`unterminated_quote`]'s scan, fed one character at a time (so a file can be
+/// scanned line by line).
+struct QuoteScan {
+    in_quote: bool,
+    /// A `"` inside a quoted cell was just seen: the next character decides (`""` or close).
+    quote_seen: bool,
+    at_start: bool,
+    has_content: bool,
+    line: usize,
+    record: usize,
+    opened: (usize, usize),
+}
+
+impl Default for QuoteScan {
+    fn default() -> Self {
+        QuoteScan {
+            in_quote: false,
+            quote_seen: false,
+            at_start: true,
+            has_content: false,
+            line: 1,
+            record: 0,
+            opened: (0, 0),
+        }
+    }
+}
+
+impl QuoteScan {
+    fn step(&mut self, c: char) {
+        if self.quote_seen {
+            self.quote_seen = false;
+            if c == '"' {
+                // `""`: a quote inside the cell.
+                return;
+            }
+            self.in_quote = false;
+        }
+        if self.in_quote {
             match c {
-                '"' if chars.peek() == Some(&'"') => {
-                    chars.next();
-                }
-                '"' => in_quote = false,
-                '\n' => line += 1,
+                '"' => self.quote_seen = true,
+                '\n' => self.line += 1,
                 _ => {}
             }
-            continue;
+            return;
         }
         match c {
-            '"' if at_start => {
-                in_quote = true;
-                opened = (record, line);
-                at_start = false;
-                has_content = true;
+            '"' if self.at_start => {
+                self.in_quote = true;
+                self.opened = (self.record, self.line);
+                self.at_start = false;
+                self.has_content = true;
             }
             ',' => {
-                at_start = true;
-                has_content = true;
+                self.at_start = true;
+                self.has_content = true;
             }
             '\n' => {
-                line += 1;
-                if has_content {
-                    record += 1;
+                self.line += 1;
+                if self.has_content {
+                    self.record += 1;
                 }
-                has_content = false;
-                at_start = true;
+                self.has_content = false;
+                self.at_start = true;
             }
             '\r' => {}
             _ => {
-                at_start = false;
-                has_content = true;
+                self.at_start = false;
+                self.has_content = true;
             }
         }
     }
-    in_quote.then_some(opened)
+
+    /// Where the open quote began, if one is still open at the end.
+    fn open(&self) -> Option<(usize, usize)> {
+        (self.in_quote && !self.quote_seen).then_some(self.opened)
+    }
 }
 
 /// Make a CSV cell safe to open in a spreadsheet: a leading `'` in front of a formula start
@@ -216,20 +254,94 @@ fn record_from_cells(row: usize, cells: [Option<String>; 11]) -> Record {
 pub fn read_csv(data: &str) -> Result<Vec<Record>, StoreError> {
     let data = without_bom(data);
     if let Some((row, line)) = unterminated_quote(data) {
-        return Err(StoreError::Import(vec![RowError {
-            row,
-            column: None,
-            message: format!(
-                "a quoted cell opens here (line {line} of the file) and is never closed, so \
-                 every row after it would be read into that one cell; close the quote (\") or \
-                 remove it"
-            ),
-        }]));
+        return Err(unterminated_error(row, line));
+    }
+    let mut records = Vec::new();
+    let mut errors = Vec::new();
+    each_csv_record(data.as_bytes(), |r| match r {
+        Ok(rec) => records.push(rec),
+        Err(e) => errors.push(e),
+    })?;
+    if errors.is_empty() {
+        Ok(records)
+    } else {
+        Err(StoreError::Import(errors))
+    }
+}
+
+fn unterminated_error(row: usize, line: usize) -> StoreError {
+    StoreError::Import(vec![RowError {
+        row,
+        column: None,
+        message: format!(
+            "a quoted cell opens here (line {line} of the file) and is never closed, so every \
+             row after it would be read into that one cell; close the quote (\") or remove it"
+        ),
+    }])
+}
+
+/// Check a CSV file without holding it: every line is UTF-8 and no quoted cell is left open
+/// (the checks [`read_csv`] makes on text). One line at a time, so memory stays bounded.
+/// `Ok(())`, or the import error to show; `Err` of I/O for a read failure.
+pub fn check_csv_file(reader: impl std::io::BufRead) -> std::io::Result<Result<(), String>> {
+    let mut reader = reader;
+    let mut q = QuoteScan::default();
+    let mut line = Vec::new();
+    let mut offset = 0usize;
+    let mut first = true;
+    loop {
+        line.clear();
+        let n = reader.read_until(b'\n', &mut line)?;
+        if n == 0 {
+            break;
+        }
+        let mut bytes: &[u8] = &line;
+        if first {
+            bytes = bytes.strip_prefix("\u{feff}".as_bytes()).unwrap_or(bytes);
+            first = false;
+        }
+        match std::str::from_utf8(bytes) {
+            Ok(text) => text.chars().for_each(|c| q.step(c)),
+            Err(e) => {
+                return Ok(Err(format!(
+                    "is not UTF-8 text (byte {} is not valid); save it as UTF-8 CSV or JSON",
+                    offset + (n - bytes.len()) + e.valid_up_to() + 1
+                )));
+            }
+        }
+        offset += n;
+    }
+    Ok(match q.open() {
+        Some((row, line)) => Err(unterminated_error(row, line).to_string()),
+        None => Ok(()),
+    })
+}
+
+/// Read CSV records one at a time from `reader` (a file already checked by
+/// [`check_csv_file`], or text), handing each to `each` with its spreadsheet row number; a
+/// structural problem of one row is handed on as its error. Only a bad header stops the read.
+pub fn each_csv_record(
+    reader: impl std::io::Read,
+    mut each: impl FnMut(Result<Record, RowError>),
+) -> Result<(), StoreError> {
+    let mut reader = std::io::BufReader::new(reader);
+    {
+        use std::io::BufRead as _;
+        let head = reader.fill_buf().map_err(|e| {
+            StoreError::Import(vec![RowError {
+                row: 0,
+                column: None,
+                message: format!("cannot read the header: {e}"),
+            }])
+        })?;
+        if head.starts_with("\u{feff}".as_bytes()) {
+            reader.consume(3);
+        }
     }
     let mut rdr = csv::ReaderBuilder::new()
         .has_headers(true)
         .trim(csv::Trim::All)
-        .from_reader(data.as_bytes());
+        .from_reader(reader);
     let header = rdr
         .headers()
         .map_err(|e| {
@@ -241,15 +353,18 @@ pub fn read_csv(data: &str) -> Result<Vec<Record>, StoreError> {
         })?
         .clone();
     let map = map_header(header.iter()).map_err(StoreError::Import)?;
-    let mut records = Vec::new();
-    let mut errors = Vec::new();
-    for (i, rec) in rdr.records().enumerate() {
+    let mut rec = csv::StringRecord::new();
+    let mut i = 0usize;
+    loop {
         // The spreadsheet's row number: the header is row 1, the first data row row 2.
         let row = i + 2;
-        let rec = match rec {
-            Ok(r) => r,
+        i += 1;
+        match rdr.read_record(&mut rec) {
+            Ok(false) => break,
+            Ok(true) => {}
             Err(e) => {
-                errors.push(RowError {
+                let fatal = !matches!(e.kind(), csv::ErrorKind::UnequalLengths { .. });
+                each(Err(RowError {
                     row,
                     column: None,
                     message: match e.kind() {
@@ -258,10 +373,14 @@ pub fn read_csv(data: &str) -> Result<Vec<Record>, StoreError> {
                         } => format!("has {len} cells, the header has {expected_len}"),
                         _ => e.to_string(),
                     },
-                });
+                }));
+                if fatal {
+                    // An I/O or encoding failure: the reader cannot go on from here.
+                    break;
+                }
                 continue;
             }
-        };
+        }
         let mut cells: [Option<String>; 11] = Default::default();
         for (pos, cell) in rec.iter().enumerate() {
             if let Some(&col) = map.get(pos) {
@@ -271,13 +390,9 @@ pub fn read_csv(data: &str) -> Result<Vec<Record>, StoreError> {
                 }
             }
         }
-        records.push(record_from_cells(row, cells));
+        each(Ok(record_from_cells(row, cells)));
     }
-    if errors.is_empty() {
-        Ok(records)
-    } else {
-        Err(StoreError::Import(errors))
-    }
+    Ok(())
 }
 
 /// Read a JSON array of objects keyed by column name (what `export --format json` writes).

@@ -36,49 +36,59 @@ pub struct ImportReport {
     pub pieces: i64,
 }
 
+/// Resolve one record: its spec and quantity, or every problem with its row and column.
+fn resolve_one(r: &Record) -> Result<(usize, PartSpec, i64), Vec<RowError>> {
+    let spec = r.part.resolve().map_err(|errs| {
+        errs.into_iter()
+            .map(|e| RowError {
+                row: r.row,
+                column: Some(e.field.column().to_string()),
+                message: e.message,
+            })
+            .collect::<Vec<_>>()
+    });
+    let qty = match r.quantity.as_deref() {
+        None => Err("a quantity is required".to_string()),
+        Some(q) => match q.parse::<i64>() {
+            Ok(n) if n > super::MAX_PIECES => Err(format!(
+                "{n} pieces is more than onhand counts in one row (at most {})",
+                super::MAX_PIECES
+            )),
+            Ok(n) if n >= 0 => Ok(n),
+            Ok(n) => Err(format!("the quantity must be 0 or more (got {n})")),
+            Err(_) => Err(format!(
+                "cannot read {} as a whole number of pieces",
+                super::text::excerpt(q)
+            )),
+        },
+    };
+    match (spec, qty) {
+        (Ok(spec), Ok(qty)) => Ok((r.row, spec, qty)),
+        (spec, qty) => {
+            let mut errors = Vec::new();
+            if let Err(errs) = spec {
+                errors.extend(errs);
+            }
+            if let Err(message) = qty {
+                errors.push(RowError {
+                    row: r.row,
+                    column: Some("quantity".into()),
+                    message,
+                });
+            }
+            Err(errors)
+        }
+    }
+}
+
 /// Resolve every record, collecting every problem with its row and column.
 fn resolve(records: &[Record]) -> Result<Vec<(usize, PartSpec, i64)>, StoreError> {
     let mut errors = Vec::new();
     let mut out = Vec::with_capacity(records.len());
     for r in records {
-        let spec = r.part.resolve().map_err(|errs| {
-            errs.into_iter()
-                .map(|e| RowError {
-                    row: r.row,
-                    column: Some(e.field.column().to_string()),
-                    message: e.message,
-                })
-                .collect::<Vec<_>>()
-        });
-        let qty = match r.quantity.as_deref() {
-            None => Err("a quantity is required".to_string()),
-            Some(q) => match q.parse::<i64>() {
-                Ok(n) if n > super::MAX_PIECES => Err(format!(
-                    "{n} pieces is more than onhand counts in one row (at most {})",
-                    super::MAX_PIECES
-                )),
-                Ok(n) if n >= 0 => Ok(n),
-                Ok(n) => Err(format!("the quantity must be 0 or more (got {n})")),
-                Err(_) => Err(format!(
-                    "cannot read {} as a whole number of pieces",
-                    super::text::excerpt(q)
-                )),
-            },
-        };
-        match (spec, qty) {
-            (Ok(spec), Ok(qty)) => out.push((r.row, spec, qty)),
-            (spec, qty) => {
-                if let Err(errs) = spec {
-                    errors.extend(errs);
-                }
-                if let Err(message) = qty {
-                    errors.push(RowError {
-                        row: r.row,
-                        column: Some("quantity".into()),
-                        message,
-                    });
-                }
-            }
+        match resolve_one(r) {
+            Ok(x) => out.push(x),
+            Err(e) => errors.extend(e),
         }
     }
     if errors.is_empty() {
@@ -87,6 +97,9 @@ fn resolve(records: &[Record]) -> Result<Vec<(usize, PartSpec, i64)>, StoreError
         Err(StoreError::Import(errors))
     }
 }
+
+/// How many rows a streamed import goes between two calls of its progress callback.
+pub const PROGRESS_EVERY: usize = 1000;
 
 impl Store {
     /// Import `records` all-or-nothing; `source` names the file in the ledger reasons. With
@@ -112,6 +125,117 @@ impl Store {
             return report;
         }
         self.apply_import(&specs, source, who, false)
+    }
+
+    /// Import records handed over one at a time by `read` (which calls its argument once per
+    /// record, or per row error, in file order), all-or-nothing like [`Store::import`] with
+    /// the same checks and row numbers, without holding the file or its records: each row is
+    /// resolved and written inside one IMMEDIATE transaction as it arrives; after the first
+    /// problem the rest are still checked (every problem is reported) but not written, and the
+    /// transaction is rolled back. `progress` is called with the rows read so far every
+    /// [`PROGRESS_EVERY`] rows. With `dry_run`, the same on a private copy, rolled back.
+    pub fn import_stream(
+        &mut self,
+        read: impl FnOnce(&mut dyn FnMut(Result<Record, RowError>)) -> Result<(), StoreError>,
+        source: &str,
+        who: &str,
+        dry_run: bool,
+        progress: &mut dyn FnMut(usize),
+    ) -> Result<ImportReport, StoreError> {
+        if dry_run {
+            let copy = Scratch::new()?;
+            self.conn
+                .execute("VACUUM INTO ?1", [copy.0.to_string_lossy().as_ref()])?;
+            let mut scratch = Store::open(&copy.0)?;
+            let report = scratch.apply_stream(read, source, who, true, progress);
+            drop(scratch);
+            return report;
+        }
+        self.apply_stream(read, source, who, false, progress)
+    }
+
+    fn apply_stream(
+        &mut self,
+        read: impl FnOnce(&mut dyn FnMut(Result<Record, RowError>)) -> Result<(), StoreError>,
+        source: &str,
+        who: &str,
+        dry_run: bool,
+        progress: &mut dyn FnMut(usize),
+    ) -> Result<ImportReport, StoreError> {
+        let tx = self
+            .conn
+            .transaction_with_behavior(TransactionBehavior::Immediate)?;
+        super::change::begin_change(&tx, None)?;
+        let mut report = ImportReport {
+            dry_run,
+            source: source.to_string(),
+            lines: Vec::new(),
+            created: 0,
+            topped_up: 0,
+            pieces: 0,
+        };
+        let mut errors: Vec<RowError> = Vec::new();
+        let mut sql_error: Option<StoreError> = None;
+        let mut seen = 0usize;
+        read(&mut |rec| {
+            seen += 1;
+            if seen % PROGRESS_EVERY == 0 {
+                progress(seen);
+            }
+            let resolved = match rec {
+                Ok(r) => resolve_one(&r),
+                Err(e) => Err(vec![e]),
+            };
+            let (row, spec, qty) = match resolved {
+                Ok(x) => x,
+                Err(e) => {
+                    errors.extend(e);
+                    return;
+                }
+            };
+            if !errors.is_empty() || sql_error.is_some() {
+                // Already refused: checked, not written.
+                return;
+            }
+            let why = format!("import {source} row {row}");
+            match add_in(&tx, &spec, qty, who, &why) {
+                Ok(change) => {
+                    if change.created {
+                        report.created += 1;
+                    } else {
+                        report.topped_up += 1;
+                    }
+                    report.pieces = report.pieces.saturating_add(qty);
+                    report.lines.push(ImportLine { row, change });
+                }
+                Err(e @ StoreError::Sql(_)) => sql_error = Some(e),
+                Err(other) => errors.push(RowError {
+                    row,
+                    column: None,
+                    message: other.to_string(),
+                }),
+            }
+        })?;
+        if let Some(e) = sql_error {
+            return Err(e);
+        }
+        if !errors.is_empty() {
+            // Dropping the transaction rolls it back: nothing of the file is kept.
+            return Err(StoreError::Import(errors));
+        }
+        if seen == 0 {
+            return Err(StoreError::Import(vec![RowError {
+                row: 0,
+                column: None,
+                message: "the file has no data rows".into(),
+            }]));
+        }
+        if dry_run {
+            tx.rollback()?;
+        } else {
+            tx.commit()?;
+        }
+        Ok(report)
     }
 
     /// Apply resolved rows in one IMMEDIATE transaction; roll it back when `dry_run`.

@@ -37,16 +37,49 @@ pub(crate) const PART_COLUMNS: &str = "id, kind, value, tol_minus_ppb, tol_plus_
      volts_uv, watts_uw, package, bin, quantity, low_stock, note, \
      (SELECT COALESCE(SUM(h.quantity), 0) FROM hold h WHERE h.part_id = part.id) AS held";
 
-/// [`PART_COLUMNS`] with the held count leaving out the holds of the plan in parameter `?1`, so
-/// that a plan sees its own held pieces as available to itself.
-const PART_COLUMNS_FOR_PLAN: &str = "id, kind, value, tol_minus_ppb, tol_plus_ppb, technology, \
-     volts_uv, watts_uw, package, bin, quantity, low_stock, note, \
-     (SELECT COALESCE(SUM(h.quantity), 0) FROM hold h WHERE h.part_id = part.id \
-      AND h.plan IS NOT ?1) AS held";
+/// [`PART_COLUMNS`] for reading many rows at once: the held count comes from [`HELD_JOIN`] (one
+/// aggregate over the holds, joined once) instead of a subquery per row. On a 50 000-row stock
+/// the per-row subquery and SQLite's sort on the computed kind order were most of `find`'s time.
+const JOINED_COLUMNS: &str = "part.id, part.kind, part.value, part.tol_minus_ppb, \
+     part.tol_plus_ppb, part.technology, part.volts_uv, part.watts_uw, part.package, part.bin, \
+     part.quantity, part.low_stock, part.note, COALESCE(h.held, 0) AS held";
+
+/// Every hold summed per part, joined once (with [`JOINED_COLUMNS`]).
+const HELD_JOIN: &str = "LEFT JOIN (SELECT part_id, SUM(quantity) AS held FROM hold \
+     GROUP BY part_id) h ON h.part_id = part.id";
+
+/// [`HELD_JOIN`] leaving out the holds of the plan in parameter `?1`, so that a plan sees its
+/// own held pieces as available to itself.
+const HELD_JOIN_FOR_PLAN: &str = "LEFT JOIN (SELECT part_id, SUM(quantity) AS held FROM hold \
+     WHERE plan IS NOT ?1 GROUP BY part_id) h ON h.part_id = part.id";
 
 /// Stable content order: by kind, then value, tolerance, technology, package, bin.
 pub(crate) const PART_ORDER: &str = "CASE kind WHEN 'resistor' THEN 0 WHEN 'trimmer' THEN 1 \
      WHEN 'capacitor' THEN 2 ELSE 3 END, value, tol_minus_ppb, tol_plus_ppb, technology, package, bin";
+
+/// Put parts in [`PART_ORDER`], in Rust: the same keys compared the same way (SQLite compares
+/// text byte by byte, as `str` does), with the row id last so that equal keys keep one order.
+/// Sorting here is several times faster than SQLite's sorter on the computed kind order.
+pub(crate) fn sort_in_content_order(parts: &mut [Part]) {
+    fn rank(k: Kind) -> u8 {
+        match k {
+            Kind::Resistor => 0,
+            Kind::Trimmer => 1,
+            Kind::Capacitor => 2,
+            _ => 3,
+        }
+    }
+    parts.sort_unstable_by(|a, b| {
+        (rank(a.kind), a.value.base())
+            .cmp(&(rank(b.kind), b.value.base()))
+            .then_with(|| a.tolerance.minus.base().cmp(&b.tolerance.minus.base()))
+            .then_with(|| a.tolerance.plus.base().cmp(&b.tolerance.plus.base()))
+            .then_with(|| a.technology.as_str().cmp(b.technology.as_str()))
+            .then_with(|| a.package.cmp(&b.package))
+            .then_with(|| a.bin.cmp(&b.bin))
+            .then_with(|| a.id.cmp(&b.id))
+    });
+}
 
 /// Map one row (selected with [`PART_COLUMNS`]) to a part.
 pub(crate) fn part_from_row(row: &Row<'_>) -> rusqlite::Result<Result<Part, StoreError>> {
@@ -168,9 +201,8 @@ impl PartFilter {
         }
         if self.available {
             push(
-                "quantity > (SELECT COALESCE(SUM(h.quantity), 0) FROM hold h \
-                 WHERE h.part_id = part.id)"
-                    .into(),
+                // `h` is the summed holds of [`HELD_JOIN`], which every filtered read joins.
+                "quantity > COALESCE(h.held, 0)".into(),
                 None,
             );
         }
@@ -187,8 +219,10 @@ impl Store {
     /// The parts matching `filter`, in stable content order (kind, value, tolerance, …).
     pub fn parts(&self, filter: &PartFilter) -> Result<Vec<Part>, StoreError> {
         let (clause, params) = filter.sql();
-        let sql = format!("SELECT {PART_COLUMNS} FROM part {clause} ORDER BY {PART_ORDER}");
-        query_parts(&self.conn, &sql, &params)
+        let sql = format!("SELECT {JOINED_COLUMNS} FROM part {HELD_JOIN} {clause}");
+        let mut parts = query_parts(&self.conn, &sql, &params)?;
+        sort_in_content_order(&mut parts);
+        Ok(parts)
     }
 
     /// A snapshot of every part with pieces free for a new design: the solver's input. Held
@@ -203,15 +237,16 @@ impl Store {
     /// this plan may use. `None` is the same as [`Store::available_parts`].
     pub fn available_parts_including(&self, plan: Option<&str>) -> Result<Vec<Part>, StoreError> {
         let sql = format!(
-            "SELECT {PART_COLUMNS_FOR_PLAN} FROM part WHERE retired_at IS NULL AND quantity > \
-             (SELECT COALESCE(SUM(h.quantity), 0) FROM hold h WHERE h.part_id = part.id \
-              AND h.plan IS NOT ?1) ORDER BY {PART_ORDER}"
+            "SELECT {JOINED_COLUMNS} FROM part {HELD_JOIN_FOR_PLAN} WHERE retired_at IS NULL \
+             AND part.quantity > COALESCE(h.held, 0)"
         );
-        query_parts(
+        let mut parts = query_parts(
             &self.conn,
             &sql,
             &[plan.map_or(SqlValue::Null, |p| SqlValue::Text(p.to_string()))],
-        )
+        )?;
+        sort_in_content_order(&mut parts);
+        Ok(parts)
     }
 
     /// One part by row id.

@@ -115,6 +115,73 @@ fn read_capped(path: &std::path::Path) -> anyhow::Result<String> {
     })
 }
 
+/// A CSV file imported as a stream: checked line by line first (UTF-8, no quote left open),
+/// then read and written row by row in one transaction, so neither the file nor its records
+/// are held in memory whatever its size. A progress line goes to standard error when it is a
+/// terminal and the import has run for more than a second (never when piped).
+fn import_csv_file(
+    a: &ImportArgs,
+    ctx: &Context,
+    name: &str,
+) -> anyhow::Result<crate::store::ImportReport> {
+    use std::io::IsTerminal as _;
+    let open =
+        || std::fs::File::open(&a.file).with_context(|| format!("reading {}", a.file.display()));
+    // The same size cap as the in-memory path: one line (a runaway cell) is read whole, so the
+    // cap still bounds what a single line can take.
+    if open()?.metadata().is_ok_and(|m| m.len() > MAX_IMPORT_BYTES) {
+        bail!(
+            "{} is larger than {} MB, more than onhand imports at once; split it into smaller \
+             files",
+            a.file.display(),
+            MAX_IMPORT_BYTES / (1024 * 1024)
+        );
+    }
+    let checked = crate::store::check_csv_file(std::io::BufReader::new(open()?))
+        .with_context(|| format!("reading {}", a.file.display()))?;
+    if let Err(why) = checked {
+        // Worded as the in-memory path words it: "FILE is not UTF-8 text …", "importing
+        // FILE: row N: a quoted cell …".
+        if why.starts_with("is not") {
+            bail!("{} {why}", a.file.display());
+        }
+        bail!("importing {}: {why}", a.file.display());
+    }
+    let mut store = if a.dry_run {
+        open_store(ctx)?
+    } else {
+        open_for_writing(ctx)?
+    };
+    let file = open()?;
+    let started = std::time::Instant::now();
+    let terminal = std::io::stderr().is_terminal();
+    let mut shown = false;
+    let mut progress = |rows: usize| {
+        if terminal && started.elapsed() > std::time::Duration::from_secs(1) {
+            eprint!("\rimporting {}: {rows} rows read", a.file.display());
+            shown = true;
+        }
+    };
+    let result = store.import_stream(
+        |each| crate::store::each_csv_record(file, each),
+        name,
+        &ctx.user,
+        a.dry_run,
+        &mut progress,
+    );
+    if shown {
+        eprintln!();
+    }
+    match result {
+        Err(crate::store::StoreError::Import(e))
+            if e.len() == 1 && e[0].row == 0 && e[0].message == "the file has no data rows" =>
+        {
+            bail!("{} has no data rows", a.file.display())
+        }
+        r => r.with_context(|| format!("importing {}", a.file.display())),
+    }
+}
+
 /// At most this many per-row lines are printed; the rest are summarised.
 const SHOWN_LINES: usize = 40;
 
@@ -122,11 +189,6 @@ const SHOWN_LINES: usize = 40;
 pub fn run_import(a: ImportArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Result<Status> {
     // `-` is standard input (CSV unless --format json), as in most tools.
     let stdin = a.file.as_os_str() == "-";
-    let data = if stdin {
-        read_capped_stdin()?
-    } else {
-        read_capped(&a.file)?
-    };
     let format = a.format.unwrap_or_else(|| {
         let is_json = a
             .file
@@ -142,24 +204,33 @@ pub fn run_import(a: ImportArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::
             |n| n.to_string_lossy().into_owned(),
         )
     };
-    let records = match format {
-        Format::Csv => read_csv(&data),
-        Format::Json => read_json(&data),
-    }
-    .with_context(|| format!("importing {}", a.file.display()))?;
-    if records.is_empty() {
-        bail!("{} has no data rows", a.file.display());
-    }
-    // A dry run only reads (the store copies itself under a read lock); a real import checks
-    // the file's consistency before writing.
-    let mut store = if a.dry_run {
-        open_store(ctx)?
+    let report = if !stdin && format == Format::Csv {
+        import_csv_file(&a, ctx, &name)?
     } else {
-        open_for_writing(ctx)?
-    };
-    let report = store
-        .import(&records, &name, &ctx.user, a.dry_run)
+        let data = if stdin {
+            read_capped_stdin()?
+        } else {
+            read_capped(&a.file)?
+        };
+        let records = match format {
+            Format::Csv => read_csv(&data),
+            Format::Json => read_json(&data),
+        }
         .with_context(|| format!("importing {}", a.file.display()))?;
+        if records.is_empty() {
+            bail!("{} has no data rows", a.file.display());
+        }
+        // A dry run only reads (the store copies itself under a read lock); a real import
+        // checks the file's consistency before writing.
+        let mut store = if a.dry_run {
+            open_store(ctx)?
+        } else {
+            open_for_writing(ctx)?
+        };
+        store
+            .import(&records, &name, &ctx.user, a.dry_run)
+            .with_context(|| format!("importing {}", a.file.display()))?
+    };
     if ctx.json {
         crate::cli::json::line(out, &report)?;
         return Ok(Status::Success);
