@@ -1230,3 +1230,102 @@ fn serve_stops_cleanly_on_a_signal_with_no_caution_on_loopback() {
     assert!(status.success(), "{status:?} {rest}");
     assert!(rest.contains("stopped"), "{rest}");
 }
+
+/// One HTTP/1.1 exchange over TLS to `addr`, trusting only `ca_der`; the whole answer.
+async fn https_exchange(
+    addr: std::net::SocketAddr,
+    ca_der: &[u8],
+    request: &str,
+) -> std::io::Result<String> {
+    use tokio::io::{AsyncReadExt as _, AsyncWriteExt as _};
+    let mut roots = rustls::RootCertStore::empty();
+    roots
+        .add(rustls_pki_types::CertificateDer::from(ca_der.to_vec()))
+        .map_err(std::io::Error::other)?;
+    let provider = std::sync::Arc::new(rustls::crypto::ring::default_provider());
+    let config = rustls::ClientConfig::builder_with_provider(provider)
+        .with_safe_default_protocol_versions()
+        .map_err(std::io::Error::other)?
+        .with_root_certificates(roots)
+        .with_no_client_auth();
+    let connector = tokio_rustls::TlsConnector::from(std::sync::Arc::new(config));
+    let tcp = tokio::net::TcpStream::connect(addr).await?;
+    let name =
+        rustls_pki_types::ServerName::try_from("localhost").map_err(std::io::Error::other)?;
+    let mut tls = connector.connect(name, tcp).await?;
+    tls.write_all(request.as_bytes()).await?;
+    let mut answer = Vec::new();
+    let read = tokio::time::timeout(Duration::from_secs(10), tls.read_to_end(&mut answer)).await;
+    match read {
+        Ok(Ok(_)) => {}
+        // Some servers end TLS without close_notify; what arrived is the answer.
+        Ok(Err(e)) if e.kind() == std::io::ErrorKind::UnexpectedEof => {}
+        Ok(Err(e)) => return Err(e),
+        Err(_) => return Err(std::io::Error::other("no answer in 10 s")),
+    }
+    Ok(String::from_utf8_lossy(&answer).into_owned())
+}
+
+#[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+async fn built_in_tls_serves_https_and_marks_the_session_cookie_secure() {
+    // A self-signed certificate made here (rcgen), trusted by this test's client only.
+    let cert = rcgen::generate_simple_self_signed(vec!["localhost".to_string()]).expect("cert");
+    let cert_pem = cert.cert.pem();
+    let key_pem = cert.signing_key.serialize_pem();
+    let config = onhand::web::tls_config(cert_pem.as_bytes(), key_pem.as_bytes()).expect("tls");
+    let dir = tempfile::tempdir().expect("tmp");
+    let db = dir.path().join("stock.db");
+    seed(&db);
+    let pool = Pool::open(db, 2, Duration::from_millis(2000)).expect("pool");
+    // The options do not ask for Secure: serving over TLS must turn it on by itself.
+    let state = AppState::new(pool, Options::default());
+    let listener = std::net::TcpListener::bind("127.0.0.1:0").expect("bind");
+    let addr = listener.local_addr().expect("addr");
+    let (stop, stopped) = tokio::sync::oneshot::channel::<()>();
+    let server = tokio::spawn(onhand::web::serve_tls(listener, config, state, async {
+        let _ = stopped.await;
+    }));
+    let body = serde_json::json!({"name": "alice", "password": PASSWORD}).to_string();
+    let login = format!(
+        "POST /api/login HTTP/1.1\r\nHost: localhost\r\nContent-Type: application/json\r\n\
+         Content-Length: {}\r\nConnection: close\r\n\r\n{body}",
+        body.len()
+    );
+    let answer = https_exchange(addr, cert.cert.der(), &login)
+        .await
+        .expect("https login");
+    assert!(answer.starts_with("HTTP/1.1 200"), "{answer}");
+    let set_cookie = answer
+        .lines()
+        .find(|l| l.to_ascii_lowercase().starts_with("set-cookie:"))
+        .unwrap_or_else(|| panic!("no cookie: {answer}"));
+    assert!(set_cookie.contains("; Secure"), "{set_cookie}");
+    assert!(set_cookie.contains("HttpOnly"), "{set_cookie}");
+    let pair = set_cookie
+        .split_once(':')
+        .map(|(_, v)| v.trim())
+        .and_then(|v| v.split(';').next())
+        .expect("pair")
+        .to_string();
+    // The cookie works over the same HTTPS: the stock page reads the 4k7 row.
+    let page = format!(
+        "GET /?q=4k7 HTTP/1.1\r\nHost: localhost\r\nCookie: {pair}\r\nConnection: close\r\n\r\n"
+    );
+    let answer = https_exchange(addr, cert.cert.der(), &page)
+        .await
+        .expect("https page");
+    assert!(answer.starts_with("HTTP/1.1 200"), "{answer}");
+    assert!(answer.contains("A3"), "the 4k7 row's bin: {answer}");
+    // A client that does not trust this certificate gets no answer at all.
+    let other = rcgen::generate_simple_self_signed(vec!["localhost".to_string()]).expect("cert");
+    assert!(
+        https_exchange(addr, other.cert.der(), &page).await.is_err(),
+        "an untrusted certificate must fail the handshake"
+    );
+    stop.send(()).expect("stop");
+    tokio::time::timeout(Duration::from_secs(10), server)
+        .await
+        .expect("stops")
+        .expect("joined")
+        .expect("served");
+}

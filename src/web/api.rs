@@ -171,7 +171,9 @@ async fn design_run(
     let r = tokio::task::spawn_blocking(move || design::run(&parts, &goal, &settings))
         .await
         .map_err(|e| WebError::Internal(e.to_string()))??;
-    ok(json!({"report": r.report, "kit": r.kit, "result": r.json, "waveform_svg": r.waveform}))
+    ok(
+        json!({"report": r.report, "kit": r.kit, "result": r.json, "waveform_svg": r.waveforms.first(), "waveforms_svg": r.waveforms, "reach_svg": r.reach}),
+    )
 }
 
 #[derive(Debug, Deserialize)]
