@@ -1045,6 +1045,70 @@ async fn design_page_searches_the_live_stock_draws_the_waveform_and_holds_the_ki
     assert!(j.json()["report"].as_str().is_some());
 }
 
+/// A site whose stock is the sample cabinet, and alice's session.
+async fn cabinet_site() -> (Site, Sess) {
+    let site = Site::new(Options::default());
+    {
+        let csv =
+            std::fs::read_to_string(repo_path("sample-stock/makerspace-cabinet.csv")).expect("csv");
+        let mut store = site.store();
+        store
+            .import(&read_csv(&csv).expect("read"), "cabinet", "olga", false)
+            .expect("import");
+    }
+    let s = site.login("alice").await;
+    (site, s)
+}
+
+#[tokio::test]
+async fn design_page_draws_the_reach_beside_the_waveform_and_offers_square_pair_and_dual() {
+    let (site, s) = cabinet_site().await;
+    let a = site
+        .get("/design?form=pulse&width=250ms&tol=3%25", Some(&s))
+        .await;
+    assert_eq!(a.status, StatusCode::OK, "{}", a.body);
+    assert!(a.body.contains(r#"id="waveform""#), "no waveform");
+    assert!(a.body.contains(r#"id="reach""#), "no reach picture");
+    assert!(a.body.contains("Reach of the free stock"), "{}", a.body);
+    // The square form, as `onhand find square` offers it.
+    let sq = site
+        .get("/api/design?form=square&freq=100Hz&tol=5%25", Some(&s))
+        .await;
+    assert_eq!(sq.status, StatusCode::OK, "{}", sq.body);
+    let sq = sq.json();
+    assert_eq!(sq["reach_svg"].as_array().map(Vec::len), Some(1), "{sq}");
+    // The pair: an astable triggering a one-shot, two stages, two waveforms when found; the
+    // steered form has no reach question, the astable and the pulse each have one.
+    let pair = site
+        .get("/design?form=pair&freq=10Hz&width=20ms&tol=5%25", Some(&s))
+        .await;
+    assert_eq!(pair.status, StatusCode::OK, "{}", pair.body);
+    assert!(pair.body.contains(r#"id="reach-2""#), "{}", pair.body);
+    // A dual package, stages in `find dual`'s own words.
+    let dual = site
+        .get(
+            "/api/design?form=dual&first=pulse:250ms&second=steered:1ms:200us&tol=5%25",
+            Some(&s),
+        )
+        .await;
+    assert_eq!(dual.status, StatusCode::OK, "{}", dual.body);
+    let dual = dual.json();
+    assert_eq!(
+        dual["reach_svg"].as_array().map(Vec::len),
+        Some(1),
+        "{dual}"
+    );
+    // Bad input: a pulse as long as the period, a stage in no known form, a missing stage.
+    for bad in [
+        "/design?form=pair&freq=10Hz&width=100ms",
+        "/design?form=dual&first=pulse:250ms&second=wobble:3Hz",
+        "/design?form=dual&first=pulse:250ms",
+    ] {
+        let r = site.get(bad, Some(&s)).await;
+        assert_eq!(r.status, StatusCode::BAD_REQUEST, "{bad}: {}", r.body);
+    }
+}
+
 #[tokio::test]
 async fn organisers_import_with_a_preview_recount_manage_members_and_filter_the_log() {
     let site = Site::new(Options::default());
