@@ -570,10 +570,12 @@ async fn take_put_back_and_hold_through_pages_write_the_member_in_the_ledger() {
     assert_eq!(site.quantity(site.r4k7), (48, 2));
     let log = site
         .store()
-        .page_log(&onhand::store::PageLogFilter::default())
+        .log(&onhand::store::LogFilter::default())
         .expect("log");
     let mine: Vec<(&str, &str, i64)> = log
         .iter()
+        .rev()
+        .map(|l| &l.entry)
         .filter(|e| e.who == "alice")
         .map(|e| (e.why.as_str(), e.who.as_str(), e.delta + e.held_delta))
         .collect();
@@ -1209,6 +1211,19 @@ async fn organisers_import_with_a_preview_recount_manage_members_and_filter_the_
         site.get("/log?since=yesterday", Some(&o)).await.status,
         StatusCode::BAD_REQUEST
     );
+    // The page reads times as `onhand log` does (one function, `Store::time_bound`): an age
+    // and a local date both work; a future date finds nothing.
+    let recent = site.get("/api/log?who=alice&since=1h", Some(&o)).await;
+    assert_eq!(recent.status, StatusCode::OK, "{}", recent.body);
+    assert_eq!(recent.json()["entries"].as_array().map(Vec::len), Some(1));
+    let future = site
+        .get("/api/log?who=alice&since=2999-01-01", Some(&o))
+        .await
+        .json();
+    assert_eq!(future["entries"].as_array().map(Vec::len), Some(0));
+    // The unit filter (a hold's member) that `store::log` has and the old page log lacked.
+    let none = site.get("/api/log?unit=unit%209", Some(&o)).await.json();
+    assert_eq!(none["entries"].as_array().map(Vec::len), Some(0), "{none}");
 }
 
 #[test]

@@ -330,14 +330,15 @@ async fn a_member_takes_from_a_phone_and_another_sees_the_hold() {
     server.await.expect("server task").expect("server");
     let s = Store::open(&db).expect("open");
     let log = s
-        .page_log(&onhand::store::PageLogFilter {
+        .log(&onhand::store::LogFilter {
             who: Some("alice".into()),
             ..Default::default()
         })
         .expect("log");
     assert_eq!(
         log.iter()
-            .map(|e| (e.delta, e.held_delta))
+            .rev()
+            .map(|e| (e.entry.delta, e.entry.held_delta))
             .collect::<Vec<_>>(),
         vec![(0, 2), (-3, 0)]
     );

@@ -5,7 +5,6 @@
 //! Owns the `member` and `session` tables. Passwords arrive here already hashed (Argon2id PHC
 //! strings made in `web::auth`); session tokens arrive as hashes. No hashing, no HTTP here.
 
-use super::change::LedgerEntry;
 use super::{Change, Store, StoreError};
 use rusqlite::{OptionalExtension, Row, TransactionBehavior, params};
 use serde::Serialize;
@@ -37,25 +36,6 @@ pub struct Session {
     pub csrf: String,
     /// When it stops working, UTC.
     pub expires_at: String,
-}
-
-/// Which ledger entries [`Store::log`] lists. Empty fields match everything.
-#[derive(Debug, Clone, Default, PartialEq, Eq)]
-pub struct PageLogFilter {
-    /// Only changes made by this member (exact).
-    pub who: Option<String>,
-    /// Only changes to this part row.
-    pub part: Option<i64>,
-    /// Only changes to holds of this plan.
-    pub plan: Option<String>,
-    /// Only entries whose reason contains this text (case-insensitive for ASCII).
-    pub why: Option<String>,
-    /// Only entries at or after this UTC time (ISO 8601 prefix, e.g. `2026-12-01`).
-    pub since: Option<String>,
-    /// Only entries before this UTC time (ISO 8601 prefix).
-    pub until: Option<String>,
-    /// At most this many, newest first (None: all).
-    pub limit: Option<usize>,
 }
 
 const MEMBER_COLUMNS: &str = "id, name, organiser, password IS NOT NULL, created_at";
@@ -249,41 +229,6 @@ impl Store {
         }
         self.add_to_row(id, qty, who, why)
     }
-
-    /// Ledger entries across the whole store matching `filter`, newest first.
-    pub fn page_log(&self, filter: &PageLogFilter) -> Result<Vec<LedgerEntry>, StoreError> {
-        let why = filter.why.as_ref().map(|t| {
-            let e = t
-                .replace('\\', "\\\\")
-                .replace('%', "\\%")
-                .replace('_', "\\_");
-            format!("%{e}%")
-        });
-        let limit = filter
-            .limit
-            .map_or(-1, |n| i64::try_from(n).unwrap_or(i64::MAX));
-        let mut stmt = self.conn.prepare_cached(&format!(
-            "SELECT {} FROM ledger \
-             WHERE (?1 IS NULL OR who = ?1) AND (?2 IS NULL OR part_id = ?2) \
-             AND (?3 IS NULL OR plan = ?3) AND (?4 IS NULL OR why LIKE ?4 ESCAPE '\\') \
-             AND (?5 IS NULL OR at >= ?5) AND (?6 IS NULL OR at < ?6) \
-             ORDER BY id DESC LIMIT ?7",
-            super::change::ENTRY_COLUMNS
-        ))?;
-        let rows = stmt.query_map(
-            params![
-                filter.who,
-                filter.part,
-                filter.plan,
-                why,
-                filter.since,
-                filter.until,
-                limit
-            ],
-            super::change::entry_from_row,
-        )?;
-        Ok(rows.collect::<Result<_, _>>()?)
-    }
 }
 
 fn member_in(conn: &rusqlite::Connection, name: &str) -> Result<Option<Member>, StoreError> {
@@ -339,7 +284,7 @@ mod tests {
     }
 
     #[test]
-    fn put_back_refills_the_same_row_and_log_filters() {
+    fn put_back_refills_the_same_row_as_its_own_ledger_change() {
         let (_d, mut s) = store();
         let spec = PartText {
             value: "4k7".into(),
@@ -354,30 +299,16 @@ mod tests {
         let back = s.put_back(row, 2, "alice", "web: put back").expect("back");
         assert_eq!((back.part.id, back.part.quantity, back.before), (row, 9, 7));
         assert!(s.put_back(row, 0, "alice", "x").is_err());
+        // The page reads these through the one ledger log (`Store::log`).
         let alice = s
-            .page_log(&PageLogFilter {
+            .log(&crate::store::LogFilter {
                 who: Some("alice".into()),
-                ..PageLogFilter::default()
+                ..Default::default()
             })
             .expect("log");
         assert_eq!(
-            alice.iter().map(|e| e.delta).collect::<Vec<_>>(),
-            vec![2, -3]
+            alice.iter().map(|e| e.entry.delta).collect::<Vec<_>>(),
+            vec![-3, 2]
         );
-        let takes = s
-            .page_log(&PageLogFilter {
-                why: Some("TAKE".into()),
-                limit: Some(5),
-                ..PageLogFilter::default()
-            })
-            .expect("log");
-        assert_eq!(takes.len(), 1);
-        let none = s
-            .page_log(&PageLogFilter {
-                since: Some("2999".into()),
-                ..PageLogFilter::default()
-            })
-            .expect("log");
-        assert!(none.is_empty());
     }
 }

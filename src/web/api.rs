@@ -3,10 +3,11 @@
 //! (`POST /api/login` answers with it). Errors are `{"error": …, "status": …}` with a 4xx
 //! (503 + `Retry-After` when the database is busy).
 
+use super::calls::LogQuery;
 use super::calls::{self, Settle, StockQuery};
 use super::design::{self, DesignForm};
 use super::error::{ApiError, WebError};
-use super::routes::{LogQuery, check_login, session_cookie};
+use super::routes::{check_login, session_cookie};
 use super::{AppState, Viewer, auth};
 use axum::Json;
 use axum::Router;

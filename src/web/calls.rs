@@ -6,8 +6,8 @@
 use super::error::WebError;
 use super::pool::Pool;
 use crate::store::{
-    Change, Hold, HoldChange, HoldFilter, ImportReport, Kind, LedgerEntry, Member, PageLogFilter,
-    Part, PartFilter, Session, Value, read_csv,
+    Change, Hold, HoldChange, HoldFilter, ImportReport, Kind, LedgerEntry, LogEntry, LogFilter,
+    Member, Part, PartFilter, Session, Value, read_csv,
 };
 use crate::units::{parse_capacitance, parse_resistance};
 use serde::Serialize;
@@ -155,11 +155,17 @@ pub async fn part(pool: &Pool, id: i64) -> Result<PartView, WebError> {
             part: Some(id),
             ..HoldFilter::default()
         })?;
-        let history = s.page_log(&PageLogFilter {
-            part: Some(id),
-            limit: Some(HISTORY),
-            ..PageLogFilter::default()
-        })?;
+        // The one ledger log (`store::log`, as `onhand log` reads it), newest first here.
+        let history = s
+            .log(&LogFilter {
+                parts: vec![id],
+                last: Some(HISTORY),
+                ..LogFilter::default()
+            })?
+            .into_iter()
+            .rev()
+            .map(|l| l.entry)
+            .collect();
         Ok(PartView {
             part,
             holds,
@@ -357,20 +363,43 @@ pub async fn import(
     .await
 }
 
-/// The ledger across the store with filters (organisers).
-pub async fn log(pool: &Pool, filter: PageLogFilter, who: &Member) -> Result<LogView, WebError> {
+/// The ledger across the store with filters (organisers), through the one log function
+/// (`Store::log`, as `onhand log`). `filter.since` and `filter.until` are as typed (a local
+/// date, a date and time, or an age such as `7d`) and are read by `Store::time_bound` here.
+pub async fn log(pool: &Pool, filter: LogFilter, who: &Member) -> Result<LogView, WebError> {
     organiser(who, "read the whole log")?;
+    let typed = (filter.since.clone(), filter.until.clone());
+    let (since, until) = pool
+        .run(move |s| {
+            let since = typed
+                .0
+                .as_deref()
+                .map(|t| s.time_bound(t, false))
+                .transpose()?;
+            let until = typed
+                .1
+                .as_deref()
+                .map(|t| s.time_bound(t, true))
+                .transpose()?;
+            Ok((since, until))
+        })
+        .await
+        .map_err(|e| match e {
+            // A time that cannot be read is bad input (400), not a refusal by the stock.
+            WebError::Store(crate::store::StoreError::Invalid(m)) => WebError::BadInput(m),
+            other => other,
+        })?;
+    let filter = LogFilter {
+        since,
+        until,
+        ..filter
+    };
     pool.run(move |s| {
-        let parts = s.parts(&PartFilter::default())?;
-        let entries = s.page_log(&filter)?;
+        let mut entries = s.log(&filter)?;
+        entries.reverse();
         let labels = entries
             .iter()
-            .map(|e| {
-                parts.iter().find(|p| p.id == e.part_id).map_or_else(
-                    || format!("#{}", e.part_id),
-                    |p| format!("#{} {}", p.id, p.label()),
-                )
-            })
+            .map(|e| format!("#{} {}", e.entry.part_id, e.part))
             .collect();
         Ok(LogView { entries, labels })
     })
@@ -381,7 +410,7 @@ pub async fn log(pool: &Pool, filter: PageLogFilter, who: &Member) -> Result<Log
 #[derive(Debug, Clone, Serialize)]
 pub struct LogView {
     /// Newest first.
-    pub entries: Vec<LedgerEntry>,
+    pub entries: Vec<LogEntry>,
     /// `#3 4.7 kΩ 1% metal film` for each entry, same order.
     pub labels: Vec<String>,
 }
@@ -532,5 +561,60 @@ mod tests {
         assert_eq!(not_theirs(&holds, "alice", false), vec!["bob".to_string()]);
         assert!(not_theirs(&holds, "alice", true).is_empty());
         assert!(not_theirs(&holds[..1], "alice", false).is_empty());
+    }
+}
+
+/// The log filter as typed (every field text, so a bad one gets a clear message).
+#[derive(Debug, Default, serde::Deserialize)]
+pub struct LogQuery {
+    /// Who wrote the entry.
+    #[serde(default)]
+    pub who: String,
+    /// A part row, `7` or `#7`.
+    #[serde(default)]
+    pub part: String,
+    /// A plan.
+    #[serde(default)]
+    pub plan: String,
+    /// A unit of a plan (a hold's member, e.g. `unit 3`).
+    #[serde(default)]
+    pub unit: String,
+    /// Text in the reason.
+    #[serde(default)]
+    pub why: String,
+    /// From: a local date, a date and time, or an age (`7d`), as `onhand log --since`.
+    #[serde(default)]
+    pub since: String,
+    /// Before, same forms.
+    #[serde(default)]
+    pub until: String,
+    /// Most entries (the newest).
+    #[serde(default)]
+    pub limit: String,
+}
+
+impl LogQuery {
+    /// The store filter (`store::LogFilter`, times still as typed: `calls::log` reads them);
+    /// at most 500 entries unless a limit is given.
+    pub fn filter(&self) -> Result<LogFilter, WebError> {
+        let text = |s: &str| Some(s.trim().to_string()).filter(|t| !t.is_empty());
+        let part = text(&self.part)
+            .map(|p| super::routes::count(p.trim_start_matches('#'), "part"))
+            .transpose()?;
+        let limit = match text(&self.limit) {
+            Some(l) => usize::try_from(super::routes::count(&l, "limit")?)
+                .map_err(|_| WebError::BadInput("limit must be 0 or more".into()))?,
+            None => 500,
+        };
+        Ok(LogFilter {
+            who: text(&self.who),
+            parts: part.into_iter().collect(),
+            plan: text(&self.plan),
+            member: text(&self.unit),
+            why: text(&self.why),
+            since: text(&self.since),
+            until: text(&self.until),
+            last: Some(limit),
+        })
     }
 }

@@ -5,7 +5,7 @@
 
 use super::calls::{Found, HoldsView, LogView, PartView, StockQuery};
 use super::design::{DesignForm, DesignResult};
-use crate::store::{Hold, ImportReport, Member, PageLogFilter, Part};
+use crate::store::{Hold, ImportReport, Member, Part};
 use maud::{DOCTYPE, Markup, PreEscaped, html};
 
 /// Who is looking, for the navigation and the forms.
@@ -471,20 +471,22 @@ pub fn members(who: Who<'_>, list: &[Member], note: Option<&str>) -> Markup {
 }
 
 /// The log across the store with its filters.
-pub fn log(who: Who<'_>, f: &PageLogFilter, v: &LogView) -> Markup {
-    let opt = |o: &Option<String>| o.clone().unwrap_or_default();
+pub fn log(who: Who<'_>, f: &super::calls::LogQuery, v: &LogView) -> Markup {
+    let entries: Vec<crate::store::LedgerEntry> =
+        v.entries.iter().map(|e| e.entry.clone()).collect();
     let body = html! {
         form.box method="get" action="/log" {
-            input name="who" value=(opt(&f.who)) placeholder="member" size="10" aria-label="member";
-            " " input name="part" value=(f.part.map(|p| p.to_string()).unwrap_or_default()) placeholder="part #" size="5" aria-label="part";
-            " " input name="plan" value=(opt(&f.plan)) placeholder="plan" size="10" aria-label="plan";
-            " " input name="why" value=(opt(&f.why)) placeholder="reason contains" size="12" aria-label="reason";
-            " " input name="since" value=(opt(&f.since)) placeholder="since 2026-12-01" size="12" aria-label="since";
-            " " input name="until" value=(opt(&f.until)) placeholder="before" size="12" aria-label="until";
+            input name="who" value=(f.who) placeholder="member" size="10" aria-label="member";
+            " " input name="part" value=(f.part) placeholder="part #" size="5" aria-label="part";
+            " " input name="plan" value=(f.plan) placeholder="plan" size="10" aria-label="plan";
+            " " input name="unit" value=(f.unit) placeholder="unit" size="8" aria-label="unit";
+            " " input name="why" value=(f.why) placeholder="reason contains" size="12" aria-label="reason";
+            " " input name="since" value=(f.since) placeholder="since 2026-12-01 or 7d" size="14" aria-label="since";
+            " " input name="until" value=(f.until) placeholder="before" size="12" aria-label="until";
             " " button type="submit" { "Filter" }
         }
         p { (v.entries.len()) " entries, newest first." }
-        (history(&v.entries, Some(&v.labels)))
+        (history(&entries, Some(&v.labels)))
     };
     frame("Log", who, None, body)
 }
