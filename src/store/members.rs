@@ -231,6 +231,61 @@ impl Store {
     }
 }
 
+/// What the write guard's trigger raises; [`Store::as_member`] turns it into a typed refusal.
+const RIGHTS_GONE: &str = "onhand: the rights of the writer are gone";
+
+impl Store {
+    /// Run `write` with the rights of member `name` checked inside every write transaction it
+    /// makes: each ledger entry (every stock write appends one in its own transaction) and each
+    /// change to the member table aborts unless `name` is, at that moment and in that
+    /// transaction, still a member (and an organiser when `organiser`). So a member whose
+    /// rights are removed while a request runs cannot still write: the check and the write
+    /// commit together or not at all. Errors with [`StoreError::Invalid`] saying so.
+    pub fn as_member<T>(
+        &mut self,
+        name: &str,
+        organiser: bool,
+        write: impl FnOnce(&mut Store) -> Result<T, StoreError>,
+    ) -> Result<T, StoreError> {
+        self.conn.execute_batch(&format!(
+            "CREATE TEMP TABLE IF NOT EXISTS write_guard (name TEXT NOT NULL, organiser INTEGER NOT NULL);
+             CREATE TEMP TRIGGER IF NOT EXISTS write_guard_ledger BEFORE INSERT ON main.ledger
+             WHEN EXISTS (SELECT 1 FROM temp.write_guard)
+             BEGIN SELECT RAISE(ABORT, '{RIGHTS_GONE}') WHERE NOT EXISTS (
+               SELECT 1 FROM main.member m JOIN temp.write_guard g ON m.name = g.name
+               WHERE m.name = NEW.who AND (m.organiser OR g.organiser = 0)); END;
+             CREATE TEMP TRIGGER IF NOT EXISTS write_guard_member_in BEFORE INSERT ON main.member
+             WHEN EXISTS (SELECT 1 FROM temp.write_guard)
+             BEGIN SELECT RAISE(ABORT, '{RIGHTS_GONE}') WHERE NOT EXISTS (
+               SELECT 1 FROM main.member m JOIN temp.write_guard g ON m.name = g.name
+               WHERE m.organiser); END;
+             CREATE TEMP TRIGGER IF NOT EXISTS write_guard_member_out BEFORE DELETE ON main.member
+             WHEN EXISTS (SELECT 1 FROM temp.write_guard)
+             BEGIN SELECT RAISE(ABORT, '{RIGHTS_GONE}') WHERE NOT EXISTS (
+               SELECT 1 FROM main.member m JOIN temp.write_guard g ON m.name = g.name
+               WHERE m.organiser); END;
+             DELETE FROM temp.write_guard;"
+        ))?;
+        self.conn.execute(
+            "INSERT INTO temp.write_guard (name, organiser) VALUES (?1, ?2)",
+            params![name, organiser],
+        )?;
+        let result = write(self);
+        let cleared = self.conn.execute("DELETE FROM temp.write_guard", []);
+        let result = result.map_err(|e| match &e {
+            StoreError::Sql(rusqlite::Error::SqliteFailure(_, Some(m))) if m == RIGHTS_GONE => {
+                StoreError::Invalid(format!(
+                    "{name} no longer has the rights for this (changed while the request ran); \
+                     nothing was written"
+                ))
+            }
+            _ => e,
+        });
+        cleared?;
+        result
+    }
+}
+
 fn member_in(conn: &rusqlite::Connection, name: &str) -> Result<Option<Member>, StoreError> {
     let sql = format!("SELECT {MEMBER_COLUMNS} FROM member WHERE name = ?1");
     Ok(conn
@@ -269,6 +324,71 @@ mod tests {
         s.remove_member("ALICE").expect("remove");
         assert_eq!(s.session("h1").expect("q"), None);
         assert!(s.members().expect("list").is_empty());
+    }
+
+    #[test]
+    fn writes_under_a_member_guard_fail_once_the_rights_are_gone() {
+        let (d, mut s) = store();
+        // Another connection to the same file: the command line changing rights meanwhile.
+        let other = || Store::open(&d.path().join("s.db")).expect("second connection");
+        s.add_member("olga", true).expect("org");
+        s.add_member("alice", false).expect("member");
+        let spec = PartText {
+            value: "4k7".into(),
+            kind: Some("resistor".into()),
+            bin: Some("A3".into()),
+            ..PartText::default()
+        }
+        .resolve()
+        .expect("spec");
+        let row = s.add(&spec, 10, "olga", "stock").expect("add").part.id;
+        // A member may take; a member is not an organiser.
+        s.as_member("alice", false, |s| s.take(row, 1, "alice", "web: take"))
+            .expect("take");
+        let err = s
+            .as_member("alice", true, |s| {
+                s.recount(row, 3, "alice", "web: recount")
+            })
+            .expect_err("not an organiser");
+        assert!(
+            err.to_string().contains("no longer has the rights"),
+            "{err}"
+        );
+        // The rights go away between the request's start and its write: inside the guarded
+        // call, another connection removes the member, then the write is refused in its own
+        // transaction and nothing changes.
+        let err = s
+            .as_member("alice", false, |s| {
+                other().remove_member("alice")?;
+                s.take(row, 2, "alice", "web: take")
+            })
+            .expect_err("removed");
+        assert!(
+            err.to_string().contains("no longer has the rights"),
+            "{err}"
+        );
+        let part = s
+            .parts(&crate::store::PartFilter::default())
+            .expect("parts")
+            .into_iter()
+            .find(|p| p.id == row)
+            .expect("row");
+        assert_eq!(part.quantity, 9, "only the first take happened");
+        // Organiser-only member changes are guarded too; unguarded calls are as before.
+        let err = s
+            .as_member("olga", false, |s| {
+                other()
+                    .conn
+                    .execute("UPDATE member SET organiser = 0 WHERE name = 'olga'", [])?;
+                s.add_member("zed", false)
+            })
+            .expect_err("no longer organiser");
+        assert!(
+            err.to_string().contains("no longer has the rights"),
+            "{err}"
+        );
+        s.add_member("zed", false)
+            .expect("the command line is not guarded");
     }
 
     #[test]

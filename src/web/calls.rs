@@ -178,22 +178,26 @@ pub async fn part(pool: &Pool, id: i64) -> Result<PartView, WebError> {
 /// Take pieces off the shelf (free pieces only; the store refuses held ones).
 pub async fn take(pool: &Pool, id: i64, qty: i64, who: &Member) -> Result<Change, WebError> {
     let who = who.name.clone();
-    pool.run(move |s| s.take(id, qty, &who, "web: take")).await
+    pool.run(move |s| s.as_member(&who, false, |s| s.take(id, qty, &who, "web: take")))
+        .await
+        .map_err(rights)
 }
 
 /// Put pieces back onto the row they came from.
 pub async fn put_back(pool: &Pool, id: i64, qty: i64, who: &Member) -> Result<Change, WebError> {
     let who = who.name.clone();
-    pool.run(move |s| s.put_back(id, qty, &who, "web: put back"))
+    pool.run(move |s| s.as_member(&who, false, |s| s.put_back(id, qty, &who, "web: put back")))
         .await
+        .map_err(rights)
 }
 
 /// Stock-take of one row (organisers).
 pub async fn recount(pool: &Pool, id: i64, counted: i64, who: &Member) -> Result<Change, WebError> {
     organiser(who, "recount")?;
     let who = who.name.clone();
-    pool.run(move |s| s.recount(id, counted, &who, "web: recount"))
+    pool.run(move |s| s.as_member(&who, true, |s| s.recount(id, counted, &who, "web: recount")))
         .await
+        .map_err(rights)
 }
 
 /// Hold pieces of one part for `plan` (the member's own name when empty).
@@ -210,8 +214,13 @@ pub async fn hold_part(
         plan.trim().to_string()
     };
     let who = who.name.clone();
-    pool.run(move |s| s.hold(&plan, "", &[(id, qty)], &who, "web: hold"))
-        .await
+    pool.run(move |s| {
+        s.as_member(&who, false, |s| {
+            s.hold(&plan, "", &[(id, qty)], &who, "web: hold")
+        })
+    })
+    .await
+    .map_err(rights)
 }
 
 /// Hold a kit: the same pieces for each of `units` units of `plan`, one hold per unit
@@ -238,9 +247,25 @@ pub async fn hold_kit(
             .iter()
             .flat_map(|n| items.iter().map(move |&(id, q)| (n.as_str(), id, q)))
             .collect();
-        s.hold_for_members(&plan, &asks, &who, "web: hold kit")
+        s.as_member(&who, false, |s| {
+            s.hold_for_members(&plan, &asks, &who, "web: hold kit")
+        })
     })
     .await
+    .map_err(rights)
+}
+
+/// A write refused in its own transaction because the member's rights went away meanwhile
+/// (`Store::as_member`) is a 403, like any other missing right.
+fn rights(e: WebError) -> WebError {
+    match e {
+        WebError::Store(crate::store::StoreError::Invalid(m))
+            if m.contains("no longer has the rights") =>
+        {
+            WebError::Forbidden(m)
+        }
+        other => other,
+    }
 }
 
 fn organiser(who: &Member, what: &str) -> Result<(), WebError> {
@@ -295,19 +320,22 @@ pub async fn settle(
             member: member.clone(),
             ..HoldFilter::default()
         })?;
-        let others = not_theirs(&holds, &me, organiser);
-        if !others.is_empty() {
+        // Someone else's holds need an organiser, checked again in the write transaction.
+        let others = not_theirs(&holds, &me, false);
+        let need_organiser = !others.is_empty();
+        if need_organiser && !organiser {
             return Err(crate::store::StoreError::Invalid(format!(
                 "plan {plan:?} also holds pieces for {}; only they or an organiser may settle those",
                 others.join(", ")
             )));
         }
-        match how {
+        s.as_member(&me, need_organiser, |s| match how {
             Settle::Release => s.release(&plan, member.as_deref(), &[], &me, "web: release"),
             Settle::Use => s.use_held(&plan, member.as_deref(), None, &me, "web: use"),
-        }
+        })
     })
     .await
+    .map_err(rights)
     .map_err(|e| match e {
         WebError::Store(crate::store::StoreError::Invalid(m)) if m.contains("only they") => {
             WebError::Forbidden(m)
@@ -358,9 +386,12 @@ pub async fn import(
     let who = who.name.clone();
     pool.run(move |s| {
         let records = read_csv(&csv)?;
-        s.import(&records, "web upload", &who, dry_run)
+        s.as_member(&who, true, |s| {
+            s.import(&records, "web upload", &who, dry_run)
+        })
     })
     .await
+    .map_err(rights)
 }
 
 /// The ledger across the store with filters (organisers), through the one log function
@@ -432,11 +463,13 @@ pub async fn add_member(
     organiser(who, "manage members")?;
     let phc = hash(password).await?;
     let name = name.to_string();
+    let me = who.name.clone();
     pool.run(move |s| {
-        s.add_member(&name, organiser_right)?;
+        s.as_member(&me, true, |s| s.add_member(&name, organiser_right))?;
         s.set_member_password(&name, &phc)
     })
     .await
+    .map_err(rights)
 }
 
 /// Remove a member (organisers; not oneself, so the cabinet keeps an organiser).
@@ -448,7 +481,10 @@ pub async fn remove_member(pool: &Pool, name: &str, who: &Member) -> Result<Memb
         ));
     }
     let name = name.to_string();
-    pool.run(move |s| s.remove_member(&name)).await
+    let me = who.name.clone();
+    pool.run(move |s| s.as_member(&me, true, |s| s.remove_member(&name)))
+        .await
+        .map_err(rights)
 }
 
 async fn hash(password: &str) -> Result<String, WebError> {
