@@ -7,7 +7,7 @@
 //! Targets (issue): p99 below 50 ms for reads and 100 ms for writes on a 2-core machine.
 //! Run: `cargo bench --bench web`.
 
-use onhand::store::{PageLogFilter, PartFilter, PartText, Store};
+use onhand::store::{LogFilter, PartFilter, PartText, Store};
 use onhand::web::{AppState, Options, Pool, auth, serve};
 use std::time::{Duration, Instant};
 
@@ -206,13 +206,13 @@ async fn run() {
     for (k, id) in ids.iter().enumerate() {
         let p = parts.iter().find(|p| p.id == *id).expect("part");
         let ledger = s
-            .page_log(&PageLogFilter {
-                part: Some(*id),
-                ..PageLogFilter::default()
+            .log(&LogFilter {
+                parts: vec![*id],
+                ..LogFilter::default()
             })
             .expect("log");
-        let q: i64 = ledger.iter().map(|e| e.delta).sum();
-        let h: i64 = ledger.iter().map(|e| e.held_delta).sum();
+        let q: i64 = ledger.iter().map(|e| e.entry.delta).sum();
+        let h: i64 = ledger.iter().map(|e| e.entry.held_delta).sum();
         let want_q = stock[k].1 - all.taken[k];
         let ok = p.quantity == q
             && p.held == h

@@ -570,10 +570,12 @@ async fn take_put_back_and_hold_through_pages_write_the_member_in_the_ledger() {
     assert_eq!(site.quantity(site.r4k7), (48, 2));
     let log = site
         .store()
-        .page_log(&onhand::store::PageLogFilter::default())
+        .log(&onhand::store::LogFilter::default())
         .expect("log");
     let mine: Vec<(&str, &str, i64)> = log
         .iter()
+        .rev()
+        .map(|l| &l.entry)
         .filter(|e| e.who == "alice")
         .map(|e| (e.why.as_str(), e.who.as_str(), e.delta + e.held_delta))
         .collect();
@@ -1045,6 +1047,70 @@ async fn design_page_searches_the_live_stock_draws_the_waveform_and_holds_the_ki
     assert!(j.json()["report"].as_str().is_some());
 }
 
+/// A site whose stock is the sample cabinet, and alice's session.
+async fn cabinet_site() -> (Site, Sess) {
+    let site = Site::new(Options::default());
+    {
+        let csv =
+            std::fs::read_to_string(repo_path("sample-stock/makerspace-cabinet.csv")).expect("csv");
+        let mut store = site.store();
+        store
+            .import(&read_csv(&csv).expect("read"), "cabinet", "olga", false)
+            .expect("import");
+    }
+    let s = site.login("alice").await;
+    (site, s)
+}
+
+#[tokio::test]
+async fn design_page_draws_the_reach_beside_the_waveform_and_offers_square_pair_and_dual() {
+    let (site, s) = cabinet_site().await;
+    let a = site
+        .get("/design?form=pulse&width=250ms&tol=3%25", Some(&s))
+        .await;
+    assert_eq!(a.status, StatusCode::OK, "{}", a.body);
+    assert!(a.body.contains(r#"id="waveform""#), "no waveform");
+    assert!(a.body.contains(r#"id="reach""#), "no reach picture");
+    assert!(a.body.contains("Reach of the free stock"), "{}", a.body);
+    // The square form, as `onhand find square` offers it.
+    let sq = site
+        .get("/api/design?form=square&freq=100Hz&tol=5%25", Some(&s))
+        .await;
+    assert_eq!(sq.status, StatusCode::OK, "{}", sq.body);
+    let sq = sq.json();
+    assert_eq!(sq["reach_svg"].as_array().map(Vec::len), Some(1), "{sq}");
+    // The pair: an astable triggering a one-shot, two stages, two waveforms when found; the
+    // steered form has no reach question, the astable and the pulse each have one.
+    let pair = site
+        .get("/design?form=pair&freq=10Hz&width=20ms&tol=5%25", Some(&s))
+        .await;
+    assert_eq!(pair.status, StatusCode::OK, "{}", pair.body);
+    assert!(pair.body.contains(r#"id="reach-2""#), "{}", pair.body);
+    // A dual package, stages in `find dual`'s own words.
+    let dual = site
+        .get(
+            "/api/design?form=dual&first=pulse:250ms&second=steered:1ms:200us&tol=5%25",
+            Some(&s),
+        )
+        .await;
+    assert_eq!(dual.status, StatusCode::OK, "{}", dual.body);
+    let dual = dual.json();
+    assert_eq!(
+        dual["reach_svg"].as_array().map(Vec::len),
+        Some(1),
+        "{dual}"
+    );
+    // Bad input: a pulse as long as the period, a stage in no known form, a missing stage.
+    for bad in [
+        "/design?form=pair&freq=10Hz&width=100ms",
+        "/design?form=dual&first=pulse:250ms&second=wobble:3Hz",
+        "/design?form=dual&first=pulse:250ms",
+    ] {
+        let r = site.get(bad, Some(&s)).await;
+        assert_eq!(r.status, StatusCode::BAD_REQUEST, "{bad}: {}", r.body);
+    }
+}
+
 #[tokio::test]
 async fn organisers_import_with_a_preview_recount_manage_members_and_filter_the_log() {
     let site = Site::new(Options::default());
@@ -1145,6 +1211,19 @@ async fn organisers_import_with_a_preview_recount_manage_members_and_filter_the_
         site.get("/log?since=yesterday", Some(&o)).await.status,
         StatusCode::BAD_REQUEST
     );
+    // The page reads times as `onhand log` does (one function, `Store::time_bound`): an age
+    // and a local date both work; a future date finds nothing.
+    let recent = site.get("/api/log?who=alice&since=1h", Some(&o)).await;
+    assert_eq!(recent.status, StatusCode::OK, "{}", recent.body);
+    assert_eq!(recent.json()["entries"].as_array().map(Vec::len), Some(1));
+    let future = site
+        .get("/api/log?who=alice&since=2999-01-01", Some(&o))
+        .await
+        .json();
+    assert_eq!(future["entries"].as_array().map(Vec::len), Some(0));
+    // The unit filter (a hold's member) that `store::log` has and the old page log lacked.
+    let none = site.get("/api/log?unit=unit%209", Some(&o)).await.json();
+    assert_eq!(none["entries"].as_array().map(Vec::len), Some(0), "{none}");
 }
 
 #[test]
@@ -1229,4 +1308,103 @@ fn serve_stops_cleanly_on_a_signal_with_no_caution_on_loopback() {
     out.read_to_string(&mut rest).expect("rest");
     assert!(status.success(), "{status:?} {rest}");
     assert!(rest.contains("stopped"), "{rest}");
+}
+
+/// One HTTP/1.1 exchange over TLS to `addr`, trusting only `ca_der`; the whole answer.
+async fn https_exchange(
+    addr: std::net::SocketAddr,
+    ca_der: &[u8],
+    request: &str,
+) -> std::io::Result<String> {
+    use tokio::io::{AsyncReadExt as _, AsyncWriteExt as _};
+    let mut roots = rustls::RootCertStore::empty();
+    roots
+        .add(rustls_pki_types::CertificateDer::from(ca_der.to_vec()))
+        .map_err(std::io::Error::other)?;
+    let provider = std::sync::Arc::new(rustls::crypto::ring::default_provider());
+    let config = rustls::ClientConfig::builder_with_provider(provider)
+        .with_safe_default_protocol_versions()
+        .map_err(std::io::Error::other)?
+        .with_root_certificates(roots)
+        .with_no_client_auth();
+    let connector = tokio_rustls::TlsConnector::from(std::sync::Arc::new(config));
+    let tcp = tokio::net::TcpStream::connect(addr).await?;
+    let name =
+        rustls_pki_types::ServerName::try_from("localhost").map_err(std::io::Error::other)?;
+    let mut tls = connector.connect(name, tcp).await?;
+    tls.write_all(request.as_bytes()).await?;
+    let mut answer = Vec::new();
+    let read = tokio::time::timeout(Duration::from_secs(10), tls.read_to_end(&mut answer)).await;
+    match read {
+        Ok(Ok(_)) => {}
+        // Some servers end TLS without close_notify; what arrived is the answer.
+        Ok(Err(e)) if e.kind() == std::io::ErrorKind::UnexpectedEof => {}
+        Ok(Err(e)) => return Err(e),
+        Err(_) => return Err(std::io::Error::other("no answer in 10 s")),
+    }
+    Ok(String::from_utf8_lossy(&answer).into_owned())
+}
+
+#[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+async fn built_in_tls_serves_https_and_marks_the_session_cookie_secure() {
+    // A self-signed certificate made here (rcgen), trusted by this test's client only.
+    let cert = rcgen::generate_simple_self_signed(vec!["localhost".to_string()]).expect("cert");
+    let cert_pem = cert.cert.pem();
+    let key_pem = cert.signing_key.serialize_pem();
+    let config = onhand::web::tls_config(cert_pem.as_bytes(), key_pem.as_bytes()).expect("tls");
+    let dir = tempfile::tempdir().expect("tmp");
+    let db = dir.path().join("stock.db");
+    seed(&db);
+    let pool = Pool::open(db, 2, Duration::from_millis(2000)).expect("pool");
+    // The options do not ask for Secure: serving over TLS must turn it on by itself.
+    let state = AppState::new(pool, Options::default());
+    let listener = std::net::TcpListener::bind("127.0.0.1:0").expect("bind");
+    let addr = listener.local_addr().expect("addr");
+    let (stop, stopped) = tokio::sync::oneshot::channel::<()>();
+    let server = tokio::spawn(onhand::web::serve_tls(listener, config, state, async {
+        let _ = stopped.await;
+    }));
+    let body = serde_json::json!({"name": "alice", "password": PASSWORD}).to_string();
+    let login = format!(
+        "POST /api/login HTTP/1.1\r\nHost: localhost\r\nContent-Type: application/json\r\n\
+         Content-Length: {}\r\nConnection: close\r\n\r\n{body}",
+        body.len()
+    );
+    let answer = https_exchange(addr, cert.cert.der(), &login)
+        .await
+        .expect("https login");
+    assert!(answer.starts_with("HTTP/1.1 200"), "{answer}");
+    let set_cookie = answer
+        .lines()
+        .find(|l| l.to_ascii_lowercase().starts_with("set-cookie:"))
+        .unwrap_or_else(|| panic!("no cookie: {answer}"));
+    assert!(set_cookie.contains("; Secure"), "{set_cookie}");
+    assert!(set_cookie.contains("HttpOnly"), "{set_cookie}");
+    let pair = set_cookie
+        .split_once(':')
+        .map(|(_, v)| v.trim())
+        .and_then(|v| v.split(';').next())
+        .expect("pair")
+        .to_string();
+    // The cookie works over the same HTTPS: the stock page reads the 4k7 row.
+    let page = format!(
+        "GET /?q=4k7 HTTP/1.1\r\nHost: localhost\r\nCookie: {pair}\r\nConnection: close\r\n\r\n"
+    );
+    let answer = https_exchange(addr, cert.cert.der(), &page)
+        .await
+        .expect("https page");
+    assert!(answer.starts_with("HTTP/1.1 200"), "{answer}");
+    assert!(answer.contains("A3"), "the 4k7 row's bin: {answer}");
+    // A client that does not trust this certificate gets no answer at all.
+    let other = rcgen::generate_simple_self_signed(vec!["localhost".to_string()]).expect("cert");
+    assert!(
+        https_exchange(addr, other.cert.der(), &page).await.is_err(),
+        "an untrusted certificate must fail the handshake"
+    );
+    stop.send(()).expect("stop");
+    tokio::time::timeout(Duration::from_secs(10), server)
+        .await
+        .expect("stops")
+        .expect("joined")
+        .expect("served");
 }

@@ -10,7 +10,7 @@ mod care;
 mod check;
 mod context;
 mod demo;
-mod find;
+pub(crate) mod find;
 mod holds;
 mod json;
 mod log;

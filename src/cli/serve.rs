@@ -6,10 +6,11 @@
 
 use super::stock::store_path;
 use super::{Context, Status};
-use crate::web::{AppState, Options, Pool, is_loopback, serve};
+use crate::web::{AppState, Options, Pool, is_loopback, serve, serve_tls, tls_config};
 use anyhow::{Context as _, bail};
 use std::io::Write;
 use std::net::SocketAddr;
+use std::path::PathBuf;
 use std::time::Duration;
 
 const SERVE_EXAMPLES: &str = "\
@@ -17,7 +18,8 @@ Examples:
   onhand member add ada --organiser && onhand member password ada   first an account
   onhand serve                                  http://127.0.0.1:8555 on this machine only
   onhand serve --open-read                      anyone may look; writing needs a login
-  onhand serve --listen 0.0.0.0:8555 --secure-cookies    behind a TLS reverse proxy
+  onhand serve --listen 0.0.0.0:8555 --cert cert.pem --key key.pem   HTTPS itself
+  onhand serve --listen 127.0.0.1:8555 --secure-cookies    behind a TLS reverse proxy
 
 Members log in with the accounts made by `onhand member`; every take, hold and recount
 they make is in the ledger under their name. Stop with Ctrl-C: requests in flight finish.";
@@ -36,6 +38,13 @@ pub struct ServeArgs {
     /// then send it over HTTPS only).
     #[arg(long)]
     secure_cookies: bool,
+    /// Serve HTTPS with this PEM certificate chain (needs --key); the session cookie is then
+    /// marked Secure.
+    #[arg(long, value_name = "FILE", requires = "key")]
+    cert: Option<PathBuf>,
+    /// The PEM private key of --cert.
+    #[arg(long, value_name = "FILE", requires = "cert")]
+    key: Option<PathBuf>,
     /// Most database connections at once (each request's store work runs on one).
     #[arg(long, default_value_t = 4, value_name = "N")]
     connections: usize,
@@ -53,6 +62,17 @@ pub fn run(args: ServeArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resul
         bail!("--session-hours must be 1 to 2160");
     }
     let path = store_path(ctx)?;
+    // Reading the certificate files (never writing them) is the only file work here.
+    let tls = match (&args.cert, &args.key) {
+        (Some(cert), Some(key)) => {
+            let cert_pem = std::fs::read(cert)
+                .with_context(|| format!("reading the certificate {}", cert.display()))?;
+            let key_pem =
+                std::fs::read(key).with_context(|| format!("reading the key {}", key.display()))?;
+            Some(tls_config(&cert_pem, &key_pem).context("setting up TLS")?)
+        }
+        _ => None,
+    };
     let runtime = tokio::runtime::Builder::new_multi_thread()
         .worker_threads(2)
         .max_blocking_threads(args.connections + 8)
@@ -63,36 +83,61 @@ pub fn run(args: ServeArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resul
         .with_context(|| format!("opening the stock database {}", path.display()))?;
     let options = Options {
         open_read: args.open_read,
-        secure_cookies: args.secure_cookies,
+        secure_cookies: args.secure_cookies || tls.is_some(),
         session_seconds: args.session_hours * 3600,
         ..Options::default()
     };
-    let listener = runtime
-        .block_on(tokio::net::TcpListener::bind(args.listen))
+    let listener = std::net::TcpListener::bind(args.listen)
         .with_context(|| format!("listening on {}", args.listen))?;
     let local = listener
         .local_addr()
         .context("reading the listening address")?;
+    let scheme = if tls.is_some() { "https" } else { "http" };
     writeln!(
         out,
-        "onhand: serving {} at http://{local}/ (Ctrl-C to stop)",
+        "onhand: serving {} at {scheme}://{local}/ (Ctrl-C to stop)",
         path.display()
     )?;
     if !is_loopback(&local) {
-        writeln!(
-            out,
-            "caution: {local} is reachable from other machines. Passwords and session cookies \
-             cross the network in clear unless the page sits behind TLS (a reverse proxy with a \
-             certificate, see the README) — then also pass --secure-cookies."
-        )?;
+        writeln!(out, "{}", exposure_caution(&local, tls.is_some()))?;
     }
     out.flush()?;
     let state = AppState::new(pool, options);
-    runtime
-        .block_on(serve(listener, state, stop_signal()))
-        .context("serving")?;
+    match tls {
+        Some(config) => runtime
+            .block_on(serve_tls(listener, config, state, stop_signal()))
+            .context("serving over TLS")?,
+        None => {
+            listener
+                .set_nonblocking(true)
+                .context("preparing the listener")?;
+            let _guard = runtime.enter();
+            let listener =
+                tokio::net::TcpListener::from_std(listener).context("preparing the listener")?;
+            runtime
+                .block_on(serve(listener, state, stop_signal()))
+                .context("serving")?;
+        }
+    }
     writeln!(out, "onhand: stopped; every request in flight was finished")?;
     Ok(Status::Success)
+}
+
+/// The caution for an address other machines can reach: whether TLS is on, and what follows.
+fn exposure_caution(local: &SocketAddr, tls: bool) -> String {
+    if tls {
+        format!(
+            "caution: {local} is reachable from other machines. TLS is on (built in, from \
+             --cert/--key): members must trust that certificate; the session cookie is Secure."
+        )
+    } else {
+        format!(
+            "caution: {local} is reachable from other machines and TLS is off. Passwords and \
+             session cookies cross the network in clear unless the page sits behind TLS: give \
+             --cert FILE --key FILE, or a reverse proxy with a certificate (see the README) and \
+             --secure-cookies."
+        )
+    }
 }
 
 /// Ctrl-C, or SIGTERM on Unix (a service manager stopping us).
@@ -114,4 +159,16 @@ async fn stop_signal() {
     }
     #[cfg(not(unix))]
     ctrl_c.await;
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_caution_says_whether_tls_is_on() {
+        let addr: SocketAddr = "0.0.0.0:8555".parse().expect("addr");
+        assert!(exposure_caution(&addr, true).contains("TLS is on"));
+        assert!(exposure_caution(&addr, false).contains("TLS is off"));
+    }
 }

@@ -5,7 +5,6 @@
 //! Owns the `member` and `session` tables. Passwords arrive here already hashed (Argon2id PHC
 //! strings made in `web::auth`); session tokens arrive as hashes. No hashing, no HTTP here.
 
-use super::change::LedgerEntry;
 use super::{Change, Store, StoreError};
 use rusqlite::{OptionalExtension, Row, TransactionBehavior, params};
 use serde::Serialize;
@@ -37,25 +36,6 @@ pub struct Session {
     pub csrf: String,
     /// When it stops working, UTC.
     pub expires_at: String,
-}
-
-/// Which ledger entries [`Store::log`] lists. Empty fields match everything.
-#[derive(Debug, Clone, Default, PartialEq, Eq)]
-pub struct PageLogFilter {
-    /// Only changes made by this member (exact).
-    pub who: Option<String>,
-    /// Only changes to this part row.
-    pub part: Option<i64>,
-    /// Only changes to holds of this plan.
-    pub plan: Option<String>,
-    /// Only entries whose reason contains this text (case-insensitive for ASCII).
-    pub why: Option<String>,
-    /// Only entries at or after this UTC time (ISO 8601 prefix, e.g. `2026-12-01`).
-    pub since: Option<String>,
-    /// Only entries before this UTC time (ISO 8601 prefix).
-    pub until: Option<String>,
-    /// At most this many, newest first (None: all).
-    pub limit: Option<usize>,
 }
 
 const MEMBER_COLUMNS: &str = "id, name, organiser, password IS NOT NULL, created_at";
@@ -249,40 +229,60 @@ impl Store {
         }
         self.add_to_row(id, qty, who, why)
     }
+}
 
-    /// Ledger entries across the whole store matching `filter`, newest first.
-    pub fn page_log(&self, filter: &PageLogFilter) -> Result<Vec<LedgerEntry>, StoreError> {
-        let why = filter.why.as_ref().map(|t| {
-            let e = t
-                .replace('\\', "\\\\")
-                .replace('%', "\\%")
-                .replace('_', "\\_");
-            format!("%{e}%")
-        });
-        let limit = filter
-            .limit
-            .map_or(-1, |n| i64::try_from(n).unwrap_or(i64::MAX));
-        let mut stmt = self.conn.prepare_cached(&format!(
-            "SELECT {} FROM ledger \
-             WHERE (?1 IS NULL OR who = ?1) AND (?2 IS NULL OR part_id = ?2) \
-             AND (?3 IS NULL OR plan = ?3) AND (?4 IS NULL OR why LIKE ?4 ESCAPE '\\') \
-             AND (?5 IS NULL OR at >= ?5) AND (?6 IS NULL OR at < ?6) \
-             ORDER BY id DESC LIMIT ?7",
-            super::change::ENTRY_COLUMNS
+/// What the write guard's trigger raises; [`Store::as_member`] turns it into a typed refusal.
+const RIGHTS_GONE: &str = "onhand: the rights of the writer are gone";
+
+impl Store {
+    /// Run `write` with the rights of member `name` checked inside every write transaction it
+    /// makes: each ledger entry (every stock write appends one in its own transaction) and each
+    /// change to the member table aborts unless `name` is, at that moment and in that
+    /// transaction, still a member (and an organiser when `organiser`). So a member whose
+    /// rights are removed while a request runs cannot still write: the check and the write
+    /// commit together or not at all. Errors with [`StoreError::Invalid`] saying so.
+    pub fn as_member<T>(
+        &mut self,
+        name: &str,
+        organiser: bool,
+        write: impl FnOnce(&mut Store) -> Result<T, StoreError>,
+    ) -> Result<T, StoreError> {
+        self.conn.execute_batch(&format!(
+            "CREATE TEMP TABLE IF NOT EXISTS write_guard (name TEXT NOT NULL, organiser INTEGER NOT NULL);
+             CREATE TEMP TRIGGER IF NOT EXISTS write_guard_ledger BEFORE INSERT ON main.ledger
+             WHEN EXISTS (SELECT 1 FROM temp.write_guard)
+             BEGIN SELECT RAISE(ABORT, '{RIGHTS_GONE}') WHERE NOT EXISTS (
+               SELECT 1 FROM main.member m JOIN temp.write_guard g ON m.name = g.name
+               WHERE m.name = NEW.who AND (m.organiser OR g.organiser = 0)); END;
+             CREATE TEMP TRIGGER IF NOT EXISTS write_guard_member_in BEFORE INSERT ON main.member
+             WHEN EXISTS (SELECT 1 FROM temp.write_guard)
+             BEGIN SELECT RAISE(ABORT, '{RIGHTS_GONE}') WHERE NOT EXISTS (
+               SELECT 1 FROM main.member m JOIN temp.write_guard g ON m.name = g.name
+               WHERE m.organiser); END;
+             CREATE TEMP TRIGGER IF NOT EXISTS write_guard_member_out BEFORE DELETE ON main.member
+             WHEN EXISTS (SELECT 1 FROM temp.write_guard)
+             BEGIN SELECT RAISE(ABORT, '{RIGHTS_GONE}') WHERE NOT EXISTS (
+               SELECT 1 FROM main.member m JOIN temp.write_guard g ON m.name = g.name
+               WHERE m.organiser); END;
+             DELETE FROM temp.write_guard;"
         ))?;
-        let rows = stmt.query_map(
-            params![
-                filter.who,
-                filter.part,
-                filter.plan,
-                why,
-                filter.since,
-                filter.until,
-                limit
-            ],
-            super::change::entry_from_row,
+        self.conn.execute(
+            "INSERT INTO temp.write_guard (name, organiser) VALUES (?1, ?2)",
+            params![name, organiser],
         )?;
-        Ok(rows.collect::<Result<_, _>>()?)
+        let result = write(self);
+        let cleared = self.conn.execute("DELETE FROM temp.write_guard", []);
+        let result = result.map_err(|e| match &e {
+            StoreError::Sql(rusqlite::Error::SqliteFailure(_, Some(m))) if m == RIGHTS_GONE => {
+                StoreError::Invalid(format!(
+                    "{name} no longer has the rights for this (changed while the request ran); \
+                     nothing was written"
+                ))
+            }
+            _ => e,
+        });
+        cleared?;
+        result
     }
 }
 
@@ -327,6 +327,71 @@ mod tests {
     }
 
     #[test]
+    fn writes_under_a_member_guard_fail_once_the_rights_are_gone() {
+        let (d, mut s) = store();
+        // Another connection to the same file: the command line changing rights meanwhile.
+        let other = || Store::open(&d.path().join("s.db")).expect("second connection");
+        s.add_member("olga", true).expect("org");
+        s.add_member("alice", false).expect("member");
+        let spec = PartText {
+            value: "4k7".into(),
+            kind: Some("resistor".into()),
+            bin: Some("A3".into()),
+            ..PartText::default()
+        }
+        .resolve()
+        .expect("spec");
+        let row = s.add(&spec, 10, "olga", "stock").expect("add").part.id;
+        // A member may take; a member is not an organiser.
+        s.as_member("alice", false, |s| s.take(row, 1, "alice", "web: take"))
+            .expect("take");
+        let err = s
+            .as_member("alice", true, |s| {
+                s.recount(row, 3, "alice", "web: recount")
+            })
+            .expect_err("not an organiser");
+        assert!(
+            err.to_string().contains("no longer has the rights"),
+            "{err}"
+        );
+        // The rights go away between the request's start and its write: inside the guarded
+        // call, another connection removes the member, then the write is refused in its own
+        // transaction and nothing changes.
+        let err = s
+            .as_member("alice", false, |s| {
+                other().remove_member("alice")?;
+                s.take(row, 2, "alice", "web: take")
+            })
+            .expect_err("removed");
+        assert!(
+            err.to_string().contains("no longer has the rights"),
+            "{err}"
+        );
+        let part = s
+            .parts(&crate::store::PartFilter::default())
+            .expect("parts")
+            .into_iter()
+            .find(|p| p.id == row)
+            .expect("row");
+        assert_eq!(part.quantity, 9, "only the first take happened");
+        // Organiser-only member changes are guarded too; unguarded calls are as before.
+        let err = s
+            .as_member("olga", false, |s| {
+                other()
+                    .conn
+                    .execute("UPDATE member SET organiser = 0 WHERE name = 'olga'", [])?;
+                s.add_member("zed", false)
+            })
+            .expect_err("no longer organiser");
+        assert!(
+            err.to_string().contains("no longer has the rights"),
+            "{err}"
+        );
+        s.add_member("zed", false)
+            .expect("the command line is not guarded");
+    }
+
+    #[test]
     fn expired_sessions_do_not_count_and_a_new_password_ends_old_ones() {
         let (_d, mut s) = store();
         let b = s.add_member("bob", true).expect("add");
@@ -339,7 +404,7 @@ mod tests {
     }
 
     #[test]
-    fn put_back_refills_the_same_row_and_log_filters() {
+    fn put_back_refills_the_same_row_as_its_own_ledger_change() {
         let (_d, mut s) = store();
         let spec = PartText {
             value: "4k7".into(),
@@ -354,30 +419,16 @@ mod tests {
         let back = s.put_back(row, 2, "alice", "web: put back").expect("back");
         assert_eq!((back.part.id, back.part.quantity, back.before), (row, 9, 7));
         assert!(s.put_back(row, 0, "alice", "x").is_err());
+        // The page reads these through the one ledger log (`Store::log`).
         let alice = s
-            .page_log(&PageLogFilter {
+            .log(&crate::store::LogFilter {
                 who: Some("alice".into()),
-                ..PageLogFilter::default()
+                ..Default::default()
             })
             .expect("log");
         assert_eq!(
-            alice.iter().map(|e| e.delta).collect::<Vec<_>>(),
-            vec![2, -3]
+            alice.iter().map(|e| e.entry.delta).collect::<Vec<_>>(),
+            vec![-3, 2]
         );
-        let takes = s
-            .page_log(&PageLogFilter {
-                why: Some("TAKE".into()),
-                limit: Some(5),
-                ..PageLogFilter::default()
-            })
-            .expect("log");
-        assert_eq!(takes.len(), 1);
-        let none = s
-            .page_log(&PageLogFilter {
-                since: Some("2999".into()),
-                ..PageLogFilter::default()
-            })
-            .expect("log");
-        assert!(none.is_empty());
     }
 }

@@ -36,7 +36,7 @@ pub use holds::{
 };
 pub use import::{ImportLine, ImportReport, PROGRESS_EVERY};
 pub use log::{LogEntry, LogFilter};
-pub use members::{MAX_MEMBER_NAME, Member, PageLogFilter, Session, clean_member_name};
+pub use members::{MAX_MEMBER_NAME, Member, Session, clean_member_name};
 pub use part::{Kind, Part, Technology, UnknownName, Value};
 pub use query::PartFilter;
 pub use spec::{PartSpec, PartText};

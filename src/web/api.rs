@@ -3,10 +3,11 @@
 //! (`POST /api/login` answers with it). Errors are `{"error": …, "status": …}` with a 4xx
 //! (503 + `Retry-After` when the database is busy).
 
+use super::calls::LogQuery;
 use super::calls::{self, Settle, StockQuery};
 use super::design::{self, DesignForm};
 use super::error::{ApiError, WebError};
-use super::routes::{LogQuery, check_login, session_cookie};
+use super::routes::{check_login, session_cookie};
 use super::{AppState, Viewer, auth};
 use axum::Json;
 use axum::Router;
@@ -171,7 +172,9 @@ async fn design_run(
     let r = tokio::task::spawn_blocking(move || design::run(&parts, &goal, &settings))
         .await
         .map_err(|e| WebError::Internal(e.to_string()))??;
-    ok(json!({"report": r.report, "kit": r.kit, "result": r.json, "waveform_svg": r.waveform}))
+    ok(
+        json!({"report": r.report, "kit": r.kit, "result": r.json, "waveform_svg": r.waveforms.first(), "waveforms_svg": r.waveforms, "reach_svg": r.reach}),
+    )
 }
 
 #[derive(Debug, Deserialize)]

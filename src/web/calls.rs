@@ -6,8 +6,8 @@
 use super::error::WebError;
 use super::pool::Pool;
 use crate::store::{
-    Change, Hold, HoldChange, HoldFilter, ImportReport, Kind, LedgerEntry, Member, PageLogFilter,
-    Part, PartFilter, Session, Value, read_csv,
+    Change, Hold, HoldChange, HoldFilter, ImportReport, Kind, LedgerEntry, LogEntry, LogFilter,
+    Member, Part, PartFilter, Session, Value, read_csv,
 };
 use crate::units::{parse_capacitance, parse_resistance};
 use serde::Serialize;
@@ -155,11 +155,17 @@ pub async fn part(pool: &Pool, id: i64) -> Result<PartView, WebError> {
             part: Some(id),
             ..HoldFilter::default()
         })?;
-        let history = s.page_log(&PageLogFilter {
-            part: Some(id),
-            limit: Some(HISTORY),
-            ..PageLogFilter::default()
-        })?;
+        // The one ledger log (`store::log`, as `onhand log` reads it), newest first here.
+        let history = s
+            .log(&LogFilter {
+                parts: vec![id],
+                last: Some(HISTORY),
+                ..LogFilter::default()
+            })?
+            .into_iter()
+            .rev()
+            .map(|l| l.entry)
+            .collect();
         Ok(PartView {
             part,
             holds,
@@ -172,22 +178,26 @@ pub async fn part(pool: &Pool, id: i64) -> Result<PartView, WebError> {
 /// Take pieces off the shelf (free pieces only; the store refuses held ones).
 pub async fn take(pool: &Pool, id: i64, qty: i64, who: &Member) -> Result<Change, WebError> {
     let who = who.name.clone();
-    pool.run(move |s| s.take(id, qty, &who, "web: take")).await
+    pool.run(move |s| s.as_member(&who, false, |s| s.take(id, qty, &who, "web: take")))
+        .await
+        .map_err(rights)
 }
 
 /// Put pieces back onto the row they came from.
 pub async fn put_back(pool: &Pool, id: i64, qty: i64, who: &Member) -> Result<Change, WebError> {
     let who = who.name.clone();
-    pool.run(move |s| s.put_back(id, qty, &who, "web: put back"))
+    pool.run(move |s| s.as_member(&who, false, |s| s.put_back(id, qty, &who, "web: put back")))
         .await
+        .map_err(rights)
 }
 
 /// Stock-take of one row (organisers).
 pub async fn recount(pool: &Pool, id: i64, counted: i64, who: &Member) -> Result<Change, WebError> {
     organiser(who, "recount")?;
     let who = who.name.clone();
-    pool.run(move |s| s.recount(id, counted, &who, "web: recount"))
+    pool.run(move |s| s.as_member(&who, true, |s| s.recount(id, counted, &who, "web: recount")))
         .await
+        .map_err(rights)
 }
 
 /// Hold pieces of one part for `plan` (the member's own name when empty).
@@ -204,8 +214,13 @@ pub async fn hold_part(
         plan.trim().to_string()
     };
     let who = who.name.clone();
-    pool.run(move |s| s.hold(&plan, "", &[(id, qty)], &who, "web: hold"))
-        .await
+    pool.run(move |s| {
+        s.as_member(&who, false, |s| {
+            s.hold(&plan, "", &[(id, qty)], &who, "web: hold")
+        })
+    })
+    .await
+    .map_err(rights)
 }
 
 /// Hold a kit: the same pieces for each of `units` units of `plan`, one hold per unit
@@ -232,9 +247,25 @@ pub async fn hold_kit(
             .iter()
             .flat_map(|n| items.iter().map(move |&(id, q)| (n.as_str(), id, q)))
             .collect();
-        s.hold_for_members(&plan, &asks, &who, "web: hold kit")
+        s.as_member(&who, false, |s| {
+            s.hold_for_members(&plan, &asks, &who, "web: hold kit")
+        })
     })
     .await
+    .map_err(rights)
+}
+
+/// A write refused in its own transaction because the member's rights went away meanwhile
+/// (`Store::as_member`) is a 403, like any other missing right.
+fn rights(e: WebError) -> WebError {
+    match e {
+        WebError::Store(crate::store::StoreError::Invalid(m))
+            if m.contains("no longer has the rights") =>
+        {
+            WebError::Forbidden(m)
+        }
+        other => other,
+    }
 }
 
 fn organiser(who: &Member, what: &str) -> Result<(), WebError> {
@@ -289,19 +320,22 @@ pub async fn settle(
             member: member.clone(),
             ..HoldFilter::default()
         })?;
-        let others = not_theirs(&holds, &me, organiser);
-        if !others.is_empty() {
+        // Someone else's holds need an organiser, checked again in the write transaction.
+        let others = not_theirs(&holds, &me, false);
+        let need_organiser = !others.is_empty();
+        if need_organiser && !organiser {
             return Err(crate::store::StoreError::Invalid(format!(
                 "plan {plan:?} also holds pieces for {}; only they or an organiser may settle those",
                 others.join(", ")
             )));
         }
-        match how {
+        s.as_member(&me, need_organiser, |s| match how {
             Settle::Release => s.release(&plan, member.as_deref(), &[], &me, "web: release"),
             Settle::Use => s.use_held(&plan, member.as_deref(), None, &me, "web: use"),
-        }
+        })
     })
     .await
+    .map_err(rights)
     .map_err(|e| match e {
         WebError::Store(crate::store::StoreError::Invalid(m)) if m.contains("only they") => {
             WebError::Forbidden(m)
@@ -352,25 +386,51 @@ pub async fn import(
     let who = who.name.clone();
     pool.run(move |s| {
         let records = read_csv(&csv)?;
-        s.import(&records, "web upload", &who, dry_run)
+        s.as_member(&who, true, |s| {
+            s.import(&records, "web upload", &who, dry_run)
+        })
     })
     .await
+    .map_err(rights)
 }
 
-/// The ledger across the store with filters (organisers).
-pub async fn log(pool: &Pool, filter: PageLogFilter, who: &Member) -> Result<LogView, WebError> {
+/// The ledger across the store with filters (organisers), through the one log function
+/// (`Store::log`, as `onhand log`). `filter.since` and `filter.until` are as typed (a local
+/// date, a date and time, or an age such as `7d`) and are read by `Store::time_bound` here.
+pub async fn log(pool: &Pool, filter: LogFilter, who: &Member) -> Result<LogView, WebError> {
     organiser(who, "read the whole log")?;
+    let typed = (filter.since.clone(), filter.until.clone());
+    let (since, until) = pool
+        .run(move |s| {
+            let since = typed
+                .0
+                .as_deref()
+                .map(|t| s.time_bound(t, false))
+                .transpose()?;
+            let until = typed
+                .1
+                .as_deref()
+                .map(|t| s.time_bound(t, true))
+                .transpose()?;
+            Ok((since, until))
+        })
+        .await
+        .map_err(|e| match e {
+            // A time that cannot be read is bad input (400), not a refusal by the stock.
+            WebError::Store(crate::store::StoreError::Invalid(m)) => WebError::BadInput(m),
+            other => other,
+        })?;
+    let filter = LogFilter {
+        since,
+        until,
+        ..filter
+    };
     pool.run(move |s| {
-        let parts = s.parts(&PartFilter::default())?;
-        let entries = s.page_log(&filter)?;
+        let mut entries = s.log(&filter)?;
+        entries.reverse();
         let labels = entries
             .iter()
-            .map(|e| {
-                parts.iter().find(|p| p.id == e.part_id).map_or_else(
-                    || format!("#{}", e.part_id),
-                    |p| format!("#{} {}", p.id, p.label()),
-                )
-            })
+            .map(|e| format!("#{} {}", e.entry.part_id, e.part))
             .collect();
         Ok(LogView { entries, labels })
     })
@@ -381,7 +441,7 @@ pub async fn log(pool: &Pool, filter: PageLogFilter, who: &Member) -> Result<Log
 #[derive(Debug, Clone, Serialize)]
 pub struct LogView {
     /// Newest first.
-    pub entries: Vec<LedgerEntry>,
+    pub entries: Vec<LogEntry>,
     /// `#3 4.7 kΩ 1% metal film` for each entry, same order.
     pub labels: Vec<String>,
 }
@@ -403,11 +463,13 @@ pub async fn add_member(
     organiser(who, "manage members")?;
     let phc = hash(password).await?;
     let name = name.to_string();
+    let me = who.name.clone();
     pool.run(move |s| {
-        s.add_member(&name, organiser_right)?;
+        s.as_member(&me, true, |s| s.add_member(&name, organiser_right))?;
         s.set_member_password(&name, &phc)
     })
     .await
+    .map_err(rights)
 }
 
 /// Remove a member (organisers; not oneself, so the cabinet keeps an organiser).
@@ -419,7 +481,10 @@ pub async fn remove_member(pool: &Pool, name: &str, who: &Member) -> Result<Memb
         ));
     }
     let name = name.to_string();
-    pool.run(move |s| s.remove_member(&name)).await
+    let me = who.name.clone();
+    pool.run(move |s| s.as_member(&me, true, |s| s.remove_member(&name)))
+        .await
+        .map_err(rights)
 }
 
 async fn hash(password: &str) -> Result<String, WebError> {
@@ -532,5 +597,60 @@ mod tests {
         assert_eq!(not_theirs(&holds, "alice", false), vec!["bob".to_string()]);
         assert!(not_theirs(&holds, "alice", true).is_empty());
         assert!(not_theirs(&holds[..1], "alice", false).is_empty());
+    }
+}
+
+/// The log filter as typed (every field text, so a bad one gets a clear message).
+#[derive(Debug, Default, serde::Deserialize)]
+pub struct LogQuery {
+    /// Who wrote the entry.
+    #[serde(default)]
+    pub who: String,
+    /// A part row, `7` or `#7`.
+    #[serde(default)]
+    pub part: String,
+    /// A plan.
+    #[serde(default)]
+    pub plan: String,
+    /// A unit of a plan (a hold's member, e.g. `unit 3`).
+    #[serde(default)]
+    pub unit: String,
+    /// Text in the reason.
+    #[serde(default)]
+    pub why: String,
+    /// From: a local date, a date and time, or an age (`7d`), as `onhand log --since`.
+    #[serde(default)]
+    pub since: String,
+    /// Before, same forms.
+    #[serde(default)]
+    pub until: String,
+    /// Most entries (the newest).
+    #[serde(default)]
+    pub limit: String,
+}
+
+impl LogQuery {
+    /// The store filter (`store::LogFilter`, times still as typed: `calls::log` reads them);
+    /// at most 500 entries unless a limit is given.
+    pub fn filter(&self) -> Result<LogFilter, WebError> {
+        let text = |s: &str| Some(s.trim().to_string()).filter(|t| !t.is_empty());
+        let part = text(&self.part)
+            .map(|p| super::routes::count(p.trim_start_matches('#'), "part"))
+            .transpose()?;
+        let limit = match text(&self.limit) {
+            Some(l) => usize::try_from(super::routes::count(&l, "limit")?)
+                .map_err(|_| WebError::BadInput("limit must be 0 or more".into()))?,
+            None => 500,
+        };
+        Ok(LogFilter {
+            who: text(&self.who),
+            parts: part.into_iter().collect(),
+            plan: text(&self.plan),
+            member: text(&self.unit),
+            why: text(&self.why),
+            since: text(&self.since),
+            until: text(&self.until),
+            last: Some(limit),
+        })
     }
 }

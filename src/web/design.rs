@@ -18,7 +18,8 @@ use std::time::Duration;
 /// The design form as sent. Empty fields take `onhand find`'s defaults.
 #[derive(Debug, Clone, Default, Deserialize, Serialize)]
 pub struct DesignForm {
-    /// `pulse` (one-shot), `astable` or `steered`.
+    /// `pulse` (one-shot), `astable`, `steered`, `square`, `pair` (an astable triggering a
+    /// one-shot: `freq` and `width`) or `dual` (two stages in one 556: `first` and `second`).
     #[serde(default)]
     pub form: String,
     /// Pulse width (one-shot), e.g. `250ms`.
@@ -36,6 +37,13 @@ pub struct DesignForm {
     /// Low time (steered).
     #[serde(default)]
     pub low: String,
+    /// Dual: the first stage as `onhand find dual` reads it (`pulse:250ms`, `astable:2Hz`,
+    /// `square:1kHz`, `steered:1ms:200us`).
+    #[serde(default)]
+    pub first: String,
+    /// Dual: the second stage, same forms.
+    #[serde(default)]
+    pub second: String,
     /// Allowed deviation, default 1 %.
     #[serde(default)]
     pub tol: String,
@@ -52,9 +60,13 @@ pub struct DesignForm {
 pub struct DesignResult {
     /// The ranked report, exactly as `onhand find` prints it.
     pub report: String,
-    /// The best design's waveform (SVG from our own renderer), when one was found.
+    /// The best design's waveform, one per stage (SVG from the renderer the CLI uses).
     #[serde(skip)]
-    pub waveform: Option<String>,
+    pub waveforms: Vec<String>,
+    /// The reach picture of the free stock around each stage's target (the one `onhand reach`
+    /// draws), for the stages that have one (one-shot, astable, square).
+    #[serde(skip)]
+    pub reach: Vec<String>,
     /// The pieces of the best design: (part row id, pieces), for "hold these parts".
     pub kit: Vec<(i64, i64)>,
     /// The answer in the JSON form `onhand find --json` gives.
@@ -123,38 +135,74 @@ pub fn request(f: &DesignForm, time_limit: Duration) -> Result<(Goal, Settings),
     if !vcc.is_positive() {
         return Err(WebError::BadInput("the supply must be above zero".into()));
     }
-    let stage = match or(&f.form, "pulse") {
-        "pulse" => StageGoal::Pulse {
-            width: time("pulse width", &f.width)?,
-        },
-        "astable" => {
-            if f.freq.trim().is_empty() {
-                return Err(WebError::BadInput("give the frequency, e.g. 1kHz".into()));
-            }
-            let hz = parse_frequency(&f.freq)
-                .map_err(|e| bad("frequency", e))?
-                .si();
-            if hz <= 0.0 {
-                return Err(WebError::BadInput(
-                    "the frequency must be above zero".into(),
-                ));
-            }
-            StageGoal::Astable {
-                period: 1.0 / hz,
-                duty: duty(&f.duty)?,
-            }
+    let freq_period = |f: &DesignForm| -> Result<f64, WebError> {
+        if f.freq.trim().is_empty() {
+            return Err(WebError::BadInput("give the frequency, e.g. 1kHz".into()));
         }
-        "steered" => StageGoal::Steered {
+        let hz = parse_frequency(&f.freq)
+            .map_err(|e| bad("frequency", e))?
+            .si();
+        if hz > 0.0 {
+            Ok(1.0 / hz)
+        } else {
+            Err(WebError::BadInput(
+                "the frequency must be above zero".into(),
+            ))
+        }
+    };
+    let stages = match or(&f.form, "pulse") {
+        "pulse" => vec![StageGoal::Pulse {
+            width: time("pulse width", &f.width)?,
+        }],
+        "astable" => vec![StageGoal::Astable {
+            period: freq_period(f)?,
+            duty: duty(&f.duty)?,
+        }],
+        "steered" => vec![StageGoal::Steered {
             high: time("high time", &f.high)?,
             low: time("low time", &f.low)?,
-        },
+        }],
+        "square" => vec![StageGoal::Square {
+            period: freq_period(f)?,
+        }],
+        "pair" => {
+            let period = freq_period(f)?;
+            let width = time("pulse width", &f.width)?;
+            // As `onhand find pair`: the pulse must end before the next trigger, even at the
+            // edges of the tolerance.
+            if width * (1.0 + tol) >= period * (1.0 - tol) {
+                return Err(WebError::BadInput(format!(
+                    "the pulse width must stay below the period even at the edges of the \
+                     tolerance: width {width} s, period {period} s"
+                )));
+            }
+            vec![
+                StageGoal::Astable {
+                    period,
+                    duty: Duty::Any,
+                },
+                StageGoal::Pulse { width },
+            ]
+        }
+        "dual" => {
+            // The stage grammar of `onhand find dual`, read by its own function.
+            let stage = |what: &str, text: &str| -> Result<StageGoal, WebError> {
+                if text.trim().is_empty() {
+                    return Err(WebError::BadInput(format!(
+                        "give the {what} stage, e.g. pulse:250ms or astable:2Hz"
+                    )));
+                }
+                crate::cli::find::stage_of(text).map_err(|e| bad(what, e))
+            };
+            vec![stage("first", &f.first)?, stage("second", &f.second)?]
+        }
         other => {
             return Err(WebError::BadInput(format!(
-                "form {other:?}: use pulse, astable or steered"
+                "form {other:?}: use pulse, astable, steered, square, pair or dual"
             )));
         }
     };
-    let goal = Goal::Stages(vec![stage]);
+    let goal = Goal::Stages(stages);
     let settings = Settings {
         tol,
         max_pieces: 3,
@@ -187,7 +235,8 @@ pub fn run(parts: &[Part], goal: &Goal, settings: &Settings) -> Result<DesignRes
         {
             return Ok(DesignResult {
                 report: format!("Nothing can meet this target: {reason}."),
-                waveform: None,
+                waveforms: Vec::new(),
+                reach: Vec::new(),
                 kit: Vec::new(),
                 json: serde_json::json!({"found": false, "reason": reason}),
             });
@@ -221,24 +270,75 @@ pub fn run(parts: &[Part], goal: &Goal, settings: &Settings) -> Result<DesignRes
             }
         }
     }
-    let waveform = match (goal, best) {
-        (Goal::Stages(stages), Some(d)) => stages.first().and_then(|g| picture(g, d, settings)),
-        _ => None,
+    let stages: &[StageGoal] = match goal {
+        Goal::Stages(stages) => stages,
+        Goal::Value { .. } => &[],
     };
+    let waveforms = match best {
+        Some(d) => stages
+            .iter()
+            .enumerate()
+            .filter_map(|(i, g)| picture(i, g, d, settings))
+            .collect(),
+        None => Vec::new(),
+    };
+    let reach = stages
+        .iter()
+        .filter_map(|g| reach_picture(parts, g, settings))
+        .collect();
     Ok(DesignResult {
         report: String::from_utf8_lossy(&text).into_owned(),
-        waveform,
+        waveforms,
+        reach,
         kit,
         json,
     })
 }
 
-/// The waveform of the best design's first stage, from its nominal position values.
-fn picture(g: &StageGoal, d: &crate::solve::Design, s: &Settings) -> Option<String> {
+/// The reach picture (`solve::reach::reach`, drawn by `report::pictures::reach`) of the free
+/// stock over a decade either side of one stage's target, with the page's settings; `None`
+/// for the steered form (which has no reach question) or when the question cannot be asked.
+pub fn reach_picture(parts: &[Part], g: &StageGoal, s: &Settings) -> Option<String> {
+    use crate::solve::reach::{ReachForm, Request, reach};
+    let (form, at) = match g {
+        StageGoal::Pulse { width } => (ReachForm::Pulse, *width),
+        StageGoal::Astable { period, .. } => (ReachForm::Astable, 1.0 / period),
+        StageGoal::Square { period } => (ReachForm::Square, 1.0 / period),
+        StageGoal::Steered { .. } => return None,
+    };
+    if !(at.is_finite() && at > 0.0) {
+        return None;
+    }
+    let req = Request {
+        form,
+        range: (at / 10.0, at * 10.0),
+        tol: s.tol,
+        max_pieces: s.max_pieces.min(3),
+        family: s.family.clone(),
+        conditions: s.conditions,
+        cap_techs: s.cap_techs.clone(),
+        min_cap_rating: s.min_cap_rating,
+        max_rows: 6,
+    };
+    let map = reach(parts, &req).ok()?;
+    let what = match form {
+        ReachForm::Pulse => "one-shot pulse width",
+        ReachForm::Astable => "astable frequency",
+        ReachForm::Square => "square-wave frequency",
+    };
+    let title = format!(
+        "Reach of the free stock: {what} within ±{:.3}%, a decade either side of the target",
+        s.tol * 100.0
+    );
+    Some(crate::report::pictures::reach::Reach::of_map(&map, &[], &title).to_svg())
+}
+
+/// The waveform of the best design's stage `stage`, from its nominal position values.
+fn picture(stage: usize, g: &StageGoal, d: &crate::solve::Design, s: &Settings) -> Option<String> {
     let value = |name: &str| {
         d.positions
             .iter()
-            .find(|p| p.stage == 0 && p.name == name)
+            .find(|p| p.stage == stage && p.name == name)
             .map(|p| p.value)
     };
     let r = |name: &str| value(name).and_then(Ohms::from_si);

@@ -210,6 +210,79 @@ pub async fn serve(
         .await
 }
 
+/// A TLS server setting from a PEM certificate chain and its PEM private key (PKCS#8, PKCS#1 or
+/// SEC1), with the `ring` provider and HTTP/1.1 only. Pure: the caller reads the files.
+pub fn tls_config(
+    cert_pem: &[u8],
+    key_pem: &[u8],
+) -> Result<Arc<rustls::ServerConfig>, TlsSetupError> {
+    use rustls_pki_types::pem::PemObject;
+    use rustls_pki_types::{CertificateDer, PrivateKeyDer};
+    let chain = CertificateDer::pem_slice_iter(cert_pem)
+        .collect::<Result<Vec<_>, _>>()
+        .map_err(|e| TlsSetupError::Certificate(e.to_string()))?;
+    if chain.is_empty() {
+        return Err(TlsSetupError::Certificate(
+            "no CERTIFICATE block in the file".to_string(),
+        ));
+    }
+    let key =
+        PrivateKeyDer::from_pem_slice(key_pem).map_err(|e| TlsSetupError::Key(e.to_string()))?;
+    let provider = Arc::new(rustls::crypto::ring::default_provider());
+    let mut config = rustls::ServerConfig::builder_with_provider(provider)
+        .with_safe_default_protocol_versions()
+        .map_err(|e| TlsSetupError::Setup(e.to_string()))?
+        .with_no_client_auth()
+        .with_single_cert(chain, key)
+        .map_err(|e| TlsSetupError::Setup(e.to_string()))?;
+    config.alpn_protocols = vec![b"http/1.1".to_vec()];
+    Ok(Arc::new(config))
+}
+
+/// Why the certificate files cannot serve TLS.
+#[derive(Debug, thiserror::Error)]
+pub enum TlsSetupError {
+    /// The certificate file holds no readable PEM certificate.
+    #[error("the certificate file: {0}")]
+    Certificate(String),
+    /// The key file holds no readable PEM private key.
+    #[error("the key file: {0}")]
+    Key(String),
+    /// The pair does not make a TLS setting (e.g. the key does not match the certificate).
+    #[error("the certificate and key: {0}")]
+    Setup(String),
+}
+
+/// [`serve`] over TLS (session cookie always `Secure`): the same routes, on `listener`, with `config`; on `shutdown`, stop
+/// accepting and finish the requests in flight (writes included) before returning.
+pub async fn serve_tls(
+    listener: std::net::TcpListener,
+    config: Arc<rustls::ServerConfig>,
+    state: AppState,
+    shutdown: impl std::future::Future<Output = ()> + Send + 'static,
+) -> std::io::Result<()> {
+    listener.set_nonblocking(true)?;
+    // Served over TLS: the session cookie is Secure whatever the options said.
+    let mut state = state;
+    let mut options = (*state.options).clone();
+    options.secure_cookies = true;
+    state.options = Arc::new(options);
+    let handle = axum_server::Handle::new();
+    let stopper = handle.clone();
+    tokio::spawn(async move {
+        shutdown.await;
+        stopper.graceful_shutdown(None);
+    });
+    let app = router(state).into_make_service_with_connect_info::<SocketAddr>();
+    axum_server::tls_rustls::from_tcp_rustls(
+        listener,
+        axum_server::tls_rustls::RustlsConfig::from_config(config),
+    )?
+    .handle(handle)
+    .serve(app)
+    .await
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -223,5 +296,13 @@ mod tests {
         assert!(!is_loopback(&addr("0.0.0.0:8555")));
         assert!(!is_loopback(&addr("[::]:8555")));
         assert!(!is_loopback(&addr("192.0.2.7:8555")));
+    }
+
+    #[test]
+    fn tls_setting_refuses_files_without_pem_blocks() {
+        assert!(matches!(
+            tls_config(b"not a certificate", b"not a key"),
+            Err(TlsSetupError::Certificate(_))
+        ));
     }
 }

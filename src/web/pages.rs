@@ -5,7 +5,7 @@
 
 use super::calls::{Found, HoldsView, LogView, PartView, StockQuery};
 use super::design::{DesignForm, DesignResult};
-use crate::store::{Hold, ImportReport, Member, PageLogFilter, Part};
+use crate::store::{Hold, ImportReport, Member, Part};
 use maud::{DOCTYPE, Markup, PreEscaped, html};
 
 /// Who is looking, for the navigation and the forms.
@@ -338,8 +338,16 @@ pub fn design(
     let body = html! {
         // The answer first: on a phone the form would push it below the fold.
         @if let Some(r) = result {
-            @if let Some(svg) = &r.waveform {
-                div.box #waveform { (PreEscaped(svg)) }
+            // The waveform and the reach picture side by side where the screen is wide enough.
+            @if !r.waveforms.is_empty() || !r.reach.is_empty() {
+                div.pictures style="display:flex;flex-wrap:wrap;gap:.5rem" {
+                    @for (i, svg) in r.waveforms.iter().enumerate() {
+                        div.box.waveform id=(if i == 0 { "waveform".to_string() } else { format!("waveform-{}", i + 1) }) style="flex:1 1 20rem;min-width:0" { (PreEscaped(svg)) }
+                    }
+                    @for (i, svg) in r.reach.iter().enumerate() {
+                        div.box.reach id=(if i == 0 { "reach".to_string() } else { format!("reach-{}", i + 1) }) style="flex:1 1 20rem;min-width:0" { (PreEscaped(svg)) }
+                    }
+                }
             }
             pre.box #report { (r.report) }
             @if !r.kit.is_empty() {
@@ -367,6 +375,9 @@ pub fn design(
                 label { input type="radio" name="form" value="pulse" checked[form == "pulse"]; " one-shot" }
                 label { input type="radio" name="form" value="astable" checked[form == "astable"]; " astable" }
                 label { input type="radio" name="form" value="steered" checked[form == "steered"]; " steered (duty < 50 %)" }
+                label { input type="radio" name="form" value="square" checked[form == "square"]; " square (from the output)" }
+                label { input type="radio" name="form" value="pair" checked[form == "pair"]; " pair (astable triggers a one-shot: frequency and width)" }
+                label { input type="radio" name="form" value="dual" checked[form == "dual"]; " dual (two stages in one 556)" }
             }
             p {
                 label { "width " input name="width" value=(f.width) placeholder="250ms" size="8"; }
@@ -374,6 +385,10 @@ pub fn design(
                 label { "duty " input name="duty" value=(f.duty) placeholder="60..70%" size="8"; }
                 label { "high " input name="high" value=(f.high) placeholder="1ms" size="7"; }
                 label { "low " input name="low" value=(f.low) placeholder="200us" size="7"; }
+            }
+            p {
+                label { "dual: first " input name="first" value=(f.first) placeholder="pulse:250ms" size="14"; }
+                label { "second " input name="second" value=(f.second) placeholder="astable:2Hz" size="14"; }
             }
             p {
                 label { "within " input name="tol" value=(f.tol) placeholder="1%" size="5"; }
@@ -456,20 +471,22 @@ pub fn members(who: Who<'_>, list: &[Member], note: Option<&str>) -> Markup {
 }
 
 /// The log across the store with its filters.
-pub fn log(who: Who<'_>, f: &PageLogFilter, v: &LogView) -> Markup {
-    let opt = |o: &Option<String>| o.clone().unwrap_or_default();
+pub fn log(who: Who<'_>, f: &super::calls::LogQuery, v: &LogView) -> Markup {
+    let entries: Vec<crate::store::LedgerEntry> =
+        v.entries.iter().map(|e| e.entry.clone()).collect();
     let body = html! {
         form.box method="get" action="/log" {
-            input name="who" value=(opt(&f.who)) placeholder="member" size="10" aria-label="member";
-            " " input name="part" value=(f.part.map(|p| p.to_string()).unwrap_or_default()) placeholder="part #" size="5" aria-label="part";
-            " " input name="plan" value=(opt(&f.plan)) placeholder="plan" size="10" aria-label="plan";
-            " " input name="why" value=(opt(&f.why)) placeholder="reason contains" size="12" aria-label="reason";
-            " " input name="since" value=(opt(&f.since)) placeholder="since 2026-12-01" size="12" aria-label="since";
-            " " input name="until" value=(opt(&f.until)) placeholder="before" size="12" aria-label="until";
+            input name="who" value=(f.who) placeholder="member" size="10" aria-label="member";
+            " " input name="part" value=(f.part) placeholder="part #" size="5" aria-label="part";
+            " " input name="plan" value=(f.plan) placeholder="plan" size="10" aria-label="plan";
+            " " input name="unit" value=(f.unit) placeholder="unit" size="8" aria-label="unit";
+            " " input name="why" value=(f.why) placeholder="reason contains" size="12" aria-label="reason";
+            " " input name="since" value=(f.since) placeholder="since 2026-12-01 or 7d" size="14" aria-label="since";
+            " " input name="until" value=(f.until) placeholder="before" size="12" aria-label="until";
             " " button type="submit" { "Filter" }
         }
         p { (v.entries.len()) " entries, newest first." }
-        (history(&v.entries, Some(&v.labels)))
+        (history(&entries, Some(&v.labels)))
     };
     frame("Log", who, None, body)
 }

@@ -3,11 +3,11 @@
 //! changed (so reloading never repeats it); a refusal answers with a page saying why, a 4xx
 //! status, and nothing changed.
 
+use super::calls::LogQuery;
 use super::calls::{self, Settle, StockQuery};
 use super::design::{self, DesignForm};
 use super::error::WebError;
 use super::{AppState, Viewer, auth, pages};
-use crate::store::PageLogFilter;
 use axum::Router;
 use axum::extract::{Form, Path, Query, State};
 use axum::http::{HeaderValue, StatusCode, header};
@@ -505,67 +505,11 @@ async fn remove_member(
     finish(&v, r)
 }
 
-/// The log filter as typed (every field text, so a bad one gets a clear message).
-#[derive(Debug, Default, Deserialize)]
-pub struct LogQuery {
-    #[serde(default)]
-    who: String,
-    #[serde(default)]
-    part: String,
-    #[serde(default)]
-    plan: String,
-    #[serde(default)]
-    why: String,
-    #[serde(default)]
-    since: String,
-    #[serde(default)]
-    until: String,
-    #[serde(default)]
-    limit: String,
-}
-
-impl LogQuery {
-    /// The store filter; at most 500 entries unless a limit is given.
-    pub fn filter(&self) -> Result<PageLogFilter, WebError> {
-        let text = |s: &str| Some(s.trim().to_string()).filter(|t| !t.is_empty());
-        let part = text(&self.part)
-            .map(|p| count(p.trim_start_matches('#'), "part"))
-            .transpose()?;
-        let limit = match text(&self.limit) {
-            Some(l) => usize::try_from(count(&l, "limit")?)
-                .map_err(|_| WebError::BadInput("limit must be 0 or more".into()))?,
-            None => 500,
-        };
-        for d in [&self.since, &self.until] {
-            let d = d.trim();
-            if !d.is_empty()
-                && !d
-                    .bytes()
-                    .all(|b| b.is_ascii_digit() || b"-T:.Z".contains(&b))
-            {
-                return Err(WebError::BadInput(format!(
-                    "{d:?} is not a date like 2026-12-01"
-                )));
-            }
-        }
-        Ok(PageLogFilter {
-            who: text(&self.who),
-            part,
-            plan: text(&self.plan),
-            why: text(&self.why),
-            since: text(&self.since),
-            until: text(&self.until),
-            limit: Some(limit),
-        })
-    }
-}
-
 async fn log(v: Viewer, State(st): State<AppState>, Query(q): Query<LogQuery>) -> Response {
     let r = async {
         let me = v.member()?;
-        let filter = q.filter()?;
-        let view = calls::log(&st.pool, filter.clone(), me).await?;
-        Ok(html(pages::log(v.who(), &filter, &view)))
+        let view = calls::log(&st.pool, q.filter()?, me).await?;
+        Ok(html(pages::log(v.who(), &q, &view)))
     }
     .await;
     finish(&v, r)
