@@ -617,3 +617,51 @@ fn a_target_beyond_the_stock_says_why_at_once() {
     b.run(&["--json", "find", "pulse", "10ms", "--stock", s])
         .ok();
 }
+
+#[test]
+fn a_large_resistor_in_the_drawer_never_hides_a_design() {
+    // Invented drawer. 43 kΩ / 360 Ω / 33 nF film is an astable near 1 kHz whose model band
+    // (pin bias currents, discharge saturation) lies well inside ±1 %; adding a 10 MΩ resistor
+    // — where the threshold current alone would stop the capacitor short of the threshold —
+    // once made the screen drop the design and "prove" that nothing under 5 pieces existed.
+    let small = "kind,value,tolerance,technology,quantity\n\
+                 resistor,43k,1%,metal_film,1\n\
+                 resistor,360,1%,metal_film,1\n\
+                 capacitor,33n,5%,film,1\n";
+    let b = Bench::new();
+    for (name, text) in [
+        ("small.csv", small.to_string()),
+        (
+            "with-10M.csv",
+            format!("{small}resistor,10M,1%,metal_film,1\n"),
+        ),
+    ] {
+        let p = b.write(name, &text);
+        let s = p.to_str().expect("utf-8 path");
+        let j = b
+            .run(&["--json", "find", "astable", "1kHz", "--stock", s])
+            .ok()
+            .json();
+        assert_eq!(j["found"], true, "{name}: {j}");
+        assert_eq!(j["designs"][0]["pieces"], 3, "{name}: {j}");
+        assert_eq!(j["complete"], true, "{name}: {j}");
+    }
+    // The same parts through check: the band of the period inside ±1 % of 1 ms.
+    let c = b
+        .run(&[
+            "--json", "check", "astable", "R1=43k", "R2=360", "C=33n", "--cap", "C=film",
+        ])
+        .json();
+    let period = c["analyses"][0]["nominal"]
+        .as_array()
+        .expect("nominal list")
+        .iter()
+        .find(|q| q["quantity"] == "period")
+        .cloned()
+        .expect("a period");
+    let (lo, hi) = (
+        period["band_lo"].as_f64().expect("band_lo"),
+        period["band_hi"].as_f64().expect("band_hi"),
+    );
+    assert!(lo > 0.99e-3 && hi < 1.01e-3, "{period}");
+}

@@ -19,7 +19,7 @@ use super::goal::{
 use super::judge::{self, Worst};
 use crate::model::{Kind, Part, Technology, Value};
 use crate::network::{Cand, Combine, Item, Pool, Step};
-use crate::timing::{Conditions, Evaluation, Factors, evaluate};
+use crate::timing::{Conditions, Evaluation, Factors, Form, evaluate};
 use crate::units::{Farads, Ohms, Volts};
 use std::cmp::Ordering;
 use std::collections::BTreeMap;
@@ -394,21 +394,84 @@ fn compositions(p: usize, m: usize, k: usize) -> Vec<Vec<usize>> {
 }
 
 /// The largest ratio of an upper to a lower screening factor (at least 1).
-fn spread(lo: &Factors, hi: &Factors) -> f64 {
-    let pairs = [
-        (lo.one_shot, hi.one_shot),
-        (lo.charge, hi.charge),
-        (lo.discharge, hi.discharge),
-        (lo.steered_charge, hi.steered_charge),
-        (lo.steered_discharge, hi.steered_discharge),
-        (lo.square_high, hi.square_high),
-        (lo.square_low, hi.square_low),
-    ];
+/// The screen's spread for `form`: the largest ratio of upper to lower factor among the paths
+/// the form uses. An unbounded upper factor makes the spread unbounded (the screen then keeps
+/// every smaller value): dropping it would cut designs the evaluator accepts.
+fn spread(lo: &Factors, hi: &Factors, form: Form) -> f64 {
+    let pairs: &[(f64, f64)] = match form {
+        Form::Monostable => &[(lo.one_shot, hi.one_shot)],
+        Form::Astable => &[(lo.charge, hi.charge), (lo.discharge, hi.discharge)],
+        Form::Steered => &[
+            (lo.steered_charge, hi.steered_charge),
+            (lo.steered_discharge, hi.steered_discharge),
+        ],
+        Form::Square => &[
+            (lo.square_high, hi.square_high),
+            (lo.square_low, hi.square_low),
+        ],
+    };
     pairs
         .iter()
-        .filter(|(a, b)| *a > 0.0 && b.is_finite())
-        .map(|(a, b)| b / a)
+        .map(|&(a, b)| if a > 0.0 { b / a } else { f64::INFINITY })
         .fold(1.0, f64::max)
+}
+
+/// The largest charging resistance (R for a one-shot, R1 + R2 for an astable) at which a design
+/// can still be accepted, capped at `r_max`; other forms get `r_max`.
+///
+/// The pin bias band runs from no current to the constant threshold current, which draws from
+/// the capacitor and slows the charge more the larger the resistance. The band of the width
+/// (one-shot) or of the period (astable) is at least `k(R, Ith) / k0` wide, with `k(R, Ith)` the
+/// charge factor under the threshold current alone and `k0` the sum of the drain-free factors
+/// (for an astable R2 ≤ R1 + R2, so the period without drain is at most `R·C·k0`). Accepted
+/// designs keep their band inside the window, so `k(R, Ith) ≤ k0 · (1 + tol) / (1 − tol)`;
+/// `k(R, Ith)` rises with R, so bisection finds the limit. Margins are on the generous side:
+/// a limit too high only makes the screen wider, never wrong.
+fn acceptable_charge_limit(template: &Stage, s: &Settings, r_max: f64) -> Result<f64, SolveError> {
+    let form = template.form;
+    if !s.model.bias_currents || !matches!(form, Form::Monostable | Form::Astable) || s.tol >= 1.0 {
+        return Ok(r_max);
+    }
+    let free = crate::timing::Model {
+        bias_currents: false,
+        ..s.model
+    };
+    let r0 = crate::timing::evaluate::SCREEN_R_MIN;
+    let (_, h0) = crate::timing::factor_bounds_between(template, &s.family, &free, r0, r0)?;
+    let k0 = match form {
+        Form::Monostable => h0.one_shot,
+        _ => h0.charge + h0.discharge,
+    };
+    let allowed = k0 * (1.0 + s.tol) / (1.0 - s.tol) * 1.05;
+    // The slowest charge over the drains at exactly R, taken a little low (the bounds carry a
+    // small relative margin upward).
+    let slowest = |r: f64| -> Result<f64, SolveError> {
+        let (_, h) = crate::timing::factor_bounds_between(template, &s.family, &s.model, r, r)?;
+        let k = match form {
+            Form::Monostable => h.one_shot,
+            _ => h.charge,
+        };
+        Ok(k / 1.01)
+    };
+    if slowest(r_max)? <= allowed {
+        return Ok(r_max);
+    }
+    let (mut ok, mut bad) = (r0, r_max);
+    if slowest(ok)? > allowed {
+        return Ok(r_max);
+    }
+    for _ in 0..60 {
+        let mid = (ok * bad).sqrt();
+        if slowest(mid)? <= allowed {
+            ok = mid;
+        } else {
+            bad = mid;
+        }
+        if bad / ok < 1.001 {
+            break;
+        }
+    }
+    Ok(bad)
 }
 
 /// The window a screened time (closed form with the lower factors) must lie in for the
@@ -720,13 +783,22 @@ impl<'a> Ctx<'a> {
                         conditions: cond,
                         steering: crate::timing::Steering::default(),
                     };
-                    let (f, fh) =
-                        // The astable charges through R1 + R2: the bounds must cover both.
-                        crate::timing::factor_bounds(&template, &s.family, &s.model, ohms(if form.has_r2() { 2.0 * r_max } else { r_max }))?;
+                    // The astable charges through R1 + R2: the bounds must cover both. Above
+                    // `acceptable_charge_limit` no design can be accepted, so the screen need
+                    // not cover it (and must not drop the factors it does cover).
+                    let charging = if form.has_r2() { 2.0 * r_max } else { r_max };
+                    let charging = acceptable_charge_limit(&template, s, charging)?;
+                    let (f, fh) = crate::timing::factor_bounds_between(
+                        &template,
+                        &s.family,
+                        &s.model,
+                        crate::timing::evaluate::SCREEN_R_MIN,
+                        charging,
+                    )?;
                     stages.push(Plan {
                         goal: *g,
                         f,
-                        g: spread(&f, &fh),
+                        g: spread(&f, &fh, form),
                         cond,
                         ie,
                     });
