@@ -4,6 +4,7 @@
 pub mod find;
 pub mod netlist;
 pub mod pictures;
+pub mod reorder;
 pub mod schematic;
 pub mod sheet;
 pub mod style;
