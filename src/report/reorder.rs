@@ -32,8 +32,8 @@ pub struct PlanLine {
     pub name: String,
     /// Units wanted.
     pub units: u32,
-    /// Units the stock alone builds.
-    pub stock_alone_builds: u32,
+    /// Units the stock alone builds (`None`: not worked out within the time limit).
+    pub stock_alone_builds: Option<u32>,
 }
 
 /// One line to buy.
@@ -206,10 +206,16 @@ pub fn list_text(l: &BuyersList, style: Style) -> String {
                 }
             ));
             for p in plans {
-                say(format!(
-                    "The stock alone builds {} of {} units of {:?}.",
-                    p.stock_alone_builds, p.units, p.name
-                ));
+                say(match p.stock_alone_builds {
+                    Some(n) => format!(
+                        "The stock alone builds {n} of {} units of {:?}.",
+                        p.units, p.name
+                    ),
+                    None => format!(
+                        "What the stock alone builds of {:?} was not worked out within the time limit.",
+                        p.name
+                    ),
+                });
             }
         }
     }

@@ -292,12 +292,13 @@ pub(super) fn run_reorder(args: ReorderArgs, ctx: &Context, out: &mut dyn Write)
             .filter(|(_, p)| **p == k)
             .map(|(s, _)| s.clone())
             .collect();
-        let before = plan::buildable(&stock_only, &own, spec.units, args.source.candidates, lim)
-            .context("planning with the stock alone")?;
+        // Only for the report: a time limit that stops it does not stop the list.
+        let before =
+            plan::buildable(&stock_only, &own, spec.units, args.source.candidates, lim).ok();
         plan_lines.push(report::PlanLine {
             name: spec.name.clone(),
             units: spec.units,
-            stock_alone_builds: before.built,
+            stock_alone_builds: before.map(|b| b.built),
         });
     }
     let lines: Vec<report::BuyLine> = order
@@ -372,7 +373,7 @@ pub(super) fn run_reorder(args: ReorderArgs, ctx: &Context, out: &mut dyn Write)
             "schema": crate::report::style::JSON_SCHEMA,
             "price_list": buyers.prices,
             "plans": buyers.plans,
-            "stock_alone_builds": buyers.plans.first().map(|p| p.stock_alone_builds),
+            "stock_alone_builds": buyers.plans.first().and_then(|p| p.stock_alone_builds),
             "refill": buyers.refill,
             "buy": buyers.lines,
             "unpriced": buyers.unpriced,
