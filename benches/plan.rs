@@ -25,7 +25,16 @@ use std::time::{Duration, Instant};
 /// Units in the plan, and a larger plan the cabinet cannot cover (so the reorder must buy).
 const UNITS: [u32; 3] = [25, 100, 250];
 /// Timed runs per figure.
-const RUNS: usize = 10;
+const FULL_RUNS: usize = 10;
+
+/// Timed runs per figure: 10, or 3 under PLAN_BENCH_QUICK.
+fn runs() -> usize {
+    if std::env::var_os("PLAN_BENCH_QUICK").is_some() {
+        3
+    } else {
+        FULL_RUNS
+    }
+}
 
 /// IEC 60063 E24 base values; E12 and E6 are every 2nd and 4th.
 const E24: [f64; 24] = [
@@ -282,15 +291,18 @@ fn main() {
     let stock_rows: Vec<usize> = (0..cabinet.len()).collect();
     let all_rows: Vec<usize> = (0..parts.len()).collect();
     println!(
-        "makerspace cabinet: {} rows; price list: {} offers (generated); 3 stages (astable 1.5 Hz duty 55–75 % ±5 %, square 2 kHz ±5 %, one-shot 30 ms ±10 %), CMOS, 9 V, k = 3; {RUNS} runs per figure",
+        "makerspace cabinet: {} rows; price list: {} offers (generated); 3 stages (astable 1.5 Hz duty 55–75 % ±5 %, square 2 kHz ±5 %, one-shot 30 ms ±10 %), CMOS, 9 V, k = 3; {} runs per figure",
         cabinet.len(),
-        offer_list.len()
+        offer_list.len(),
+        runs()
     );
     println!("backends: {:?} (per-phase time limit 10 s)", backends());
     println!();
     let mut buildables: Vec<(Backend, Case, Buildable)> = Vec::new();
     let mut orders: Vec<(Backend, Case, Order)> = Vec::new();
     let mut slowest_25: f64 = 0.0;
+    // The buyer's target: a reorder of 250 units × 3 stages proven least cost by microlp.
+    let mut reorder_250: Vec<(usize, f64, &'static str, Option<u64>, u64)> = Vec::new();
     println!(
         "  {:<9} {:>5} {:>5} {:<8} {:>9} {:>9} {:>9} {:>8} {:>7} {:>5}  answer",
         "plan",
@@ -305,7 +317,12 @@ fn main() {
         "rows"
     );
     let mut cases = Vec::new();
+    // PLAN_BENCH_QUICK=1: only the 250-unit cases (for a quick look at the reorder target).
+    let quick = std::env::var_os("PLAN_BENCH_QUICK").is_some();
     for units in UNITS {
+        if quick && units != 250 {
+            continue;
+        }
         for count in [24usize, 48] {
             cases.push(Case { units, count });
         }
@@ -313,12 +330,12 @@ fn main() {
     for &case in &cases {
         let Case { units, count } = case;
         let search_b = median(
-            &(0..RUNS)
+            &(0..runs())
                 .map(|_| search_only(&cabinet, std::slice::from_ref(&stock_rows), &stages, count))
                 .collect::<Vec<_>>(),
         );
         let search_r = median(
-            &(0..RUNS)
+            &(0..runs())
                 .map(|_| {
                     search_only(
                         &parts,
@@ -334,7 +351,9 @@ fn main() {
                 backend,
                 ..Limits::default()
             };
-            let b = time_runs(RUNS, || buildable(&cabinet, &stages, units, count, limits));
+            let b = time_runs(runs(), || {
+                buildable(&cabinet, &stages, units, count, limits)
+            });
             let (size, text) = match &b.answer {
                 Ok(a) => (
                     a.size,
@@ -354,7 +373,7 @@ fn main() {
             if let Ok(a) = b.answer {
                 buildables.push((backend, case, a));
             }
-            let r = time_runs(RUNS, || {
+            let r = time_runs(runs(), || {
                 reorder(&parts, &offer_list, &stages, units, count, limits)
             });
             let (size, text) = match &r.answer {
@@ -374,13 +393,17 @@ fn main() {
             if units == 25 {
                 slowest_25 = slowest_25.max(m);
             }
+            if let (250, Backend::Microlp, Ok(o)) = (units, backend, &r.answer) {
+                reorder_250.push((count, m, proof(o.proof), o.lower_bound_cents, o.cost_cents));
+            }
             if let Ok(o) = r.answer {
                 orders.push((backend, case, o));
             }
         }
     }
     println!(
-        "  (search ms: the same solve calls timed alone, median of {RUNS}; IP ms = median − search ms, the integer programs plus bookkeeping; IP vars/rows: the largest phase's model)"
+        "  (search ms: the same solve calls timed alone, median of {}; IP ms = median − search ms, the integer programs plus bookkeeping; IP vars/rows: the largest phase's model)",
+        runs()
     );
     // Where two backends both proved optimality, their optima must be equal.
     for &case in &cases {
@@ -469,6 +492,19 @@ fn main() {
         }
     }
     println!();
+    for (count, m, pf, bound, cost) in &reorder_250 {
+        println!(
+            "reorder 250 units × 3 stages, {count} candidates, microlp: median {:.1} ms, {pf} (cost {:.2}, proven bound {}); target < 2 s and proven: {}",
+            m * 1e3,
+            *cost as f64 / 100.0,
+            bound.map_or("none".to_string(), |b| format!("{:.2}", b as f64 / 100.0)),
+            if *m < 2.0 && *pf == proof(Proof::Optimal) {
+                "met"
+            } else {
+                "NOT met"
+            }
+        );
+    }
     println!(
         "target < 2 s median (25 units, buildable and reorder): {} (slowest median {:.1} ms)",
         if slowest_25 < 2.0 { "met" } else { "NOT met" },

@@ -14,6 +14,7 @@ mod ledger;
 mod pictures;
 mod plan;
 mod reach;
+mod reorder;
 mod safety;
 mod sheet;
 mod stock;

@@ -7,6 +7,7 @@ pub mod list;
 pub mod netlist;
 pub mod pictures;
 pub mod reach_text;
+pub mod reorder;
 pub mod schematic;
 pub mod series;
 pub mod sheet;

@@ -90,6 +90,11 @@ pub struct Purchase {
     pub cost_cents: u64,
     /// Whether the answer is proven optimal.
     pub proof: Proof,
+    /// Whether the tie-break (fewest pieces at the least cost) was proven too.
+    pub pieces_proven: bool,
+    /// A proven lower bound on the least cost, cents (the cost itself when proven optimal;
+    /// the linear relaxation's optimum otherwise, `None` if even that was not reached).
+    pub lower_bound_cents: Option<u64>,
     /// Size of the model.
     pub size: ModelSize,
 }
@@ -538,6 +543,16 @@ fn recheck(
 }
 
 /// Every one of `units` buildable at the least purchase cost, then with the fewest pieces.
+///
+/// The program is reduced before it is solved, without changing its optimum:
+/// - a candidate whose uses are, resource by resource, at least those of another candidate of
+///   the same stage is dropped (the other never costs more nor takes more pieces);
+/// - only resources some remaining candidate uses get a row, and only those that can be bought
+///   get a pack variable, bounded by what all units could use of them;
+/// - a stock row that holds enough for every unit's largest use gets no row at all.
+///
+/// Besides the answer, the linear relaxation's optimum is a proven lower bound on the cost, so
+/// an answer cut short by the time limit says how far from the best it can at most be.
 pub fn purchase(
     stages: usize,
     units: u32,
@@ -545,112 +560,356 @@ pub fn purchase(
     resources: &[Resource],
     limits: Limits,
 ) -> Result<Purchase, AllocateError> {
-    validate(stages, candidates, resources)?;
-    let mut size = ModelSize::default();
-    let all_units =
-        |_: &[Variable], _: &[Variable], u: Variable| vec![constraint!(u == f64::from(units))];
-    let cost_of = |p: &[Variable]| -> Expression {
-        resources
-            .iter()
-            .zip(p)
-            .map(|(r, v)| r.pack.map_or(0.0, |(_, price)| price as f64) * *v)
-            .sum()
+    let demand = Demand {
+        units: vec![units; stages],
+        extra: vec![0; resources.len()],
     };
+    purchase_for(&demand, candidates, resources, limits)
+}
+
+/// The most time the purchase's tie-break phase (fewest pieces at the least cost) may take.
+const TIE_BREAK_LIMIT: Duration = Duration::from_secs(1);
+/// The least time the linear relaxation (the proven bound) is given.
+const LP_BOUND_LIMIT: Duration = Duration::from_secs(5);
+
+/// What a purchase must cover: units per stage (stages of several plans may differ) and extra
+/// pieces per resource wanted besides the units (a low-stock refill).
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Demand {
+    /// Units of each stage.
+    pub units: Vec<u32>,
+    /// Pieces per resource wanted on top of the units' use (same order as the resources).
+    pub extra: Vec<u32>,
+}
+
+/// [`purchase`] for a [`Demand`]: every stage's units and every extra piece at least cost.
+pub fn purchase_for(
+    demand: &Demand,
+    candidates: &[Candidate],
+    resources: &[Resource],
+    limits: Limits,
+) -> Result<Purchase, AllocateError> {
+    let stages = demand.units.len();
+    validate(stages, candidates, resources)?;
+    if demand.extra.len() != resources.len() {
+        return Err(AllocateError::BadCandidate(candidates.len()));
+    }
+    let keep = undominated(candidates);
+    let kept: Vec<Candidate> = keep.iter().map(|&i| candidates[i].clone()).collect();
+    let model = PurchaseModel::new(demand, &kept, resources);
     // A greedy purchase is always feasible when every stage has a buildable candidate; it is
     // the incumbent the solver starts from, and the answer if the solver finds nothing better
     // in time (reported as not proven).
-    let greedy = greedy_purchase(stages, units, candidates, resources);
-    let greedy_warm: Option<Vec<f64>> = greedy.as_ref().map(|(c, p)| {
-        c.iter()
-            .chain(p)
-            .map(|&v| f64::from(v))
-            .chain(std::iter::once(f64::from(units)))
-            .collect()
-    });
-    let p1 = match solve_phase(
-        stages,
-        units,
-        candidates,
-        resources,
-        true,
-        false,
-        &|_, p, _| cost_of(p),
-        &all_units,
-        greedy_warm.as_deref(),
-        limits,
-        &mut size,
-    ) {
-        Ok(p) => p,
-        Err(AllocateError::Solver(_)) if greedy_warm.is_some() => Phase {
-            status: SolutionStatus::TimeLimit,
-            values: greedy_warm
-                .as_deref()
-                .map(|w| w[..candidates.len()].to_vec())
-                .unwrap_or_default(),
-            extra: greedy_warm
-                .as_deref()
-                .map(|w| w[candidates.len()..].to_vec())
-                .unwrap_or_default(),
-        },
+    let greedy = greedy_for(demand, &kept, resources);
+    let warm: Option<Vec<f64>> = greedy.as_ref().map(|(c, p)| model.warm(c, p));
+    // The linear relaxation is quick; it gets at least a few seconds so that a short limit on
+    // the integer program still leaves a bound to measure the answer against.
+    let lp_limits = Limits {
+        per_phase: limits.per_phase.max(LP_BOUND_LIMIT),
+        ..limits
+    };
+    let bound = model.solve(Goal::LeastCost, false, None, None, lp_limits);
+    let lower_bound_cents = match bound {
+        Ok((SolutionStatus::Optimal, v)) => {
+            // The relaxation's optimum, rounded up (prices are whole cents); a tiny slack
+            // absorbs floating-point noise.
+            Some((model.cost(&v) - 1e-6).ceil().max(0.0) as u64)
+        }
+        _ => None,
+    };
+    let p1 = match model.solve(Goal::LeastCost, true, None, warm.as_deref(), limits) {
+        Ok(s) => s,
+        Err(AllocateError::Solver(_)) if warm.is_some() => {
+            (SolutionStatus::TimeLimit, warm.clone().unwrap_or_default())
+        }
         Err(e) => return Err(e),
     };
-    let p1_warm = p1.warm();
-    let packs1 = to_counts(&p1.extra[..resources.len()]);
-    let best_cost: f64 = resources
-        .iter()
-        .zip(&packs1)
-        .map(|(r, &n)| r.pack.map_or(0.0, |(_, p)| p as f64) * f64::from(n))
-        .sum();
-    let pieces_of = |x: &[Variable]| -> Expression {
-        candidates
-            .iter()
-            .zip(x)
-            .map(|(c, v)| f64::from(c.pieces) * *v)
-            .sum()
+    let best_cost = model.cost_rounded(&p1.1);
+    // The tie-break (fewest pieces at that cost) only polishes the list: it gets a short
+    // limit of its own, and when that stops it the cheapest list found stays (its cost proof
+    // is phase 1's).
+    let tie_limits = Limits {
+        per_phase: (limits.per_phase / 10).min(TIE_BREAK_LIMIT),
+        ..limits
     };
-    let fix = |x: &[Variable], p: &[Variable], u: Variable| {
-        let _ = x;
-        vec![
-            constraint!(u == f64::from(units)),
-            constraint!(cost_of(p) <= best_cost),
-        ]
-    };
-    let p2 = match solve_phase(
-        stages,
-        units,
-        candidates,
-        resources,
+    let p2 = match model.solve(
+        Goal::FewestPieces,
         true,
-        false,
-        &|x, _, _| pieces_of(x),
-        &fix,
-        Some(&p1_warm),
-        limits,
-        &mut size,
+        Some(best_cost),
+        Some(&p1.1.iter().map(|v| v.round()).collect::<Vec<_>>()),
+        tie_limits,
     ) {
-        Ok(p) => p,
+        Ok(s) => s,
         // Keep the cheapest answer found when the tie-break phase runs out of time.
-        Err(AllocateError::Solver(_)) => Phase {
-            status: SolutionStatus::TimeLimit,
-            ..p1
-        },
+        Err(AllocateError::Solver(_)) => (SolutionStatus::TimeLimit, p1.1.clone()),
         Err(e) => return Err(e),
     };
-    let counts = to_counts(&p2.values);
-    let packs = to_counts(&p2.extra[..resources.len()]);
+    let (kept_counts, packs) = model.read(&p2.1);
+    let mut counts = vec![0u32; candidates.len()];
+    for (&i, &n) in keep.iter().zip(&kept_counts) {
+        counts[i] = n;
+    }
+    let cost_cents: u64 = resources
+        .iter()
+        .zip(&packs)
+        .map(|(r, &n)| r.pack.map_or(0, |(_, p)| p) * u64::from(n))
+        .sum();
+    // "Optimal" here is the least cost; the tie-break is reported on its own.
+    let proof = proof_of(&[p1.0]);
     let answer = Purchase {
-        cost_cents: resources
-            .iter()
-            .zip(&packs)
-            .map(|(r, &n)| r.pack.map_or(0, |(_, p)| p) * u64::from(n))
-            .sum(),
+        pieces_proven: proof_of(&[p2.0]) == Proof::Optimal,
+        cost_cents,
         counts,
         packs,
-        proof: proof_of(&[p1.status, p2.status]),
-        size,
+        proof,
+        // When proven optimal the bound is the cost itself.
+        lower_bound_cents: if proof == Proof::Optimal {
+            Some(cost_cents)
+        } else {
+            lower_bound_cents.map(|b| b.min(cost_cents))
+        },
+        size: model.size(),
     };
-    recheck_purchase(stages, units, candidates, resources, &answer)?;
+    recheck_demand(demand, candidates, resources, &answer)?;
     Ok(answer)
+}
+
+/// Our own check of a purchase for a [`Demand`]: every stage has its units, and no resource
+/// gives more than it has plus the packs bought, the extra pieces included.
+fn recheck_demand(
+    demand: &Demand,
+    candidates: &[Candidate],
+    resources: &[Resource],
+    p: &Purchase,
+) -> Result<(), AllocateError> {
+    for (s, n) in per_stage(demand.units.len(), candidates, &p.counts)
+        .into_iter()
+        .enumerate()
+    {
+        if n != u64::from(demand.units[s]) {
+            return Err(AllocateError::Recheck(format!(
+                "stage {} has {n} units, expected {}",
+                s + 1,
+                demand.units[s]
+            )));
+        }
+    }
+    for (r, used) in usage(candidates, &p.counts, resources.len())
+        .into_iter()
+        .enumerate()
+    {
+        let res = resources[r];
+        let bought = res
+            .pack
+            .map_or(0, |(size, _)| u64::from(size) * u64::from(p.packs[r]));
+        let used = used + u64::from(demand.extra[r]);
+        let there = u64::from(res.available) + bought;
+        if used > there {
+            return Err(AllocateError::Recheck(format!(
+                "resource {r} used {used} times, only {there} there"
+            )));
+        }
+    }
+    Ok(())
+}
+
+/// The candidates no other candidate of the same stage dominates (uses at most as much of every
+/// resource; of two identical ones the first is kept). Indices into `candidates`.
+fn undominated(candidates: &[Candidate]) -> Vec<usize> {
+    let covers = |a: &Candidate, b: &Candidate| {
+        // Whether `a` uses at most what `b` uses, resource by resource.
+        a.uses
+            .iter()
+            .all(|&(r, n)| b.uses.iter().filter(|u| u.0 == r).map(|u| u.1).sum::<u32>() >= n)
+    };
+    (0..candidates.len())
+        .filter(|&i| {
+            let c = &candidates[i];
+            !candidates.iter().enumerate().any(|(j, d)| {
+                j != i && d.stage == c.stage && covers(d, c) && (!covers(c, d) || j < i)
+            })
+        })
+        .collect()
+}
+
+#[derive(Clone, Copy)]
+enum Goal {
+    LeastCost,
+    FewestPieces,
+}
+
+/// The reduced purchase program: which resources get a row and which a pack variable.
+struct PurchaseModel<'a> {
+    stages: usize,
+    units: Vec<u32>,
+    extra: Vec<u32>,
+    candidates: &'a [Candidate],
+    resources: &'a [Resource],
+    /// Resources that get a capacity row.
+    rows: Vec<usize>,
+    /// (resource, most packs) of each pack variable.
+    packs: Vec<(usize, u32)>,
+}
+
+impl<'a> PurchaseModel<'a> {
+    fn new(demand: &Demand, candidates: &'a [Candidate], resources: &'a [Resource]) -> Self {
+        let stages = demand.units.len();
+        // Per resource, the stage-wise largest use per unit, summed over stages: no answer
+        // takes more than that times the units.
+        let mut most = vec![vec![0u64; stages]; resources.len()];
+        for c in candidates {
+            for &(r, n) in &c.uses {
+                let m = &mut most[r][c.stage];
+                *m = (*m).max(u64::from(n));
+            }
+        }
+        let mut rows = Vec::new();
+        let mut packs = Vec::new();
+        for (r, res) in resources.iter().enumerate() {
+            let need = most[r]
+                .iter()
+                .zip(&demand.units)
+                .map(|(m, &u)| m * u64::from(u))
+                .sum::<u64>()
+                + u64::from(demand.extra[r]);
+            if need == 0 || need <= u64::from(res.available) {
+                continue;
+            }
+            rows.push(r);
+            if let Some((size, _)) = res.pack {
+                let max = (need - u64::from(res.available)).div_ceil(u64::from(size.max(1)));
+                packs.push((r, u32::try_from(max).unwrap_or(u32::MAX)));
+            }
+        }
+        Self {
+            stages,
+            units: demand.units.clone(),
+            extra: demand.extra.clone(),
+            candidates,
+            resources,
+            rows,
+            packs,
+        }
+    }
+
+    fn size(&self) -> ModelSize {
+        ModelSize {
+            variables: self.candidates.len() + self.packs.len(),
+            constraints: self.stages + self.rows.len() + 1,
+        }
+    }
+
+    fn price(&self, k: usize) -> f64 {
+        self.resources[self.packs[k].0]
+            .pack
+            .map_or(0.0, |(_, p)| p as f64)
+    }
+
+    /// Cost of a solution vector (candidates, then packs), as the solver left it.
+    fn cost(&self, v: &[f64]) -> f64 {
+        let n = self.candidates.len();
+        (0..self.packs.len())
+            .map(|k| self.price(k) * v[n + k])
+            .sum()
+    }
+
+    fn cost_rounded(&self, v: &[f64]) -> f64 {
+        let n = self.candidates.len();
+        (0..self.packs.len())
+            .map(|k| self.price(k) * v[n + k].round())
+            .sum()
+    }
+
+    /// A solution vector from counts per candidate and packs per resource.
+    fn warm(&self, counts: &[u32], packs: &[u32]) -> Vec<f64> {
+        counts
+            .iter()
+            .map(|&c| f64::from(c))
+            .chain(self.packs.iter().map(|&(r, _)| f64::from(packs[r])))
+            .collect()
+    }
+
+    /// Counts per candidate and packs per resource from a solution vector.
+    fn read(&self, v: &[f64]) -> (Vec<u32>, Vec<u32>) {
+        let n = self.candidates.len();
+        let counts = to_counts(&v[..n]);
+        let mut packs = vec![0u32; self.resources.len()];
+        for (k, &(r, _)) in self.packs.iter().enumerate() {
+            packs[r] = v[n + k].round().max(0.0) as u32;
+        }
+        (counts, packs)
+    }
+
+    fn solve(
+        &self,
+        goal: Goal,
+        integer: bool,
+        cost_cap: Option<f64>,
+        warm: Option<&[f64]>,
+        limits: Limits,
+    ) -> Result<Solved, AllocateError> {
+        let mut vars = ProblemVariables::new();
+        let int = |v: good_lp::variable::VariableDefinition| if integer { v.integer() } else { v };
+        let x: Vec<Variable> = self
+            .candidates
+            .iter()
+            .map(|c| vars.add(int(variable()).min(0).max(self.units[c.stage])))
+            .collect();
+        let p: Vec<Variable> = self
+            .packs
+            .iter()
+            .map(|&(_, max)| vars.add(int(variable()).min(0).max(max)))
+            .collect();
+        let cost: Expression = p.iter().enumerate().map(|(k, v)| self.price(k) * *v).sum();
+        let pieces: Expression = self
+            .candidates
+            .iter()
+            .zip(&x)
+            .map(|(c, v)| f64::from(c.pieces) * *v)
+            .sum();
+        let problem = match goal {
+            Goal::LeastCost => vars.minimise(cost.clone()),
+            Goal::FewestPieces => vars.minimise(pieces),
+        };
+        let mut rows: Vec<good_lp::Constraint> = Vec::new();
+        for s in 0..self.stages {
+            let sum: Expression = self
+                .candidates
+                .iter()
+                .zip(&x)
+                .filter(|(c, _)| c.stage == s)
+                .map(|(_, v)| Expression::from(*v))
+                .sum();
+            rows.push(constraint!(sum == f64::from(self.units[s])));
+        }
+        for &r in &self.rows {
+            let mut used = Expression::from(f64::from(self.extra[r]));
+            for (c, v) in self.candidates.iter().zip(&x) {
+                for &(rr, per) in &c.uses {
+                    if rr == r {
+                        used += f64::from(per) * *v;
+                    }
+                }
+            }
+            let mut cap = Expression::from(f64::from(self.resources[r].available));
+            if let Some(k) = self.packs.iter().position(|q| q.0 == r) {
+                let size = self.resources[r].pack.map_or(0, |q| q.0);
+                cap += f64::from(size) * p[k];
+            }
+            rows.push(constraint!(used <= cap));
+        }
+        if let Some(c) = cost_cap {
+            rows.push(constraint!(cost <= c));
+        }
+        let read: Vec<Variable> = x.iter().chain(&p).copied().collect();
+        match run_backend(problem, rows, &read, warm, limits) {
+            Ok(s) => Ok(s),
+            Err(ResolutionError::Infeasible) => Err(AllocateError::Infeasible(
+                "the constraints cannot all hold (a stage may have no candidate design)".into(),
+            )),
+            Err(e) => Err(AllocateError::Solver(e.to_string())),
+        }
+    }
 }
 
 /// Our own check of a purchase against every constraint.
@@ -680,11 +939,37 @@ pub fn greedy_purchase(
     candidates: &[Candidate],
     resources: &[Resource],
 ) -> Option<(Vec<u32>, Vec<u32>)> {
+    let demand = Demand {
+        units: vec![units; stages],
+        extra: vec![0; resources.len()],
+    };
+    greedy_for(&demand, candidates, resources)
+}
+
+/// [`greedy_purchase`] for a [`Demand`]: the extra pieces are bought first (packs of the
+/// resource), then the units as there.
+fn greedy_for(
+    demand: &Demand,
+    candidates: &[Candidate],
+    resources: &[Resource],
+) -> Option<(Vec<u32>, Vec<u32>)> {
+    let stages = demand.units.len();
     let mut left: Vec<u64> = resources.iter().map(|r| u64::from(r.available)).collect();
     let mut packs = vec![0u32; resources.len()];
     let mut counts = vec![0u32; candidates.len()];
-    for _ in 0..units {
-        for s in 0..stages {
+    for (r, &want) in demand.extra.iter().enumerate() {
+        let want = u64::from(want);
+        if left[r] < want {
+            let (size, _) = resources[r].pack.filter(|q| q.0 > 0)?;
+            let n = (want - left[r]).div_ceil(u64::from(size));
+            packs[r] += u32::try_from(n).unwrap_or(u32::MAX);
+            left[r] += n * u64::from(size);
+        }
+        left[r] -= want;
+    }
+    let most = demand.units.iter().copied().max().unwrap_or(0);
+    for unit in 0..most {
+        for s in (0..stages).filter(|&s| unit < demand.units[s]) {
             let mut best: Option<(u64, u32, usize)> = None;
             for (i, c) in candidates.iter().enumerate().filter(|(_, c)| c.stage == s) {
                 let mut cost = 0u64;
@@ -937,6 +1222,127 @@ mod tests {
                 (Ok(a), Ok(b)) => prop_assert_eq!(a.cost_cents, b.cost_cents),
                 (Err(AllocateError::Infeasible(_)), Err(AllocateError::Infeasible(_))) => {}
                 (a, b) => prop_assert!(false, "backends differ: {a:?} / {b:?}"),
+            }
+        }
+    }
+
+    /// The least cost by trying every count vector (tiny instances only): per stage, every way
+    /// to spread its units over its candidates; packs are then the fewest that cover each
+    /// resource's use plus its extra pieces.
+    fn exhaustive_cost(demand: &Demand, cands: &[Candidate], res: &[Resource]) -> Option<u64> {
+        let n = cands.len();
+        let top = demand.units.iter().copied().max().unwrap_or(0);
+        let mut counts = vec![0u32; n];
+        let mut best: Option<u64> = None;
+        loop {
+            let ps = per_stage(demand.units.len(), cands, &counts);
+            if ps
+                .iter()
+                .zip(&demand.units)
+                .all(|(&a, &b)| a == u64::from(b))
+            {
+                let used = usage(cands, &counts, res.len());
+                let mut cost = Some(0u64);
+                for (r, u) in used.iter().enumerate() {
+                    let want = u + u64::from(demand.extra[r]);
+                    let have = u64::from(res[r].available);
+                    if want > have {
+                        cost = match (cost, res[r].pack) {
+                            (Some(c), Some((size, price))) => {
+                                Some(c + (want - have).div_ceil(u64::from(size)) * price)
+                            }
+                            _ => None,
+                        };
+                    }
+                }
+                if let Some(c) = cost {
+                    best = Some(best.map_or(c, |b| b.min(c)));
+                }
+            }
+            let mut i = 0;
+            loop {
+                if i == n {
+                    return best;
+                }
+                counts[i] += 1;
+                if counts[i] <= top {
+                    break;
+                }
+                counts[i] = 0;
+                i += 1;
+            }
+        }
+    }
+
+    #[test]
+    fn a_tiny_purchase_matches_the_exhaustive_enumeration() {
+        // Invented packs and prices. Stage 0 (3 units) can use resource 0 (2 per unit) or
+        // resources 1 and 2; stage 1 (2 units) uses resource 2 or 3; 4 extra pieces of
+        // resource 3 are wanted for a refill; 1 piece of resource 1 is in stock.
+        let cands = vec![
+            cand(0, &[(0, 2)], 0.0),
+            cand(0, &[(1, 1), (2, 1)], 0.0),
+            cand(1, &[(2, 1)], 0.0),
+            cand(1, &[(3, 1)], 0.0),
+        ];
+        let res = vec![
+            Resource {
+                available: 0,
+                pack: Some((5, 300)),
+            },
+            Resource {
+                available: 1,
+                pack: Some((10, 120)),
+            },
+            Resource {
+                available: 0,
+                pack: Some((4, 90)),
+            },
+            Resource {
+                available: 0,
+                pack: Some((6, 100)),
+            },
+        ];
+        let demand = Demand {
+            units: vec![3, 2],
+            extra: vec![0, 0, 0, 4],
+        };
+        let want = exhaustive_cost(&demand, &cands, &res).expect("feasible");
+        let p = purchase_for(&demand, &cands, &res, Limits::default()).expect("purchase");
+        assert_eq!(p.cost_cents, want);
+        assert_eq!(p.proof, Proof::Optimal);
+        assert_eq!(p.lower_bound_cents, Some(want));
+        recheck_demand(&demand, &cands, &res, &p).expect("recheck");
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig { cases: 40, ..ProptestConfig::default() })]
+        #[test]
+        fn purchase_matches_exhaustive_enumeration(
+            stock_counts in proptest::collection::vec(0u32..4, 3),
+            raw in proptest::collection::vec((0usize..2, 0usize..3, 1u32..3, 0usize..3), 2..5),
+            units in proptest::collection::vec(1u32..4, 2),
+            extra in proptest::collection::vec(0u32..4, 3),
+            packs in proptest::collection::vec((1u32..5, 1u64..400), 3),
+        ) {
+            let cands: Vec<Candidate> = raw.iter().map(|&(stage, r1, per, r2)| {
+                let mut uses = vec![(r1, per)];
+                if r2 != r1 { uses.push((r2, 1)); }
+                cand(stage, &uses, 0.0)
+            }).collect();
+            let res: Vec<Resource> = stock_counts.iter().zip(&packs)
+                .map(|(&available, &pack)| Resource { available, pack: Some(pack) })
+                .collect();
+            let demand = Demand { units, extra };
+            let want = exhaustive_cost(&demand, &cands, &res);
+            match purchase_for(&demand, &cands, &res, Limits::default()) {
+                Ok(p) => {
+                    prop_assert_eq!(Some(p.cost_cents), want);
+                    prop_assert_eq!(p.proof, Proof::Optimal);
+                    prop_assert!(p.lower_bound_cents.is_some_and(|b| b <= p.cost_cents));
+                }
+                Err(AllocateError::Infeasible(_)) => prop_assert_eq!(want, None),
+                Err(e) => prop_assert!(false, "solver error {e}"),
             }
         }
     }

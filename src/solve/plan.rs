@@ -575,10 +575,13 @@ pub struct Order {
     pub units: u32,
     /// Per stage, the designs in use after the purchase.
     pub stages: Vec<StageShare>,
-    /// (row, packs, pieces used) for each offer bought.
+    /// (row, packs, pieces used, refill included) for each offer bought.
     pub buy: Vec<(usize, u32, u64)>,
     /// Total price, cents.
     pub cost_cents: u64,
+    /// A proven lower bound on the least cost over the candidates offered, cents (equal to
+    /// `cost_cents` when proven optimal; `None` when not even the bound was reached).
+    pub lower_bound_cents: Option<u64>,
     /// Whether the integer program proved its answer optimal (over the candidates offered).
     pub proof: Proof,
     /// Per stage, what the candidate list covers.
@@ -597,6 +600,35 @@ pub fn reorder(
     count: usize,
     limits: Limits,
 ) -> Result<Order, PlanError> {
+    let want = Want {
+        stages: stages.to_vec(),
+        units: vec![units; stages.len()],
+        refill: Vec::new(),
+    };
+    reorder_for(parts, offers, &want, count, limits)
+}
+
+/// What one purchase covers: the stages of one or several plans (each with its units) and a
+/// refill of rows running low.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Want {
+    /// Every stage of every plan.
+    pub stages: Vec<PlanStage>,
+    /// Units of each stage.
+    pub units: Vec<u32>,
+    /// (offer row in the parts slice, pieces) bought besides the plans.
+    pub refill: Vec<(usize, u32)>,
+}
+
+/// [`reorder`] for a [`Want`]: one least-cost purchase for several plans and a refill.
+pub fn reorder_for(
+    parts: &[Part],
+    offers: &[Buyable],
+    want: &Want,
+    count: usize,
+    limits: Limits,
+) -> Result<Order, PlanError> {
+    let stages = &want.stages;
     let offer_rows: BTreeSet<usize> = offers.iter().map(|o| o.row).collect();
     // Each offer is its own class (it has a price); stock rows merge as in a plan.
     let cls = Classes::new(parts, &|i| if offer_rows.contains(&i) { i + 1 } else { 0 });
@@ -615,27 +647,44 @@ pub fn reorder(
             s.name
         ))));
     }
+    let class_of = |row: usize| (0..cparts.len()).find(|&c| cls.row(c) == row);
     let mut resources: Vec<Resource> = cparts.iter().map(resource_of).collect();
     for o in offers {
-        if let Some(c) = (0..cparts.len()).find(|&c| cls.row(c) == o.row) {
+        if let Some(c) = class_of(o.row) {
             resources[c] = Resource {
                 available: 0,
                 pack: Some((o.pack, o.price_cents)),
             };
         }
     }
+    let mut extra = vec![0u32; cparts.len()];
+    for &(row, n) in &want.refill {
+        match class_of(row).filter(|&c| is_offer(c)) {
+            Some(c) => extra[c] = extra[c].saturating_add(n),
+            None => {
+                return Err(PlanError::Program(AllocateError::Infeasible(format!(
+                    "refill of row {row}: it is not in the price list"
+                ))));
+            }
+        }
+    }
     let (cands, origin) = ip_candidates(&per_stage);
-    let p = allocate::purchase(stages.len(), units, &cands, &resources, limits)?;
+    let demand = allocate::Demand {
+        units: want.units.clone(),
+        extra: extra.clone(),
+    };
+    let p = allocate::purchase_for(&demand, &cands, &resources, limits)?;
     let used = allocate::usage(&cands, &p.counts, cparts.len());
     let buy = (0..cparts.len())
         .filter(|&c| is_offer(c) && p.packs[c] > 0)
-        .map(|c| (cls.row(c), p.packs[c], used[c]))
+        .map(|c| (cls.row(c), p.packs[c], used[c] + u64::from(extra[c])))
         .collect();
     Ok(Order {
-        units,
+        units: want.units.iter().copied().max().unwrap_or(0),
         stages: shares(stages, &per_stage, &origin, &p.counts, &cls),
         buy,
         cost_cents: p.cost_cents,
+        lower_bound_cents: p.lower_bound_cents,
         proof: p.proof,
         cover: stages
             .iter()

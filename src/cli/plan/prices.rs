@@ -8,7 +8,10 @@
 //! ```
 //!
 //! `price` is per pack, in the buyer's currency (two decimals; no symbol). `from`/`to` include
-//! both ends. A value offered by several rows keeps the cheapest per piece.
+//! both ends. A value offered by several rows keeps the cheapest per piece. Two optional
+//! columns: `currency` (an ISO 4217 code such as EUR; one for the whole list) and
+//! `part_number` (the supplier's number; `{value}` in it is replaced by the value, e.g.
+//! `MF1-{value}` → `MF1-4.7kΩ`).
 
 use crate::store::{Kind, Technology, Value};
 use crate::units::{self, Farads, Ohms, Tolerance, eseries, eseries::Series};
@@ -31,6 +34,123 @@ pub struct Offer {
     pub pack: u32,
     /// Price per pack in cents.
     pub price_cents: u64,
+    /// The supplier's part number, when the list has one.
+    pub part_number: Option<String>,
+}
+
+/// A price list read from its text.
+#[derive(Debug, Clone, PartialEq)]
+pub struct PriceList {
+    /// What the list is called on reports (its file name, or the sample's name).
+    pub name: String,
+    /// Whether this is the built-in invented sample.
+    pub sample: bool,
+    /// The currency code the list names, if any.
+    pub currency: Option<String>,
+    /// Every value that can be bought.
+    pub offers: Vec<Offer>,
+}
+
+/// Read a price list; `name` is how reports call it.
+pub fn read_price_list(text: &str, name: &str, sample: bool) -> Result<PriceList, PriceError> {
+    let (offers, currency) = parse_list(text, None)?;
+    Ok(PriceList {
+        name: name.to_string(),
+        sample,
+        currency,
+        offers,
+    })
+}
+
+/// The finest preferred-value series bought per kind and technology. An offer is bought only
+/// when its value is in that series or a coarser one (a cap of E96 allows E24 and E96 values).
+#[derive(Debug, Clone, Default, PartialEq, Eq)]
+pub struct BuySeries {
+    every: Option<Series>,
+    kinds: BTreeMap<Kind, Series>,
+    techs: BTreeMap<Technology, Series>,
+}
+
+impl BuySeries {
+    /// Parse `resistor=E96,capacitor=E6,film=E12` (kinds or technologies); a bare series
+    /// (`E24`) sets every kind.
+    pub fn parse(items: &[String]) -> Result<Self, PriceError> {
+        let mut out = Self::default();
+        for item in items.iter().map(|i| i.trim()).filter(|i| !i.is_empty()) {
+            let bad = |why: String| {
+                PriceError(format!(
+                    "--buy-series {}: {why}",
+                    crate::store::text::excerpt(item)
+                ))
+            };
+            match item.split_once('=') {
+                None => {
+                    out.every = Some(item.parse().map_err(|e| bad(format!("{e}")))?);
+                }
+                Some((key, series)) => {
+                    let series: Series = series.trim().parse().map_err(|e| bad(format!("{e}")))?;
+                    let key = key.trim();
+                    if let Ok(kind) = key.parse::<Kind>() {
+                        out.kinds.insert(kind, series);
+                    } else if let Ok(tech) = key.parse::<Technology>() {
+                        out.techs.insert(tech, series);
+                    } else {
+                        return Err(bad(
+                            "name a kind (resistor, capacitor) or a technology (film, electrolytic, …) before =".into(),
+                        ));
+                    }
+                }
+            }
+        }
+        Ok(out)
+    }
+
+    /// The finest series bought for an offer: the option's technology entry, then its kind
+    /// entry, then a bare series, then the usual one (`common practice`): resistors by
+    /// tolerance (E192 below 1 %, E96 at 1 %, E48 at 2 %, E24 up to 5 %, E12 above);
+    /// ceramic, film and other capacitors E12; electrolytic and tantalum E6.
+    pub fn finest(&self, kind: Kind, technology: Technology, tolerance: Tolerance) -> Series {
+        if let Some(s) = self.techs.get(&technology) {
+            return *s;
+        }
+        if let Some(s) = self.kinds.get(&kind) {
+            return *s;
+        }
+        if let Some(s) = self.every {
+            return s;
+        }
+        match kind {
+            Kind::Resistor => {
+                let pct = tolerance.widest().si() * 100.0;
+                if pct < 0.99 {
+                    Series::E192
+                } else if pct < 1.99 {
+                    Series::E96
+                } else if pct < 4.99 {
+                    Series::E48
+                } else if pct < 5.01 {
+                    Series::E24
+                } else {
+                    Series::E12
+                }
+            }
+            _ if technology.is_electrolytic() => Series::E6,
+            _ => Series::E12,
+        }
+    }
+
+    /// Whether the offer's value is in its finest series or a coarser one.
+    pub fn allows(&self, o: &Offer) -> bool {
+        let cap = self.finest(o.kind, o.technology, o.tolerance).per_decade();
+        Series::ALL
+            .iter()
+            .filter(|s| s.per_decade() <= cap)
+            .any(|s| match o.value {
+                Value::Resistance(r) => s.contains(r),
+                Value::Capacitance(c) => s.contains(c),
+                Value::None => false,
+            })
+    }
 }
 
 /// A price-list problem, naming the row and column.
@@ -63,7 +183,17 @@ fn cents(text: &str) -> Option<u64> {
 }
 
 /// Parse a price list and expand it into offers, keeping only the series in `only` when given.
+#[cfg(test)]
 pub fn parse_prices(text: &str, only: Option<&[Series]>) -> Result<Vec<Offer>, PriceError> {
+    parse_list(text, only).map(|l| l.0)
+}
+
+/// The offers and the currency the list names.
+fn parse_list(
+    text: &str,
+    only: Option<&[Series]>,
+) -> Result<(Vec<Offer>, Option<String>), PriceError> {
+    let text = text.strip_prefix('\u{feff}').unwrap_or(text);
     let mut rdr = csv::ReaderBuilder::new()
         .trim(csv::Trim::All)
         .from_reader(text.as_bytes());
@@ -83,8 +213,9 @@ pub fn parse_prices(text: &str, only: Option<&[Series]>) -> Result<Vec<Offer>, P
         "pack",
         "price",
     ];
+    const OPTIONAL: [&str; 2] = ["currency", "part_number"];
     for h in &headers {
-        if !COLUMNS.contains(&h.as_str()) {
+        if !COLUMNS.contains(&h.as_str()) && !OPTIONAL.contains(&h.as_str()) {
             return Err(PriceError(format!(
                 "price list: unknown column {h:?} (expected {})",
                 COLUMNS.join(",")
@@ -96,6 +227,9 @@ pub fn parse_prices(text: &str, only: Option<&[Series]>) -> Result<Vec<Offer>, P
         .iter()
         .map(|c| col(c).ok_or_else(|| PriceError(format!("price list: column {c:?} is missing"))))
         .collect::<Result<_, _>>()?;
+    let currency_col = col("currency");
+    let number_col = col("part_number");
+    let mut currency: Option<String> = None;
     let mut best: BTreeMap<(Kind, i64, Technology, Tolerance), Offer> = BTreeMap::new();
     for (i, rec) in rdr.records().enumerate() {
         let row = i + 1;
@@ -107,6 +241,36 @@ pub fn parse_prices(text: &str, only: Option<&[Series]>) -> Result<Vec<Offer>, P
                 COLUMNS[c]
             ))
         };
+        if let Some(c) = currency_col {
+            let code = rec.get(c).unwrap_or("").trim().to_ascii_uppercase();
+            if !code.is_empty() {
+                if code.len() != 3 || !code.chars().all(|ch| ch.is_ascii_uppercase()) {
+                    return Err(PriceError(format!(
+                        "price list row {row}, column currency: {} is not a three-letter code such as EUR",
+                        crate::store::text::excerpt(&code)
+                    )));
+                }
+                match &currency {
+                    Some(c) if *c != code => {
+                        return Err(PriceError(format!(
+                            "price list row {row}, column currency: {code} after {c} (one currency per list)"
+                        )));
+                    }
+                    _ => currency = Some(code),
+                }
+            }
+        }
+        let number = number_col
+            .and_then(|c| rec.get(c))
+            .map(str::trim)
+            .filter(|t| !t.is_empty())
+            .map(str::to_string);
+        if let Some(n) = &number {
+            crate::store::text::check_field("part_number", n, crate::store::text::MAX_NAME)
+                .map_err(|e| {
+                    PriceError(format!("price list row {row}, column part_number: {e}"))
+                })?;
+        }
         let kind: Kind = cell(0)
             .parse()
             .map_err(|e: crate::store::part::UnknownName| bad(0, e.to_string()))?;
@@ -183,6 +347,12 @@ pub fn parse_prices(text: &str, only: Option<&[Series]>) -> Result<Vec<Offer>, P
                 series,
                 pack,
                 price_cents: price,
+                part_number: number.as_ref().map(|n| {
+                    n.replace(
+                        "{value}",
+                        &crate::store::text::value_text(value).replace(' ', ""),
+                    )
+                }),
             };
             let cheaper = |o: &Offer| {
                 u128::from(price) * u128::from(o.pack)
@@ -196,7 +366,7 @@ pub fn parse_prices(text: &str, only: Option<&[Series]>) -> Result<Vec<Offer>, P
             }
         }
     }
-    Ok(best.into_values().collect())
+    Ok((best.into_values().collect(), currency))
 }
 
 fn value_base(v: Value) -> i64 {

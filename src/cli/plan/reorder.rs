@@ -1,18 +1,17 @@
-//! `onhand reorder`: what to buy so the stock can build a plan (least cost), or what is running
-//! low. The plan half (loading the plan, the stages, the limits) is shared with `onhand plan`
+//! `onhand reorder`: one priced buyer's list (least cost) for one or several plans and the
+//! low-stock refill. Converts arguments, runs the purchase program, hands the answer to
+//! `report::reorder`. The plan half (loading the plan, the stages, the limits) is shared with `onhand plan`
 //! through the parent module.
 
-use super::{
-    PlanSource, PlanSpec, StageCount, claim_text, limits, load_plan, prices, stage_plan, unit_span,
-};
+use super::{PlanSource, PlanSpec, StageCount, claim_text, limits, load_plan, prices, stage_plan};
 use crate::cli::find::load_stock;
 use crate::cli::{Context, Status};
-use crate::report::find::{describe_goal, write_design};
-use crate::solve::plan::{self, Buyable, Order, PlanStage};
+use crate::report::find::describe_goal;
+use crate::report::reorder as report;
+use crate::solve::allocate::Proof;
+use crate::solve::plan::{self, Buyable, PlanStage};
 use crate::store::{Part, Value};
-use crate::units::eseries::Series;
 use anyhow::{Context as _, Result, anyhow, bail};
-use serde::Serialize;
 use std::io::Write;
 use std::path::{Path, PathBuf};
 
@@ -21,33 +20,57 @@ const SAMPLE_PRICES: &str = include_str!("../../../sample-stock/prices.csv");
 
 pub(super) const REORDER_EXAMPLES: &str = "\
 Examples:
-  onhand reorder sample-stock/blinker-kit.toml           what to buy to build the whole plan
-  onhand reorder kit.toml --buy E24 --csv order.csv      only E24 offers; a spreadsheet list
-  onhand reorder kit.toml --prices my-supplier.csv
-  onhand reorder --low                                   rows at or below their low-stock level
+  onhand reorder sample-stock/blinker-kit.toml            what to buy to build the whole plan
+  onhand reorder kit.toml clock.toml --low                two plans and the low-stock refill, one list
+  onhand reorder --low --prices my-supplier.csv           the low-stock refill, priced in packs
+  onhand reorder kit.toml --buy-series resistor=E96,capacitor=E6 --csv order.csv
 
-The price list is CSV: kind,series,technology,tolerance,from,to,pack,price (price per pack);
-every preferred value of the series in [from, to] can be bought. Without --prices a built-in,
-invented sample list is used. CSV output neutralises cells a spreadsheet would run as formulas.";
+The price list is CSV: kind,series,technology,tolerance,from,to,pack,price (price per pack),
+optionally currency (ISO 4217 code) and part_number (`{value}` is replaced by the value).
+Every preferred value of the series in [from, to] can be bought. Without --prices a built-in,
+INVENTED sample list is used (currency XTS, the ISO 4217 code for testing) and every report
+says so. Values are bought only from the series each kind is sold in (common practice):
+resistors E24 at 5 %, E48 at 2 %, E96 at 1 %, E192 below; ceramic and film capacitors E12;
+electrolytic and tantalum E6. --buy-series changes that per kind or technology.
+The CSV starts with a UTF-8 byte-order mark so spreadsheets show µ and Ω (--no-bom leaves it
+out) and neutralises cells a spreadsheet would run as formulas.
+Exit 1 when the time limit stopped the purchase program before it proved the least cost (the
+report prints the gap to the proven bound).";
 
 /// Arguments of `reorder`.
 #[derive(Debug, clap::Args)]
 pub struct ReorderArgs {
     #[command(flatten)]
     pub(super) source: PlanSource,
-    /// Price list (CSV). Default: the built-in invented sample.
+    /// More plan files, covered by the same list.
+    #[arg(value_name = "MORE", conflicts_with = "stages")]
+    more: Vec<PathBuf>,
+    /// Price list (CSV). Default: the built-in invented sample (announced on every report).
     #[arg(long, value_name = "FILE")]
     prices: Option<PathBuf>,
-    /// Only buy from these series (comma separated, e.g. E24,E96). Default: every row.
-    #[arg(long, value_delimiter = ',', value_name = "SERIES")]
+    /// Finest series bought, per kind or technology (resistor=E96,capacitor=E6,film=E12; a
+    /// bare series sets every kind). Default: the series each kind is sold in.
+    #[arg(
+        long = "buy-series",
+        alias = "buy",
+        value_delimiter = ',',
+        value_name = "KIND=SERIES"
+    )]
     buy: Vec<String>,
     /// Also write the list as CSV for a spreadsheet.
     #[arg(long, value_name = "FILE")]
     csv: Option<PathBuf>,
-    /// List the rows at or below their low-stock level instead of planning a purchase.
+    /// Leave the UTF-8 byte-order mark out of the CSV.
+    #[arg(long)]
+    no_bom: bool,
+    /// Add the low-stock refill (rows at or below their low-stock level, back to twice it) to
+    /// the list; alone, the refill only.
     #[arg(long)]
     low: bool,
 }
+
+/// The invented sample price list's name on reports.
+const SAMPLE_NAME: &str = "built-in sample price list";
 
 /// The price list's offers as extra part rows (ids below zero, bin "new (to buy)") with their packs.
 fn offers_as_parts(
@@ -90,10 +113,16 @@ fn offers_as_parts(
 fn write_safe_csv(
     ctx: &Context,
     path: &Path,
+    bom: bool,
     header: &[&str],
     rows: impl Iterator<Item = Vec<String>>,
 ) -> Result<()> {
-    let mut w = csv::Writer::from_writer(Vec::new());
+    let start: Vec<u8> = if bom {
+        "\u{feff}".as_bytes().to_vec()
+    } else {
+        Vec::new()
+    };
+    let mut w = csv::Writer::from_writer(start);
     w.write_record(header)?;
     for cells in rows {
         w.write_record(cells.iter().map(|c| crate::store::neutralise_cell(c)))?;
@@ -104,68 +133,180 @@ fn write_safe_csv(
     ctx.files().write(path, &bytes)
 }
 
-fn money(cents: u64) -> String {
-    format!("{}.{:02}", cents / 100, cents % 100)
-}
-
 fn value_text(v: Value) -> String {
     crate::store::text::value_text(v)
 }
 
+/// Pieces that bring a low row back to twice its low-stock level (our default), or none.
+fn refill_of(p: &Part) -> Option<u64> {
+    let l = p.low_stock.filter(|&l| p.quantity <= l)?;
+    u64::try_from((2 * l.max(1) - p.quantity).max(1)).ok()
+}
+
+/// The cheapest per piece of the offers that can refill a row: same kind, value and
+/// technology, tolerance no wider.
+fn offer_for(p: &Part, offers: &[prices::Offer]) -> Option<usize> {
+    offers
+        .iter()
+        .enumerate()
+        .filter(|(_, o)| {
+            o.kind == p.kind
+                && o.value == p.value
+                && o.technology == p.technology
+                && o.tolerance.widest() <= p.tolerance.widest()
+        })
+        .min_by(|(_, a), (_, b)| {
+            (u128::from(a.price_cents) * u128::from(b.pack))
+                .cmp(&(u128::from(b.price_cents) * u128::from(a.pack)))
+        })
+        .map(|(i, _)| i)
+}
+
+/// The price list: read from --prices, or the sample.
+fn price_list(args: &ReorderArgs) -> Result<prices::PriceList> {
+    match &args.prices {
+        Some(p) => {
+            let text = std::fs::read_to_string(p)
+                .with_context(|| format!("reading price list {}", p.display()))?;
+            let name = p.file_name().map_or_else(
+                || p.display().to_string(),
+                |n| n.to_string_lossy().into_owned(),
+            );
+            Ok(prices::read_price_list(&text, &name, false)
+                .with_context(|| format!("price list {}", p.display()))?)
+        }
+        None => Ok(prices::read_price_list(SAMPLE_PRICES, SAMPLE_NAME, true)?),
+    }
+}
+
+/// The plans named: the first from the shared source, then every further file.
+fn plans(args: &ReorderArgs) -> Result<Vec<PlanSpec>> {
+    if args.low && args.source.file.is_none() && args.source.stages.is_empty() {
+        if !args.more.is_empty() {
+            bail!("give the first plan file before the others");
+        }
+        return Ok(Vec::new());
+    }
+    let mut out = vec![load_plan(&args.source)?];
+    for f in &args.more {
+        let text = std::fs::read_to_string(f)
+            .with_context(|| format!("reading plan file {}", f.display()))?;
+        let mut spec =
+            super::file::parse_plan(&text).with_context(|| format!("plan file {}", f.display()))?;
+        if let Some(u) = args.source.units {
+            spec.units = u;
+        }
+        out.push(spec);
+    }
+    Ok(out)
+}
+
+/// The stock, with the pieces each named plan already holds counted as free to the list.
+fn stock(ctx: &Context, args: &ReorderArgs, specs: &[PlanSpec]) -> Result<Vec<Part>> {
+    let src = args.source.stock.as_deref();
+    let mut parts = load_stock(ctx, src)?;
+    let base: Vec<i64> = parts.iter().map(|p| p.held).collect();
+    for spec in specs {
+        let freed = super::super::holds::stock_for_plan(ctx, src, &spec.name)?;
+        for (p, (f, b)) in parts.iter_mut().zip(freed.iter().zip(&base)) {
+            if p.id == f.id {
+                p.held -= b - f.held;
+            }
+        }
+    }
+    Ok(parts)
+}
+
 pub(super) fn run_reorder(args: ReorderArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status> {
-    if args.low {
-        return low_list(&args, ctx, out);
-    }
-    let spec = load_plan(&args.source)?;
-    let stages: Vec<PlanStage> = spec
-        .stages
+    let specs = plans(&args)?;
+    let list = price_list(&args)?;
+    let series = prices::BuySeries::parse(&args.buy).map_err(|e| anyhow!(e))?;
+    let offers: Vec<prices::Offer> = list
+        .offers
         .iter()
-        .map(|s| stage_plan(&spec, s))
-        .collect::<Result<_>>()?;
-    let price_text = match &args.prices {
-        Some(p) => std::fs::read_to_string(p)
-            .with_context(|| format!("reading price list {}", p.display()))?,
-        None => SAMPLE_PRICES.to_string(),
-    };
-    let only: Vec<Series> = args
-        .buy
-        .iter()
-        .map(|s| s.parse::<Series>().map_err(|e| anyhow!("--buy {s:?}: {e}")))
-        .collect::<Result<_>>()?;
-    let offers = prices::parse_prices(&price_text, (!only.is_empty()).then_some(only.as_slice()))?;
+        .filter(|o| series.allows(o))
+        .cloned()
+        .collect();
     if offers.is_empty() {
-        bail!("the price list offers nothing (check --buy)");
+        bail!("the price list offers nothing in the series bought (check --buy-series)");
     }
-    let mut parts =
-        super::super::holds::stock_for_plan(ctx, args.source.stock.as_deref(), &spec.name)?;
+    if list.sample {
+        eprintln!(
+            "warning: no --prices given; the list is priced from the INVENTED sample price list (currency XTS, for testing)"
+        );
+    }
+    // Stages of every plan, named "plan: stage" when several plans share the list.
+    let mut stages: Vec<PlanStage> = Vec::new();
+    let mut stage_units: Vec<u32> = Vec::new();
+    let mut of_plan: Vec<usize> = Vec::new();
+    for (k, spec) in specs.iter().enumerate() {
+        for st in &spec.stages {
+            let mut s = stage_plan(spec, st)?;
+            if specs.len() > 1 {
+                s.name = format!("{}: {}", spec.name, s.name);
+            }
+            stages.push(s);
+            stage_units.push(spec.units);
+            of_plan.push(k);
+        }
+    }
+    let mut parts = stock(ctx, &args, &specs)?;
     let stock_rows = parts.len();
-    let (extra, buyable) = offers_as_parts(&offers, stock_rows, spec.units);
+    let most_units = specs.iter().map(|s| s.units).max().unwrap_or(1);
+    let (extra, buyable) = offers_as_parts(&offers, stock_rows, most_units);
     parts.extend(extra);
+    // The refill: each low row bought from the cheapest matching offer, or listed unpriced.
+    let mut refill: Vec<(usize, u32)> = Vec::new();
+    let mut refill_of_row: Vec<(usize, i64, u64)> = Vec::new();
+    let mut unpriced = Vec::new();
+    if args.low {
+        for p in &parts[..stock_rows] {
+            let Some(n) = refill_of(p) else { continue };
+            match offer_for(p, &offers) {
+                Some(i) => {
+                    refill.push((stock_rows + i, u32::try_from(n).unwrap_or(u32::MAX)));
+                    refill_of_row.push((stock_rows + i, p.id, n));
+                }
+                None => unpriced.push(report::Unpriced {
+                    part_id: p.id,
+                    part: p.label(),
+                    pieces: n,
+                }),
+            }
+        }
+    }
     let lim = limits(&args.source)?;
-    let order = plan::reorder(
-        &parts,
-        &buyable,
-        &stages,
-        spec.units,
-        args.source.candidates,
-        lim,
-    )
-    .context("choosing the purchase")?;
+    let want = plan::Want {
+        stages: stages.clone(),
+        units: stage_units.clone(),
+        refill,
+    };
+    let order = plan::reorder_for(&parts, &buyable, &want, args.source.candidates, lim)
+        .context("choosing the purchase")?;
     let stock_only: Vec<Part> = parts[..stock_rows].to_vec();
-    let before = plan::buildable(
-        &stock_only,
-        &stages,
-        spec.units,
-        args.source.candidates,
-        lim,
-    )
-    .context("planning with the stock alone")?;
-    let lines: Vec<OrderLine> = order
+    let mut plan_lines = Vec::new();
+    for (k, spec) in specs.iter().enumerate() {
+        let own: Vec<PlanStage> = stages
+            .iter()
+            .zip(&of_plan)
+            .filter(|(_, p)| **p == k)
+            .map(|(s, _)| s.clone())
+            .collect();
+        // Only for the report: a time limit that stops it does not stop the list.
+        let before =
+            plan::buildable(&stock_only, &own, spec.units, args.source.candidates, lim).ok();
+        plan_lines.push(report::PlanLine {
+            name: spec.name.clone(),
+            units: spec.units,
+            stock_alone_builds: before.map(|b| b.built),
+        });
+    }
+    let lines: Vec<report::BuyLine> = order
         .buy
         .iter()
         .map(|&(row, packs, used)| {
             let o = &offers[row - stock_rows];
-            let serves: Vec<String> = order
+            let mut serves: Vec<String> = order
                 .stages
                 .iter()
                 .filter(|s| {
@@ -175,264 +316,112 @@ pub(super) fn run_reorder(args: ReorderArgs, ctx: &Context, out: &mut dyn Write)
                 })
                 .map(|s| s.name.clone())
                 .collect();
-            OrderLine {
+            let mut refill_pieces = 0;
+            for &(r, id, n) in &refill_of_row {
+                if r == row {
+                    serves.push(format!("refill #{id}"));
+                    refill_pieces += n;
+                }
+            }
+            let (value_base, base_unit) = report::base_value(o.value);
+            report::BuyLine {
                 kind: o.kind.as_str(),
                 value: value_text(o.value),
+                value_base,
+                base_unit,
                 tolerance: crate::store::text::tolerance_text(o.tolerance),
-                technology: o.technology.as_str(),
+                technology: report::buyer_technology(o.technology),
                 series: format!("{:?}", o.series),
+                part_number: o.part_number.clone(),
                 packs,
                 pack_size: o.pack,
                 pieces_needed: used,
-                price_per_pack: money(o.price_cents),
-                cost: money(o.price_cents.saturating_mul(u64::from(packs))),
+                refill_pieces,
+                price_per_pack_cents: o.price_cents,
+                cost_cents: o.price_cents.saturating_mul(u64::from(packs)),
                 serves: serves.join("; "),
             }
         })
         .collect();
+    let buyers = report::BuyersList {
+        prices: report::PriceSource {
+            name: list.name.clone(),
+            sample: list.sample,
+            currency: list.currency.clone(),
+        },
+        plans: plan_lines,
+        refill: args.low,
+        lines,
+        unpriced,
+        total_cents: order.cost_cents,
+        quality: report::Quality {
+            proven: order.proof == Proof::Optimal,
+            lower_bound_cents: order.lower_bound_cents,
+        },
+    };
     if let Some(path) = &args.csv {
-        let rows = lines.iter().map(|l| {
-            vec![
-                l.kind.to_string(),
-                l.value.clone(),
-                l.tolerance.clone(),
-                l.technology.to_string(),
-                l.series.clone(),
-                l.packs.to_string(),
-                l.pack_size.to_string(),
-                l.pieces_needed.to_string(),
-                l.price_per_pack.clone(),
-                l.cost.clone(),
-                l.serves.clone(),
-            ]
-        });
         write_safe_csv(
             ctx,
             path,
-            &[
-                "kind",
-                "value",
-                "tolerance",
-                "technology",
-                "series",
-                "packs",
-                "pack_size",
-                "pieces_needed",
-                "price_per_pack",
-                "cost",
-                "serves",
-            ],
-            rows,
+            !args.no_bom,
+            &report::CSV_HEADER,
+            report::csv_rows(&buyers).into_iter(),
         )?;
     }
     if ctx.json {
         let j = serde_json::json!({
-            "plan": spec.name,
-            "units": spec.units,
-            "stock_alone_builds": before.built,
-            "buy": lines,
-            "total": money(order.cost_cents),
-            "total_cents": order.cost_cents,
+            "schema": crate::report::style::JSON_SCHEMA,
+            "price_list": buyers.prices,
+            "plans": buyers.plans,
+            "stock_alone_builds": buyers.plans.first().and_then(|p| p.stock_alone_builds),
+            "refill": buyers.refill,
+            "buy": buyers.lines,
+            "unpriced": buyers.unpriced,
+            "total": report::money(buyers.total_cents),
+            "total_cents": buyers.total_cents,
+            "currency": buyers.prices.currency,
             "proof": order.proof,
+            "lower_bound_cents": buyers.quality.lower_bound_cents,
+            "gap_cents": buyers.gap_cents(),
+            "cover": order.cover,
             "integer_program": order.size,
             "csv": args.csv,
         });
         writeln!(out, "{j}")?;
     } else {
-        write_order(
-            out,
-            &spec,
-            &stages,
-            &parts,
-            &order,
-            &lines,
-            before.built,
-            args.csv.as_ref(),
-        )?;
-    }
-    Ok(Status::Success)
-}
-
-/// One line of a purchase list.
-#[derive(Debug, Serialize)]
-struct OrderLine {
-    kind: &'static str,
-    value: String,
-    tolerance: String,
-    technology: &'static str,
-    series: String,
-    packs: u32,
-    pack_size: u32,
-    pieces_needed: u64,
-    price_per_pack: String,
-    cost: String,
-    serves: String,
-}
-
-#[allow(clippy::too_many_arguments)]
-fn write_order(
-    out: &mut dyn Write,
-    spec: &PlanSpec,
-    stages: &[PlanStage],
-    parts: &[Part],
-    order: &Order,
-    lines: &[OrderLine],
-    stock_builds: u32,
-    csv: Option<&PathBuf>,
-) -> Result<()> {
-    writeln!(
-        out,
-        "Reorder for plan {:?}: {} units",
-        spec.name, spec.units
-    )?;
-    writeln!(
-        out,
-        "The stock alone builds {stock_builds} of {} units.",
-        spec.units
-    )?;
-    if lines.is_empty() {
-        writeln!(out, "Nothing to buy: the stock builds every unit.")?;
-        return Ok(());
-    }
-    writeln!(out)?;
-    let mut t = comfy_table::Table::new();
-    t.load_style(comfy_table::presets::UTF8_FULL_CONDENSED);
-    t.set_header([
-        "value",
-        "tolerance",
-        "technology",
-        "series",
-        "packs",
-        "needed",
-        "per pack",
-        "cost",
-        "for",
-    ]);
-    for l in lines {
-        t.add_row([
-            l.value.clone(),
-            l.tolerance.clone(),
-            l.technology.replace('_', " "),
-            l.series.clone(),
-            format!("{} × {}", l.packs, l.pack_size),
-            l.pieces_needed.to_string(),
-            l.price_per_pack.clone(),
-            l.cost.clone(),
-            l.serves.clone(),
-        ]);
-    }
-    writeln!(out, "{t}")?;
-    writeln!(
-        out,
-        "Total {} ({}; integer program of {} variables and {} constraints).",
-        money(order.cost_cents),
-        claim_text(order.proof, &order.cover, None, "least cost"),
-        order.size.variables,
-        order.size.constraints
-    )?;
-    if let Some(p) = csv {
-        writeln!(out, "Written as CSV to {}", p.display())?;
-    }
-    writeln!(out)?;
-    writeln!(out, "With the purchase, every unit is built like this:")?;
-    for (share, st) in order.stages.iter().zip(stages) {
-        writeln!(out)?;
-        writeln!(
-            out,
-            "Stage {:?} — {}",
-            share.name,
-            describe_goal(&st.goal, &st.settings)
-        )?;
-        let mut first = 1;
-        for (d, n) in &share.uses {
-            writeln!(out, "  {}:", unit_span(first, *n))?;
-            write_design(out, parts, d, st.goal_stages())?;
-            first += n;
+        write!(out, "{}", report::list_text(&buyers, ctx.style))?;
+        if !stages.is_empty() {
+            writeln!(
+                out,
+                "{} (integer program of {} variables and {} constraints).",
+                claim_text(order.proof, &order.cover, None, "least cost"),
+                order.size.variables,
+                order.size.constraints
+            )?;
         }
-    }
-    Ok(())
-}
-
-fn low_list(args: &ReorderArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status> {
-    let parts = load_stock(ctx, args.source.stock.as_deref())?;
-    let low: Vec<&Part> = parts
-        .iter()
-        .filter(|p| p.low_stock.is_some_and(|l| p.quantity <= l))
-        .collect();
-    // Suggested order: enough to bring the row back to twice its low-stock level (our default).
-    let suggest = |p: &Part| {
-        p.low_stock
-            .map_or(0, |l| (2 * l.max(1) - p.quantity).max(1))
-    };
-    if let Some(path) = &args.csv {
-        let rows = low.iter().map(|p| {
-            vec![
-                p.id.to_string(),
-                p.kind.as_str().to_string(),
-                value_text(p.value),
-                crate::store::text::tolerance_text(p.tolerance),
-                p.technology.as_str().to_string(),
-                p.bin.clone(),
-                p.quantity.to_string(),
-                p.held.to_string(),
-                p.low_stock.map(|l| l.to_string()).unwrap_or_default(),
-                suggest(p).to_string(),
-                p.note.clone(),
-            ]
-        });
-        write_safe_csv(
-            ctx,
-            path,
-            &[
-                "id",
-                "kind",
-                "value",
-                "tolerance",
-                "technology",
-                "bin",
-                "quantity",
-                "held",
-                "low",
-                "suggest",
-                "note",
-            ],
-            rows,
-        )?;
-    }
-    if ctx.json {
-        let j: Vec<serde_json::Value> = low
-            .iter()
-            .map(|p| serde_json::json!({"part_id": p.id, "part": p.label(), "bin": p.bin, "quantity": p.quantity, "held": p.held, "low": p.low_stock, "suggest": suggest(p)}))
-            .collect();
-        writeln!(out, "{}", serde_json::Value::Array(j))?;
-    } else if low.is_empty() {
-        writeln!(out, "No row is at or below its low-stock level.")?;
-    } else {
-        let mut t = comfy_table::Table::new();
-        t.load_style(comfy_table::presets::UTF8_FULL_CONDENSED);
-        t.set_header(["#", "part", "bin", "on shelf", "held", "low at", "suggest"]);
-        for p in &low {
-            t.add_row([
-                p.id.to_string(),
-                p.label(),
-                p.bin.clone(),
-                p.quantity.to_string(),
-                p.held.to_string(),
-                p.low_stock.map(|l| l.to_string()).unwrap_or_default(),
-                suggest(p).to_string(),
-            ]);
-        }
-        writeln!(out, "{t}")?;
-        writeln!(
-            out,
-            "{} rows are low; \"suggest\" brings each back to twice its low-stock level.",
-            low.len()
-        )?;
+        writeln!(out, "{}", report::quality_text(&buyers))?;
         if let Some(p) = &args.csv {
             writeln!(out, "Written as CSV to {}", p.display())?;
         }
+        let shown: Vec<(&plan::StageShare, String, usize)> = order
+            .stages
+            .iter()
+            .zip(&stages)
+            .map(|(share, st)| {
+                (
+                    share,
+                    describe_goal(&st.goal, &st.settings),
+                    st.goal_stages(),
+                )
+            })
+            .collect();
+        write!(out, "{}", report::designs_text(&parts, &shown))?;
     }
-    Ok(Status::Success)
+    Ok(if order.proof == Proof::Optimal {
+        Status::Success
+    } else {
+        Status::NotMet
+    })
 }
 
 #[cfg(test)]
