@@ -58,7 +58,11 @@ fn bin_label(p: &Part) -> String {
 }
 
 pub(crate) fn describe_goal(goal: &Goal, s: &Settings) -> String {
-    let t = |x: f64| format_sig(x, 4, "s");
+    // Long times in the units people use (1 h, 90 min), never 3.6 ks.
+    let t = |x: f64| {
+        crate::units::Seconds::from_si(x)
+            .map_or_else(|| format_sig(x, 4, "s"), |s| crate::units::time_text(s, 4))
+    };
     let f = |x: f64| format_sig(1.0 / x, 4, "Hz");
     let stage = |g: &StageGoal| match *g {
         StageGoal::Pulse { width } => format!("one-shot of {}", t(width)),

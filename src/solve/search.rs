@@ -186,7 +186,12 @@ pub fn stock_out_of_reach(parts: &[Part], goal: &Goal, s: &Settings) -> Option<S
     let (r_min, c_min) = (inv_sum(&bottom(&rs)), inv_sum(&bottom(&cs)));
     let ohms = |x: f64| crate::units::format_sig(x, 3, "Ω");
     let farads = |x: f64| crate::units::format_sig(x, 3, "F");
-    let secs = |x: f64| crate::units::format_sig(x, 3, "s");
+    let secs = |x: f64| {
+        crate::units::Seconds::from_si(x).map_or_else(
+            || crate::units::format_sig(x, 3, "s"),
+            |t| crate::units::time_text(t, 3),
+        )
+    };
     stages.iter().find_map(|g| {
         let (f, _) = stage_factors(g, s).ok()?;
         // The time targeted and its factor per R×C; the astable's two resistors each lie in

@@ -9,9 +9,7 @@ use crate::report::pictures::waveform::Waveform;
 use crate::solve::{Duty, Goal, Outcome, Rank, Settings, StageGoal, family_by_name, solve};
 use crate::store::{Part, Technology};
 use crate::timing::Conditions;
-use crate::units::{
-    Farads, Ohms, parse_frequency, parse_ratio, parse_time, parse_tolerance, parse_voltage,
-};
+use crate::units::{Farads, Ohms, parse_frequency, parse_time, parse_tolerance, parse_voltage};
 use serde::{Deserialize, Serialize};
 use std::time::Duration;
 
@@ -97,24 +95,15 @@ fn time(what: &str, s: &str) -> Result<f64, WebError> {
     }
 }
 
+/// A duty target in the one grammar every command shares (`model::parse_duty`).
 fn duty(s: &str) -> Result<Duty, WebError> {
     let t = s.trim();
     if t.is_empty() {
         return Ok(Duty::Any);
     }
-    let ratio =
-        |x: &str| -> Result<f64, WebError> { Ok(parse_ratio(x).map_err(|e| bad("duty", e))?.si()) };
-    Ok(match t.split_once("..") {
-        Some((a, b)) => {
-            let a = if b.trim().ends_with('%') && !a.trim().ends_with('%') {
-                format!("{a}%")
-            } else {
-                a.to_string()
-            };
-            Duty::Range(ratio(&a)?, ratio(b)?)
-        }
-        None => Duty::Point(ratio(t)?),
-    })
+    let w = crate::model::parse_duty(t).map_err(|e| WebError::BadInput(e.to_string()))?;
+    let (lo, hi) = w.si();
+    Ok(Duty::Range(lo, hi))
 }
 
 /// The goal and settings a form stands for, with `onhand find`'s defaults (1 %, 9 V, bipolar,

@@ -443,6 +443,7 @@ fn run_plan(args: PlanArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status
             designs: Vec<JUse<'a>>,
         }
         let j = serde_json::json!({
+            "schema": crate::report::style::JSON_SCHEMA,
             "plan": spec.name,
             "wanted": answer.wanted,
             "built": answer.built,
