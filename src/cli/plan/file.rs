@@ -438,7 +438,7 @@ value = "4k7"
             ),
             (
                 "name = \"x\"\n[[stage]]\nform = \"astable\"\nperiod = \"1ms\"\nduty = \"70%..55%\"\n",
-                "low end first",
+                "the low end comes first",
             ),
         ] {
             let e = parse_plan(text).expect_err(text);
