@@ -1593,3 +1593,49 @@ async fn a_plan_file_is_refused_without_the_token_a_login_or_a_readable_file() {
     assert_eq!(page.status, StatusCode::OK);
     assert!(page.body.contains(&s.csrf), "{}", page.body);
 }
+
+#[tokio::test]
+async fn the_api_takes_the_plan_file_as_its_body_counts_and_holds() {
+    let (site, s) = cabinet_site().await;
+    let kit = repo_path("sample-stock/blinker-kit.toml");
+    let text = std::fs::read_to_string(&kit).expect("kit");
+    let post = |path: &str, body: &str, csrf: bool| {
+        let mut b = Request::post(path)
+            .header(header::CONTENT_TYPE, "application/toml")
+            .header(header::COOKIE, &s.cookie);
+        if csrf {
+            b = b.header("x-csrf-token", &s.csrf);
+        }
+        b.body(Body::from(body.to_string())).expect("req")
+    };
+    let no = site.send(post("/api/plans?hold=1", &text, false)).await;
+    assert_eq!(no.status, StatusCode::FORBIDDEN, "{}", no.body);
+    let bad = site
+        .send(post("/api/plans?hold=1", "units = [", true))
+        .await;
+    assert_eq!(bad.status, StatusCode::BAD_REQUEST, "{}", bad.body);
+    assert!(bad.json()["error"].as_str().is_some(), "{}", bad.body);
+    let odd = site.send(post("/api/plans?units=two", &text, true)).await;
+    assert_eq!(odd.status, StatusCode::BAD_REQUEST, "{}", odd.body);
+    assert!(
+        site.store()
+            .holds(&Default::default())
+            .expect("holds")
+            .is_empty()
+    );
+    // The count agrees with `onhand plan --units 3` on the same database.
+    let cli = cli_plan(&site, &kit, Some("3"));
+    let a = site
+        .send(post("/api/plans?units=3&hold=1", &text, true))
+        .await;
+    assert_eq!(a.status, StatusCode::OK, "{}", a.body);
+    let j = a.json();
+    assert_eq!(j["built"], cli["built"], "{j}");
+    assert_eq!(j["wanted"], 3, "{j}");
+    assert_eq!(j["held"]["plan"], "blinker kit", "{j}");
+    let holds = site.store().holds(&Default::default()).expect("holds");
+    let mut units: Vec<&str> = holds.iter().map(|h| h.member.as_str()).collect();
+    units.dedup();
+    assert_eq!(units, ["unit 1", "unit 2", "unit 3"]);
+    assert!(holds.iter().all(|h| h.who == "alice"), "{holds:?}");
+}
