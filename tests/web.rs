@@ -1408,3 +1408,234 @@ async fn built_in_tls_serves_https_and_marks_the_session_cookie_secure() {
         .expect("joined")
         .expect("served");
 }
+
+/// The built count of `onhand --json plan KIT [--units N]` on the site's own database (the
+/// command line's plan computation, which the page must agree with).
+fn cli_plan(site: &Site, kit: &std::path::Path, units: Option<&str>) -> serde_json::Value {
+    let mut cmd = onhand();
+    cmd.arg("--db")
+        .arg(site.db())
+        .args(["--json", "plan"])
+        .arg(kit);
+    if let Some(u) = units {
+        cmd.args(["--units", u]);
+    }
+    let run = crate::util::Run::from(cmd);
+    serde_json::from_str(&run.stdout).unwrap_or_else(|e| panic!("{e}: {}", run.stderr))
+}
+
+#[tokio::test]
+async fn a_plan_file_is_counted_and_held_unit_by_unit_by_the_member_who_posts_it() {
+    let (site, s) = cabinet_site().await;
+    let kit = repo_path("sample-stock/blinker-kit.toml");
+    let text = std::fs::read_to_string(&kit).expect("kit");
+    // The count the command line gives on the same stock (tests/plan.rs: all 25 kits).
+    let cli = cli_plan(&site, &kit, None);
+    let built = cli["built"].as_u64().expect("built");
+    let a = site
+        .form("/plan", Some(&s), &[("plan", &text)], Some(&s.csrf))
+        .await;
+    assert_eq!(a.status, StatusCode::OK, "{}", a.body);
+    let want = format!("The stock builds <strong>{built}</strong> of 25 units of plan blinker kit");
+    assert!(a.body.contains(&want), "{}", a.body);
+    assert!(a.body.contains("id=\"plan-takes\""), "{}", a.body);
+    assert!(
+        site.store()
+            .holds(&Default::default())
+            .expect("holds")
+            .is_empty()
+    );
+    // The command line says what two units take; the page holds exactly that.
+    let two = cli_plan(&site, &kit, Some("2"));
+    let pieces: u64 = two["takes"]
+        .as_array()
+        .expect("takes")
+        .iter()
+        .map(|t| t["pieces"].as_u64().expect("pieces"))
+        .sum();
+    let h = site
+        .form(
+            "/plan",
+            Some(&s),
+            &[("plan", &text), ("units", "2"), ("hold", "1")],
+            Some(&s.csrf),
+        )
+        .await;
+    assert_eq!(h.status, StatusCode::SEE_OTHER, "{}", h.body);
+    assert!(h.location().starts_with("/holds?done="), "{}", h.location());
+    let holds = site
+        .store()
+        .holds(&onhand::store::HoldFilter {
+            plan: Some("blinker kit".into()),
+            ..Default::default()
+        })
+        .expect("holds");
+    let mut members: Vec<&str> = holds.iter().map(|h| h.member.as_str()).collect();
+    members.dedup();
+    assert_eq!(members, ["unit 1", "unit 2"]);
+    assert!(holds.iter().all(|h| h.who == "alice"), "{holds:?}");
+    let held: i64 = holds.iter().map(|h| h.quantity).sum();
+    assert_eq!(u64::try_from(held).expect("held"), pieces);
+    let log = site
+        .store()
+        .log(&onhand::store::LogFilter {
+            plan: Some("blinker kit".into()),
+            ..Default::default()
+        })
+        .expect("log");
+    assert!(!log.is_empty());
+    assert!(log.iter().all(|l| l.entry.who == "alice"), "{log:?}");
+    // Holding again holds nothing more (the plan's own holds count as its stock).
+    site.form(
+        "/plan",
+        Some(&s),
+        &[("plan", &text), ("units", "2"), ("hold", "1")],
+        Some(&s.csrf),
+    )
+    .await;
+    let again: i64 = site
+        .store()
+        .holds(&Default::default())
+        .expect("holds")
+        .iter()
+        .map(|h| h.quantity)
+        .sum();
+    assert_eq!(again, held);
+    // "My holds" shows the units, and each is used or released on its own.
+    let page = site.get("/holds", Some(&s)).await;
+    assert!(page.body.contains("blinker kit · unit 1"), "{}", page.body);
+    assert!(page.body.contains("blinker kit · unit 2"), "{}", page.body);
+    let one: i64 = holds
+        .iter()
+        .filter(|h| h.member == "unit 1")
+        .map(|h| h.quantity)
+        .sum();
+    let used = site
+        .form(
+            "/holds/use",
+            Some(&s),
+            &[("plan", "blinker kit"), ("member", "unit 1")],
+            Some(&s.csrf),
+        )
+        .await;
+    assert_eq!(used.status, StatusCode::SEE_OTHER, "{}", used.body);
+    let rel = site
+        .form(
+            "/holds/release",
+            Some(&s),
+            &[("plan", "blinker kit"), ("member", "unit 2")],
+            Some(&s.csrf),
+        )
+        .await;
+    assert_eq!(rel.status, StatusCode::SEE_OTHER, "{}", rel.body);
+    let store = site.store();
+    assert!(store.holds(&Default::default()).expect("holds").is_empty());
+    assert_eq!(store.built_units("blinker kit").expect("built"), [1]);
+    let used_pieces: i64 = store
+        .log(&onhand::store::LogFilter {
+            plan: Some("blinker kit".into()),
+            ..Default::default()
+        })
+        .expect("log")
+        .iter()
+        .filter(|l| l.entry.delta < 0)
+        .map(|l| -l.entry.delta)
+        .sum();
+    assert_eq!(used_pieces, one);
+}
+
+#[tokio::test]
+async fn a_plan_file_is_refused_without_the_token_a_login_or_a_readable_file() {
+    let (site, s) = cabinet_site().await;
+    let text = std::fs::read_to_string(repo_path("sample-stock/blinker-kit.toml")).expect("kit");
+    let ledger = |site: &Site| site.store().log(&Default::default()).expect("log").len();
+    let before = ledger(&site);
+    let fields = [("plan", text.as_str()), ("units", "2"), ("hold", "1")];
+    for csrf in [None, Some("0000")] {
+        let a = site.form("/plan", Some(&s), &fields, csrf).await;
+        assert_eq!(a.status, StatusCode::FORBIDDEN, "{}", a.body);
+    }
+    let anon = site.form("/plan", None, &fields, Some(&s.csrf)).await;
+    assert_eq!(anon.location(), "/login");
+    assert_eq!(site.get("/plan", None).await.location(), "/login");
+    for (bad, says) in [
+        ("name = \"x\"\nunits = \"many\"\n", "plan file"),
+        ("", "paste or choose a plan file"),
+        (
+            "name = \"x\"\nunits = 2\nfamily = \"valve\"\nsupply = \"9 V\"\ntolerance = \"5%\"\n\
+             [[stage]]\nname = \"a\"\nform = \"pulse\"\nwidth = \"30 ms\"\n",
+            "family",
+        ),
+    ] {
+        let a = site
+            .form(
+                "/plan",
+                Some(&s),
+                &[("plan", bad), ("hold", "1")],
+                Some(&s.csrf),
+            )
+            .await;
+        assert_eq!(a.status, StatusCode::BAD_REQUEST, "{bad:?}: {}", a.body);
+        assert!(a.body.contains(says), "{bad:?}: {}", a.body);
+    }
+    let big = [("plan", text.as_str()), ("units", "0"), ("hold", "1")];
+    let a = site.form("/plan", Some(&s), &big, Some(&s.csrf)).await;
+    assert_eq!(a.status, StatusCode::BAD_REQUEST, "{}", a.body);
+    assert!(
+        site.store()
+            .holds(&Default::default())
+            .expect("holds")
+            .is_empty()
+    );
+    assert_eq!(ledger(&site), before);
+    // The form itself is there for a member, with its token.
+    let page = site.get("/plan", Some(&s)).await;
+    assert_eq!(page.status, StatusCode::OK);
+    assert!(page.body.contains(&s.csrf), "{}", page.body);
+}
+
+#[tokio::test]
+async fn the_api_takes_the_plan_file_as_its_body_counts_and_holds() {
+    let (site, s) = cabinet_site().await;
+    let kit = repo_path("sample-stock/blinker-kit.toml");
+    let text = std::fs::read_to_string(&kit).expect("kit");
+    let post = |path: &str, body: &str, csrf: bool| {
+        let mut b = Request::post(path)
+            .header(header::CONTENT_TYPE, "application/toml")
+            .header(header::COOKIE, &s.cookie);
+        if csrf {
+            b = b.header("x-csrf-token", &s.csrf);
+        }
+        b.body(Body::from(body.to_string())).expect("req")
+    };
+    let no = site.send(post("/api/plans?hold=1", &text, false)).await;
+    assert_eq!(no.status, StatusCode::FORBIDDEN, "{}", no.body);
+    let bad = site
+        .send(post("/api/plans?hold=1", "units = [", true))
+        .await;
+    assert_eq!(bad.status, StatusCode::BAD_REQUEST, "{}", bad.body);
+    assert!(bad.json()["error"].as_str().is_some(), "{}", bad.body);
+    let odd = site.send(post("/api/plans?units=two", &text, true)).await;
+    assert_eq!(odd.status, StatusCode::BAD_REQUEST, "{}", odd.body);
+    assert!(
+        site.store()
+            .holds(&Default::default())
+            .expect("holds")
+            .is_empty()
+    );
+    // The count agrees with `onhand plan --units 3` on the same database.
+    let cli = cli_plan(&site, &kit, Some("3"));
+    let a = site
+        .send(post("/api/plans?units=3&hold=1", &text, true))
+        .await;
+    assert_eq!(a.status, StatusCode::OK, "{}", a.body);
+    let j = a.json();
+    assert_eq!(j["built"], cli["built"], "{j}");
+    assert_eq!(j["wanted"], 3, "{j}");
+    assert_eq!(j["held"]["plan"], "blinker kit", "{j}");
+    let holds = site.store().holds(&Default::default()).expect("holds");
+    let mut units: Vec<&str> = holds.iter().map(|h| h.member.as_str()).collect();
+    units.dedup();
+    assert_eq!(units, ["unit 1", "unit 2", "unit 3"]);
+    assert!(holds.iter().all(|h| h.who == "alice"), "{holds:?}");
+}

@@ -433,11 +433,24 @@ pub fn stock_for_plan(
     stock: Option<&std::path::Path>,
     plan: &str,
 ) -> anyhow::Result<Vec<Part>> {
-    let mut parts = super::find::load_stock(ctx, stock)?;
+    let parts = super::find::load_stock(ctx, stock)?;
     if stock.is_some() || plan.trim().is_empty() {
         return Ok(parts);
     }
     let store = open_store(ctx)?;
+    Ok(own_holds_free(&store, parts, plan)?)
+}
+
+/// `parts` (every row, as `find` loads them) with the pieces `plan`'s units already hold
+/// counted as free to it: the store half of [`stock_for_plan`], also used by the web page.
+pub fn own_holds_free(
+    store: &Store,
+    mut parts: Vec<Part>,
+    plan: &str,
+) -> Result<Vec<Part>, crate::store::StoreError> {
+    if plan.trim().is_empty() {
+        return Ok(parts);
+    }
     let holds = store.holds(&HoldFilter {
         plan: Some(plan.to_string()),
         ..Default::default()
@@ -500,6 +513,18 @@ pub fn hold_plan(
     answer: &Buildable,
 ) -> anyhow::Result<HoldChange> {
     let mut store = open_for_writing(ctx)?;
+    hold_plan_in(&mut store, &ctx.user, plan, parts, answer)
+}
+
+/// The store half of [`hold_plan`]: hold the answer's units in `store`, recorded as `who`
+/// (the web page calls it inside `Store::as_member`).
+pub fn hold_plan_in(
+    store: &mut Store,
+    who: &str,
+    plan: &str,
+    parts: &[Part],
+    answer: &Buildable,
+) -> anyhow::Result<HoldChange> {
     let kits = unit_kits(parts, answer)?;
     let built = store.built_units(plan)?;
     let still = usize::try_from(answer.wanted)?.saturating_sub(built.len());
@@ -510,7 +535,7 @@ pub fn hold_plan(
         .collect();
     let why = format!("plan {:?}: {} units", plan.trim(), numbered.len());
     let change = store
-        .set_unit_holds(plan, &numbered, &ctx.user, &why)
+        .set_unit_holds(plan, &numbered, who, &why)
         .with_context(|| {
             format!(
                 "holding the parts for {plan:?} (the stock may have changed since it was read: \

@@ -44,9 +44,51 @@ pub(super) fn routes() -> Router<AppState> {
         .route("/api/holds/{action}", post(settle))
         .route("/api/design", get(design_run))
         .route("/api/kits", post(hold_kit))
+        .route("/api/plans", post(plan_file))
         .route("/api/import", post(import))
         .route("/api/log", get(log))
         .route("/api/members", get(members))
+}
+
+#[derive(Debug, Default, Deserialize)]
+struct PlanQuery {
+    /// Units to build, overriding the file's (as `--units`).
+    #[serde(default)]
+    units: Option<String>,
+    /// `1`: hold the built units (as `--hold`).
+    #[serde(default)]
+    hold: Option<String>,
+}
+
+/// The body is the plan file itself (`curl --data-binary @kit.toml`): its count, and with
+/// `?hold=1` its units held unit by unit, as the plan page does.
+async fn plan_file(
+    v: Viewer,
+    State(st): State<AppState>,
+    Query(q): Query<PlanQuery>,
+    b: axum::body::Bytes,
+) -> ApiResult {
+    let me = v.writer(None)?;
+    let text = std::str::from_utf8(&b)
+        .map_err(|_| WebError::BadInput("the plan file is not UTF-8 text".into()))?;
+    let hold = q.hold.as_deref().is_some_and(|h| h == "1");
+    let units = q
+        .units
+        .as_deref()
+        .map(|u| {
+            u32::try_from(super::routes::count(u, "units")?)
+                .map_err(|_| WebError::BadInput("units must be 1 or more".into()))
+        })
+        .transpose()?;
+    ok(calls::plan(
+        &st.pool,
+        text,
+        units,
+        hold,
+        st.options.design_time_limit,
+        me,
+    )
+    .await?)
 }
 
 #[derive(Debug, Deserialize)]

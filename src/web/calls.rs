@@ -654,3 +654,113 @@ impl LogQuery {
         })
     }
 }
+
+/// What a plan file builds from the stock (the `onhand plan` computation), and, when the
+/// member asked, what holding its units changed.
+#[derive(Debug, Clone, Serialize)]
+pub struct PlanView {
+    /// The plan's name (the name its holds are kept under).
+    pub name: String,
+    /// Units wanted.
+    pub wanted: u32,
+    /// Units the stock builds.
+    pub built: u32,
+    /// What the count is proven over, in words (as `onhand plan` prints it).
+    pub claim: String,
+    /// Pieces the built units take: (part, pieces).
+    pub takes: Vec<(Part, u64)>,
+    /// Stages nothing in stock can meet.
+    pub impossible: Vec<String>,
+    /// The holds made, when the member asked to hold.
+    pub held: Option<HoldChange>,
+}
+
+/// Most units a plan on the page may ask for (as a plan file allows).
+const MOST_PLAN_UNITS: u32 = 10_000;
+
+/// Plan a plan file's units against the stock as `onhand plan FILE [--units N]` does (the
+/// plan's own holds count as free to it), and with `hold` hold the built units unit by unit
+/// as `plan --hold` does (members `unit 1`, `unit 2`, …), recorded under `who` inside the
+/// member guard. A file that cannot be read or planned is bad input, with nothing changed.
+pub async fn plan(
+    pool: &Pool,
+    text: &str,
+    units: Option<u32>,
+    hold: bool,
+    per_phase: std::time::Duration,
+    who: &Member,
+) -> Result<PlanView, WebError> {
+    use crate::cli::{holds, plan};
+    if text.trim().is_empty() {
+        return Err(WebError::BadInput(
+            "paste or choose a plan file first".into(),
+        ));
+    }
+    let mut spec = plan::file::parse_plan(text).map_err(|e| WebError::BadInput(e.to_string()))?;
+    if let Some(u) = units {
+        if u == 0 || u > MOST_PLAN_UNITS {
+            return Err(WebError::BadInput(format!(
+                "units must be 1 … {MOST_PLAN_UNITS} (as in a plan file), not {u}"
+            )));
+        }
+        spec.units = u;
+    }
+    let plan_name = spec.name.clone();
+    let name = plan_name.clone();
+    let parts = pool
+        .run(move |s| holds::own_holds_free(s, s.parts(&PartFilter::default())?, &name))
+        .await?;
+    let (parts, answer) = tokio::task::spawn_blocking(move || {
+        let limits = crate::solve::allocate::Limits {
+            per_phase,
+            ..Default::default()
+        };
+        // The same candidate count as `onhand plan`'s default.
+        plan::plan_answer(&spec, &parts, 24, spec.variants, limits)
+            .map(|(_, answer)| (parts, answer))
+            .map_err(|e| WebError::BadInput(format!("{e:#}")))
+    })
+    .await
+    .map_err(|e| WebError::Internal(e.to_string()))??;
+    let held = if hold && answer.built > 0 {
+        let name = plan_name.clone();
+        let me = who.name.clone();
+        let (p, a) = (parts.clone(), answer.clone());
+        let change = pool
+            .run(move |s| {
+                s.as_member(&me, false, |s| {
+                    holds::hold_plan_in(s, &me, &name, &p, &a).map_err(store_error)
+                })
+            })
+            .await
+            .map_err(rights)?;
+        Some(change)
+    } else {
+        None
+    };
+    Ok(PlanView {
+        name: plan_name,
+        wanted: answer.wanted,
+        built: answer.built,
+        claim: plan::claim_text(
+            answer.proof,
+            &answer.cover,
+            answer.units_bound_by.as_ref(),
+            "fewest pieces",
+        ),
+        takes: answer
+            .takes
+            .iter()
+            .filter_map(|&(row, n)| parts.get(row).map(|p| (p.clone(), n)))
+            .collect(),
+        impossible: answer.impossible.clone(),
+        held,
+    })
+}
+
+/// A plan hold's error as the store's own (so a busy database still retries), or its message.
+fn store_error(e: anyhow::Error) -> crate::store::StoreError {
+    use crate::store::StoreError;
+    e.downcast::<StoreError>()
+        .unwrap_or_else(|e| StoreError::Invalid(format!("{e:#}")))
+}

@@ -3,7 +3,7 @@
 //! the SVG our own picture renderer draws from numbers. No scripts, no outside assets: the
 //! style sheet is inline and small, laid out for a phone first.
 
-use super::calls::{Found, HoldsView, LogView, PartView, StockQuery};
+use super::calls::{Found, HoldsView, LogView, PartView, PlanView, StockQuery};
 use super::design::{DesignForm, DesignResult};
 use crate::store::{Hold, ImportReport, Member, Part};
 use maud::{DOCTYPE, Markup, PreEscaped, html};
@@ -46,6 +46,7 @@ pub fn frame(title: &str, who: Who<'_>, note: Option<&str>, body: Markup) -> Mar
                     a href="/" { "Stock" }
                     @if who.member.is_some() {
                         a href="/holds" { "My holds" }
+                        a href="/plan" { "Plan" }
                     }
                     a href="/design" { "Design" }
                     @if who.member.is_some_and(|m| m.organiser) {
@@ -436,6 +437,43 @@ pub fn import(who: Who<'_>, csv: &str, report: Option<&ImportReport>) -> Markup 
         }
     };
     frame("Import stock", who, None, body)
+}
+
+/// A plan file pasted in: how many units the stock builds (the `onhand plan` count), what
+/// they take, and a button to hold them unit by unit.
+pub fn plan(who: Who<'_>, text: &str, units: &str, view: Option<&PlanView>) -> Markup {
+    let body = html! {
+        @if let Some(v) = view {
+            div.box #plan-report .ok[v.built >= v.wanted] .err[v.built < v.wanted] {
+                p #plan-built { "The stock builds " strong { (v.built) } " of " (v.wanted) " units of plan " (shown(&v.name)) "." }
+                p { "(" (v.claim) ")" }
+                @if !v.impossible.is_empty() {
+                    p { "Nothing in stock meets: " (v.impossible.join(", ")) "." }
+                }
+                @if !v.takes.is_empty() {
+                    table #plan-takes {
+                        tr { th.n { "Pieces" } th { "Part" } th { "Bin" } th.n { "Free" } }
+                        @for (p, n) in &v.takes {
+                            tr { td.n { (n) } td { a href={ "/part/" (p.id) } { (shown(&p.label())) } } td { (shown(&p.bin)) } td.n { (p.available()) } }
+                        }
+                    }
+                }
+                @if v.built > 0 {
+                    p { "Holding keeps each unit's kit apart (unit 1, unit 2, …) on " a href="/holds" { "My holds" } ", to use or release unit by unit. Pieces this plan already holds count, so holding again holds only what is missing." }
+                }
+            }
+        }
+        p { "Paste a plan file (the TOML that " code { "onhand plan FILE" } " reads: name, units, family, supply, then one [[stage]] per timer)." }
+        form.box method="post" action="/plan" {
+            (csrf_field(who))
+            textarea #plan name="plan" rows="12" { (text) }
+            p { label for="units" { "Units (empty: the file's)" } " " input #units name="units" inputmode="numeric" size="6" value=(units); }
+            button #plan-count type="submit" { "Count units" }
+            " "
+            button #plan-hold type="submit" name="hold" value="1" { "Hold the units" }
+        }
+    };
+    frame("Plan a kit", who, None, body)
 }
 
 /// The members, with add and remove.

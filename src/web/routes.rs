@@ -90,6 +90,7 @@ pub(super) fn pages() -> Router<AppState> {
         .route("/holds/{action}", post(settle))
         .route("/design", get(design_page))
         .route("/design/hold", post(hold_kit))
+        .route("/plan", get(plan_form).post(plan_file))
         .route("/import", get(import_form).post(import))
         .route("/members", get(members).post(add_member))
         .route("/members/remove", post(remove_member))
@@ -420,6 +421,83 @@ async fn hold_kit(v: Viewer, State(st): State<AppState>, Form(f): Form<KitForm>)
                 c.plan
             ),
         ))
+    }
+    .await;
+    finish(&v, r)
+}
+
+async fn plan_form(v: Viewer) -> Response {
+    let r = async {
+        v.member()?;
+        Ok(html(pages::plan(v.who(), "", "", None)))
+    }
+    .await;
+    finish(&v, r)
+}
+
+#[derive(Debug, Default, Deserialize)]
+struct PlanForm {
+    #[serde(default)]
+    csrf: String,
+    /// The plan file's text (TOML, as `onhand plan FILE` reads it).
+    #[serde(default)]
+    plan: String,
+    /// Units to build, overriding the file's (as `--units`); empty: the file's.
+    #[serde(default)]
+    units: String,
+    /// Present: hold the built units (as `--hold`); absent: only count them.
+    #[serde(default)]
+    hold: Option<String>,
+}
+
+/// Count (and with `hold`, hold) a pasted plan file's units. Both are behind a session and
+/// its token: the count runs the integer program, which is too costly to leave open.
+async fn plan_file(v: Viewer, State(st): State<AppState>, Form(f): Form<PlanForm>) -> Response {
+    let r = async {
+        let me = v.writer(Some(&f.csrf))?;
+        let units = match f.units.trim() {
+            "" => None,
+            u => Some(
+                u32::try_from(count(u, "units")?)
+                    .map_err(|_| WebError::BadInput("units must be 1 or more".into()))?,
+            ),
+        };
+        let hold = f.hold.is_some();
+        let view = calls::plan(
+            &st.pool,
+            &f.plan,
+            units,
+            hold,
+            st.options.design_time_limit,
+            me,
+        )
+        .await?;
+        match &view.held {
+            Some(c) => {
+                let mut units: Vec<u32> = c
+                    .lines
+                    .iter()
+                    .filter_map(|l| crate::store::unit_of(&l.hold.member))
+                    .collect();
+                units.sort_unstable();
+                units.dedup();
+                let note = if units.is_empty() {
+                    format!(
+                        "Plan {} already holds its units: nothing changed.",
+                        view.name
+                    )
+                } else {
+                    format!(
+                        "Held {} of plan {} ({} pieces).",
+                        crate::store::units_text(&units),
+                        view.name,
+                        c.pieces()
+                    )
+                };
+                Ok(done("/holds", &note))
+            }
+            None => Ok(html(pages::plan(v.who(), &f.plan, &f.units, Some(&view)))),
+        }
     }
     .await;
     finish(&v, r)

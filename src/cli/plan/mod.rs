@@ -285,7 +285,7 @@ pub(super) fn unit_span(first: u32, n: u32) -> String {
 /// stages had more designs than were offered). `bound` says why the unit count is the most
 /// possible even so, when it is; `rest` names what is only proven over the candidates
 /// ("fewest pieces", "least cost").
-pub(super) fn claim_text(p: Proof, cover: &[Cover], bound: Option<&Bound>, rest: &str) -> String {
+pub(crate) fn claim_text(p: Proof, cover: &[Cover], bound: Option<&Bound>, rest: &str) -> String {
     let base = proof_text(p);
     if p != Proof::Optimal {
         return base.to_string();
@@ -384,29 +384,43 @@ pub(super) fn proof_text(p: Proof) -> &'static str {
     }
 }
 
-fn run_plan(args: PlanArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status> {
-    let spec = load_plan(&args.source)?;
+/// The plan computation of `onhand plan` on plain values (the web page calls it too): the
+/// search goal of each stage, then how many units the stock `parts` builds, with at most
+/// `variants` designs per stage when given (the file's own `variants` otherwise applies only
+/// where the caller passes it).
+pub(crate) fn plan_answer(
+    spec: &PlanSpec,
+    parts: &[Part],
+    candidates: usize,
+    variants: Option<u32>,
+    limits: Limits,
+) -> Result<(Vec<PlanStage>, Buildable)> {
     let stages: Vec<PlanStage> = spec
         .stages
         .iter()
-        .map(|s| stage_plan(&spec, s))
+        .map(|s| stage_plan(spec, s))
         .collect::<Result<_>>()?;
+    let mix = variants.map_or(Mix::Mixed, |variants| Mix::Kits { variants });
+    let answer = plan::plan_units(parts, &stages, spec.units, candidates, mix, limits)
+        .context("planning")?;
+    Ok((stages, answer))
+}
+
+fn run_plan(args: PlanArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status> {
+    let spec = load_plan(&args.source)?;
     let parts = super::holds::stock_for_plan(ctx, args.source.stock.as_deref(), &spec.name)?;
     let variants = if args.identical {
         Some(1)
     } else {
         args.variants.or(spec.variants)
     };
-    let mix = variants.map_or(Mix::Mixed, |variants| Mix::Kits { variants });
-    let answer = plan::plan_units(
+    let (stages, answer) = plan_answer(
+        &spec,
         &parts,
-        &stages,
-        spec.units,
         args.source.candidates,
-        mix,
+        variants,
         limits(&args.source)?,
-    )
-    .context("planning")?;
+    )?;
     let mut held = None;
     if args.hold && answer.built > 0 {
         if args.source.stock.is_some() {
