@@ -646,6 +646,23 @@ fn a_large_resistor_in_the_drawer_never_hides_a_design() {
         assert_eq!(j["designs"][0]["pieces"], 3, "{name}: {j}");
         assert_eq!(j["complete"], true, "{name}: {j}");
     }
+    // With a duty window too: an unbounded spread once turned the duty window into NaN and
+    // emptied the walk. 6.2k / 7.5k / 68 nF film: period band inside ±1 %, duty 64.6 %.
+    let with_duty = "kind,value,tolerance,technology,quantity\n\
+                     resistor,6.2k,1%,metal_film,1\n\
+                     resistor,7.5k,1%,metal_film,1\n\
+                     capacitor,68n,5%,film,1\n\
+                     resistor,10M,1%,metal_film,1\n";
+    let p = b.write("duty-with-10M.csv", with_duty);
+    let s = p.to_str().expect("utf-8 path");
+    let j = b
+        .run(&[
+            "--json", "find", "astable", "1kHz", "--duty", "60..70%", "--stock", s,
+        ])
+        .ok()
+        .json();
+    assert_eq!(j["designs"][0]["pieces"], 3, "{j}");
+    assert_eq!(j["complete"], true, "{j}");
     // The same parts through check: the band of the period inside ±1 % of 1 ms.
     let c = b
         .run(&[

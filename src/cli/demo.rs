@@ -78,6 +78,63 @@ impl Tour<'_> {
             .with_context(|| format!("demo step {}: {}", self.step, args.join(" ")))?;
         dispatch_with(cli, self.style, self.out, Some(self.writer.clone()))
     }
+
+    /// Run a command quietly with `--json` and return what it printed (for a later step that
+    /// hands on an earlier step's answer, as a user would copy it).
+    fn quietly(&mut self, args: &[&str]) -> Result<serde_json::Value> {
+        let mut argv: Vec<String> = vec![
+            "onhand".into(),
+            "--json".into(),
+            "--db".into(),
+            self.db.display().to_string(),
+        ];
+        argv.extend(args.iter().map(|a| (*a).to_string()));
+        let cli = Cli::try_parse_from(&argv)
+            .with_context(|| format!("demo, before step {}: {}", self.step + 1, args.join(" ")))?;
+        let mut text = Vec::new();
+        dispatch_with(
+            cli,
+            crate::report::style::Style::PLAIN,
+            &mut text,
+            Some(self.writer.clone()),
+        )?;
+        Ok(serde_json::from_slice(&text)?)
+    }
+}
+
+/// `NAME=EXPRESSION` for each position of the first design of a `find --json` answer, with
+/// `--tol NAME=…` for each piece's tolerance when a position is a single piece — the text
+/// `check` reads back.
+fn check_args_of(found: &serde_json::Value) -> Result<Vec<String>> {
+    let positions = found["designs"][0]["positions"]
+        .as_array()
+        .ok_or_else(|| anyhow::anyhow!("the search found no design to hand on"))?;
+    let mut args = Vec::new();
+    for p in positions {
+        let (Some(name), Some(expr)) = (p["name"].as_str(), p["expression"].as_str()) else {
+            anyhow::bail!("a design position without its name or expression");
+        };
+        let check_name = match name {
+            "Ra" => "RA",
+            "Rb" => "RB",
+            other => other,
+        };
+        args.push(format!("{check_name}={expr}"));
+        if let [piece] = p["pieces"]
+            .as_array()
+            .map(Vec::as_slice)
+            .unwrap_or_default()
+        {
+            if let Some(t) = piece["tolerance"].as_f64() {
+                args.push("--tol".into());
+                args.push(format!(
+                    "{check_name}={}%",
+                    crate::units::decimal_text(t * 100.0, 3)
+                ));
+            }
+        }
+    }
+    Ok(args)
 }
 
 /// A temporary directory removed on drop.
@@ -244,26 +301,19 @@ pub fn run(args: DemoArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status>
             &file("one-shot"),
         ],
     )?;
+    // The design step 5 found, handed to check as a user would copy it from `find --json`.
+    let steered = bench.quietly(&[
+        "find", "steered", "--high", "1ms", "--low", "4ms", "--within", "2%",
+    ])?;
+    let mut check = vec!["check".to_string(), "steered".to_string()];
+    check.extend(check_args_of(&steered)?);
+    check.extend(["--svg".to_string(), file("steered")]);
+    let check: Vec<&str> = check.iter().map(String::as_str).collect();
     bench.step(
         "And the steered astable's",
-        "The design of step 5, now with real 0.6 V diode drops instead of the ideal model:",
-        &[
-            "check",
-            "steered",
-            "RA=68k",
-            "RB=270k",
-            "C=22n+1u",
-            "--tol",
-            "RA=1%",
-            "--tol",
-            "RB=1%",
-            "--tol",
-            "C=5%",
-            "--diode",
-            "0.6",
-            "--svg",
-            &file("steered"),
-        ],
+        "The design of step 5 handed to check: the same real-part model, so the same numbers, \
+         now with the worst case, Monte Carlo and pictures:",
+        &check,
     )?;
 
     let out = bench.out;

@@ -505,6 +505,10 @@ fn odds_scaled(d: f64, m: f64) -> f64 {
         return d;
     }
     let o = d / (1.0 - d) * m;
+    if o.is_infinite() {
+        // An unbounded spread: any duty up to 100 % (∞/∞ would be NaN and empty the window).
+        return 1.0;
+    }
     o / (1.0 + o)
 }
 
