@@ -306,6 +306,51 @@ proptest! {
     }
 }
 
+/// A resistor row up to 82 MΩ: large enough that the constant threshold current alone can stop
+/// the charge short of the threshold (the case that once hid accepted designs).
+fn resistor_wide() -> impl Strategy<Value = (usize, i32, bool, i64, i64)> {
+    (0..12usize, 2..8i32, any::<bool>(), 1..4i64, 0..2i64)
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 48, ..ProptestConfig::default() })]
+
+    /// The real-part model (bias-current and saturation bands) on drawers with very large
+    /// resistors: the search finds what the brute force finds.
+    #[test]
+    fn real_model_search_matches_brute_force_with_large_resistors(
+        rs in prop::collection::vec(resistor_wide(), 2..6),
+        cs in prop::collection::vec(capacitor(), 1..3),
+        r1 in any::<prop::sample::Index>(),
+        r2 in any::<prop::sample::Index>(),
+        c in any::<prop::sample::Index>(),
+        shift in -1.0f64..1.0,
+        form in prop::sample::select(vec![0usize, 1, 2]),
+        tol in prop::sample::select(vec![1.0, 2.0, 5.0]),
+        k in 1..3usize,
+    ) {
+        let parts = drawer(&rs, &cs);
+        let res = of_kind(&parts, Kind::Resistor);
+        let (x1, x2) = (val(res[r1.index(res.len())]), val(res[r2.index(res.len())]));
+        let caps = of_kind(&parts, Kind::Capacitor);
+        let c = val(caps[c.index(caps.len())]);
+        let mut s = settings(tol, k, 2, false);
+        s.model = crate::timing::Model::real();
+        // DESIGN physics table (ideal forms) only places the target near a stock design.
+        let near = 1.0 + shift * tol / 100.0;
+        let d = (x1 + x2) / (x1 + 2.0 * x2);
+        let goal = match form {
+            0 => StageGoal::Pulse { width: 3f64.ln() * x1 * c * near },
+            1 => StageGoal::Astable { period: 2f64.ln() * (x1 + 2.0 * x2) * c * near, duty: Duty::Any },
+            _ => StageGoal::Astable {
+                period: 2f64.ln() * (x1 + 2.0 * x2) * c * near,
+                duty: Duty::Range(d - 0.05, (d + 0.05).min(0.99)),
+            },
+        };
+        compare(&parts, &Goal::Stages(vec![goal]), &s)?;
+    }
+}
+
 proptest! {
     #![proptest_config(ProptestConfig { cases: 200, ..ProptestConfig::default() })]
 
