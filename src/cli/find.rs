@@ -654,17 +654,7 @@ mod files {
                 .notes
                 .push("the reach picture leaves the duty requirement aside".into());
         }
-        let req = Request {
-            form,
-            range: (centre / 4.0, centre * 4.0),
-            tol: s.tol,
-            max_pieces: s.max_pieces.min(3),
-            family: s.family.clone(),
-            conditions: s.conditions,
-            cap_techs: s.cap_techs.clone(),
-            min_cap_rating: s.min_cap_rating,
-            max_rows: 25,
-        };
+        let req = Request::around(form, (centre / 4.0, centre * 4.0), s, 25);
         let map = reach(parts, &req).context("reach around the target")?;
         let holes = fixes(parts, &req, &map, w.series, Duration::from_secs(3))
             .context("purchases for the reach picture")?;

@@ -123,6 +123,30 @@ pub struct Request {
     pub max_rows: usize,
 }
 
+impl Request {
+    /// The reach around a `find` request: the same tolerance, family, supply, capacitor
+    /// technologies and rating, and at most three pieces a position (the picture `find` and the
+    /// web design page draw beside a design).
+    pub fn around(
+        form: ReachForm,
+        range: (f64, f64),
+        s: &super::goal::Settings,
+        max_rows: usize,
+    ) -> Self {
+        Request {
+            form,
+            range,
+            tol: s.tol,
+            max_pieces: s.max_pieces.min(3),
+            family: s.family.clone(),
+            conditions: s.conditions,
+            cap_techs: s.cap_techs.clone(),
+            min_cap_rating: s.min_cap_rating,
+            max_rows,
+        }
+    }
+}
+
 /// Which side of the window a limit bounds.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "snake_case")]

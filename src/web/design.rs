@@ -298,17 +298,7 @@ pub fn reach_picture(parts: &[Part], g: &StageGoal, s: &Settings) -> Option<Stri
     if !(at.is_finite() && at > 0.0) {
         return None;
     }
-    let req = Request {
-        form,
-        range: (at / 10.0, at * 10.0),
-        tol: s.tol,
-        max_pieces: s.max_pieces.min(3),
-        family: s.family.clone(),
-        conditions: s.conditions,
-        cap_techs: s.cap_techs.clone(),
-        min_cap_rating: s.min_cap_rating,
-        max_rows: 6,
-    };
+    let req = Request::around(form, (at / 10.0, at * 10.0), s, 6);
     let map = reach(parts, &req).ok()?;
     let what = match form {
         ReachForm::Pulse => "one-shot pulse width",
