@@ -86,14 +86,12 @@ fn kit() -> Vec<PlanStage> {
     vec![
         stage(
             "blink",
-            StageGoal::Astable {
-                period: 1.0 / 1.5,
-                duty: Duty::Range(0.55, 0.75),
-            },
+            StageGoal::astable_si(1.0 / 1.5, Duty::range_si(0.55, 0.75).expect("duty"))
+                .expect("goal"),
             0.05,
         ),
-        stage("tone", StageGoal::Square { period: 1.0 / 2e3 }, 0.05),
-        stage("debounce", StageGoal::Pulse { width: 30e-3 }, 0.10),
+        stage("tone", StageGoal::square_si(1.0 / 2e3).expect("goal"), 0.05),
+        stage("debounce", StageGoal::pulse_si(30e-3).expect("goal"), 0.10),
     ]
 }
 

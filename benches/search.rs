@@ -101,19 +101,18 @@ fn targets() -> Vec<Goal> {
     // evenly in log with an odd step so they do not land on preferred values.
     for i in 0..30 {
         let w = 10e-6 * 10f64.powf(6.0 * f64::from(i) / 29.0) * 1.037;
-        out.push(Goal::Stages(vec![StageGoal::Pulse { width: w }]));
+        out.push(Goal::Stages(vec![StageGoal::pulse_si(w).expect("goal")]));
     }
     for i in 0..30 {
         let f = 10f64.powf(5.0 * f64::from(i) / 29.0) * 1.013;
         let duty = if i % 3 == 0 {
-            Duty::Range(0.6, 0.7)
+            Duty::range_si(0.6, 0.7).expect("duty")
         } else {
             Duty::Any
         };
-        out.push(Goal::Stages(vec![StageGoal::Astable {
-            period: 1.0 / f,
-            duty,
-        }]));
+        out.push(Goal::Stages(vec![
+            StageGoal::astable_si(1.0 / f, duty).expect("goal"),
+        ]));
     }
     out
 }
@@ -291,10 +290,14 @@ fn find_args(g: &Goal) -> Vec<String> {
         unreachable!("the bench targets are stages")
     };
     match stages.as_slice() {
-        [StageGoal::Pulse { width }] => vec!["pulse".into(), format!("{width:e}s")],
+        [StageGoal::Pulse { width }] => vec!["pulse".into(), format!("{:e}s", width.si())],
         [StageGoal::Astable { period, duty }] => {
-            let mut a = vec!["astable".into(), "--period".into(), format!("{period:e}s")];
-            if let Duty::Range(lo, hi) = duty {
+            let mut a = vec![
+                "astable".into(),
+                "--period".into(),
+                format!("{:e}s", period.si()),
+            ];
+            if let Some((lo, hi)) = duty.window_si() {
                 a.push("--duty".into());
                 a.push(format!("{:.0}..{:.0}%", lo * 100.0, hi * 100.0));
             }
@@ -309,10 +312,10 @@ fn label(g: &Goal) -> String {
         return format!("{g:?}");
     };
     match stages.as_slice() {
-        [StageGoal::Pulse { width }] => format!("pulse {:.4} ms", width * 1e3),
+        [StageGoal::Pulse { width }] => format!("pulse {:.4} ms", width.si() * 1e3),
         [StageGoal::Astable { period, duty }] => format!(
             "astable {:.4} Hz{}",
-            1.0 / period,
+            1.0 / period.si(),
             if *duty == Duty::Any {
                 ""
             } else {
@@ -621,22 +624,21 @@ fn brute_comparison() {
         (Kind::Capacitor, 27e-9),
     ]
     .iter()
-    .map(|&(kind, target)| Goal::Value { kind, target })
+    .map(|&(kind, target)| Goal::value_si(kind, target).expect("goal"))
     .collect();
     // One-shot widths 20 µs … 2 s, odd steps.
     let pulses: Vec<Goal> = (0..10)
         .map(|i| {
             let w = 20e-6 * 10f64.powf(5.0 * f64::from(i) / 9.0) * 1.029;
-            Goal::Stages(vec![StageGoal::Pulse { width: w }])
+            Goal::Stages(vec![StageGoal::pulse_si(w).expect("goal")])
         })
         .collect();
     let astables: Vec<Goal> = (0..10)
         .map(|i| {
             let f = 10f64.powf(4.0 * f64::from(i) / 9.0) * 1.7;
-            Goal::Stages(vec![StageGoal::Astable {
-                period: 1.0 / f,
-                duty: Duty::Any,
-            }])
+            Goal::Stages(vec![
+                StageGoal::astable_si(1.0 / f, Duty::Any).expect("goal"),
+            ])
         })
         .collect();
     let mut rows = Vec::new();

@@ -9,12 +9,12 @@ use super::{Context, Status};
 use crate::report::find as render;
 use crate::solve::suggest::advise;
 use crate::solve::{Duty, Goal, Rank, Settings, StageGoal, family_by_name, solve};
-use crate::store::{Kind, Part, Technology};
+use crate::store::{Kind, Part, Technology, Value};
 use crate::timing::{Conditions, DiodeModel, Model};
 use crate::units::eseries::Series;
 use crate::units::{
-    parse_capacitance, parse_frequency, parse_resistance, parse_time, parse_tolerance,
-    parse_voltage,
+    Seconds, parse_capacitance, parse_frequency, parse_resistance, parse_time, parse_tolerance,
+    parse_voltage, time_text,
 };
 use anyhow::{Context as _, Result, anyhow, bail};
 use std::io::Write;
@@ -516,7 +516,7 @@ mod files {
         };
         Some(Target {
             quantity,
-            value,
+            value: value.si(),
             within,
         })
     }
@@ -638,9 +638,9 @@ mod files {
         written: &mut Written,
     ) -> Result<()> {
         let (form, centre) = match stages {
-            [StageGoal::Pulse { width }] => (ReachForm::Pulse, *width),
-            [StageGoal::Astable { period, .. }] => (ReachForm::Astable, 1.0 / period),
-            [StageGoal::Square { period }] => (ReachForm::Square, 1.0 / period),
+            [StageGoal::Pulse { width }] => (ReachForm::Pulse, width.si()),
+            [StageGoal::Astable { period, .. }] => (ReachForm::Astable, 1.0 / period.si()),
+            [StageGoal::Square { period }] => (ReachForm::Square, 1.0 / period.si()),
             _ => {
                 written.notes.push(
                     "nothing fits; the reach picture covers one-shot, astable and square-wave                      targets only"
@@ -680,21 +680,25 @@ fn needs_unit(text: &str, example: &str) -> Result<()> {
     Ok(())
 }
 
-fn parse_seconds(s: &str) -> Result<f64> {
+fn parse_seconds(s: &str) -> Result<Seconds> {
     needs_unit(s, "ms")?;
-    Ok(parse_time(s).map_err(|e| anyhow!(e))?.si())
+    parse_time(s).map_err(|e| anyhow!(e))
 }
 
-fn parse_hertz(s: &str) -> Result<f64> {
+/// The period of a frequency as typed (`1kHz`), to the picosecond.
+fn period_of_frequency(s: &str) -> Result<Seconds> {
     needs_unit(s, "Hz")?;
-    Ok(parse_frequency(s).map_err(|e| anyhow!(e))?.si())
+    let f = parse_frequency(s).map_err(|e| anyhow!(e))?;
+    Seconds::from_si(1.0 / f.si())
+        .filter(|p| p.is_positive())
+        .ok_or_else(|| anyhow!("{s}: no period of that frequency can be timed"))
 }
 
 fn goal_of(t: &Target, tol: f64) -> Result<Goal> {
     let time = |s: &str| parse_seconds(s);
-    let period_of = |freq: &Option<String>, period: &Option<String>| -> Result<f64> {
+    let period_of = |freq: &Option<String>, period: &Option<String>| -> Result<Seconds> {
         match (freq, period) {
-            (Some(f), None) => Ok(1.0 / parse_hertz(f)?),
+            (Some(f), None) => period_of_frequency(f),
             (None, Some(p)) => time(p),
             _ => bail!("give a frequency or --period"),
         }
@@ -708,8 +712,10 @@ fn goal_of(t: &Target, tol: f64) -> Result<Goal> {
                 None => guess_kind(value),
             };
             let target = match kind {
-                Kind::Capacitor => parse_capacitance(value).map_err(|e| anyhow!(e))?.si(),
-                _ => parse_resistance(value).map_err(|e| anyhow!(e))?.si(),
+                Kind::Capacitor => {
+                    Value::Capacitance(parse_capacitance(value).map_err(|e| anyhow!(e))?)
+                }
+                _ => Value::Resistance(parse_resistance(value).map_err(|e| anyhow!(e))?),
             };
             Goal::Value { kind, target }
         }
@@ -734,12 +740,12 @@ fn goal_of(t: &Target, tol: f64) -> Result<Goal> {
         } => {
             let period = period_of(freq, period)?;
             let width = time(width)?;
-            if width * (1.0 + tol) >= period * (1.0 - tol) {
+            if width.si() * (1.0 + tol) >= period.si() * (1.0 - tol) {
                 bail!(
                     "the pulse width must stay below the period even at the edges of the \
-                     tolerance: width {} s, period {} s",
-                    width,
-                    period
+                     tolerance: width {}, period {}",
+                    time_text(width, 4),
+                    time_text(period, 4)
                 );
             }
             Goal::Stages(vec![
@@ -762,11 +768,11 @@ pub(crate) fn stage_of(text: &str) -> Result<StageGoal> {
     let rest: Vec<&str> = it.collect();
     let time = |s: &str| parse_seconds(s);
     // A value ending in "s" is a period; otherwise a frequency.
-    let period = |s: &str| -> Result<f64> {
+    let period = |s: &str| -> Result<Seconds> {
         if s.trim().ends_with('s') {
             time(s)
         } else {
-            Ok(1.0 / parse_hertz(s)?)
+            period_of_frequency(s)
         }
     };
     let need = |n: usize| -> Result<()> {
@@ -811,8 +817,7 @@ pub(crate) fn stage_of(text: &str) -> Result<StageGoal> {
 fn duty_of(text: Option<&str>) -> Result<Duty> {
     let Some(t) = text else { return Ok(Duty::Any) };
     let w = crate::model::parse_duty(t).map_err(|e| anyhow!("--duty: {e}"))?;
-    let (lo, hi) = w.si();
-    Ok(Duty::Range(lo, hi))
+    Ok(Duty::Window(w))
 }
 
 /// Resistor unless the text says farads or uses a prefix only capacitors use (p, n, u, µ).
@@ -903,19 +908,14 @@ mod tests {
     #[test]
     fn duty_forms() {
         assert_eq!(duty_of(None).expect("none"), Duty::Any);
-        match duty_of(Some("60..70%")).expect("range") {
-            Duty::Range(a, b) => assert!((a - 0.6).abs() < 1e-9 && (b - 0.7).abs() < 1e-9),
-            other => panic!("{other:?}"),
-        }
+        let window = |text: &str| duty_of(Some(text)).expect(text).window_si();
+        let near = |w: Option<(f64, f64)>, lo: f64, hi: f64| {
+            w.is_some_and(|(a, b)| (a - lo).abs() < 1e-9 && (b - hi).abs() < 1e-9)
+        };
+        assert!(near(window("60..70%"), 0.6, 0.7));
         // A point alone is the same ±1-point window in find as in plan files.
-        match duty_of(Some("65%")).expect("point") {
-            Duty::Range(a, b) => assert!((a - 0.64).abs() < 1e-9 && (b - 0.66).abs() < 1e-9),
-            other => panic!("{other:?}"),
-        }
-        match duty_of(Some("65%±2")).expect("point with window") {
-            Duty::Range(a, b) => assert!((a - 0.63).abs() < 1e-9 && (b - 0.67).abs() < 1e-9),
-            other => panic!("{other:?}"),
-        }
+        assert!(near(window("65%"), 0.64, 0.66));
+        assert!(near(window("65%±2"), 0.63, 0.67));
         assert!(duty_of(Some("75..60%")).is_err());
     }
 
@@ -927,8 +927,8 @@ mod tests {
         ));
         match stage_of("astable:1kHz:60..70%").expect("astable") {
             StageGoal::Astable { period, duty } => {
-                assert!((period - 1e-3).abs() < 1e-12);
-                assert!(matches!(duty, Duty::Range(..)));
+                assert_eq!(period, Seconds::from_si(1e-3).expect("1 ms"));
+                assert!(matches!(duty, Duty::Window(..)));
             }
             other => panic!("{other:?}"),
         }

@@ -1,13 +1,16 @@
 //! The domain types every layer shares: a stocked part (kind, technology, value, tolerance,
-//! ratings) and the exact text forms of its values. Pure data on top of `units`; depends on
+//! ratings), the exact text forms of its values, and what a stage is asked to do (form, typed
+//! target times, the duty window, position names). Pure data on top of `units`; depends on
 //! nothing else in the crate. `store` persists these types, `timing` and `solve` compute with
 //! them, `report` renders them — none of those layers owns them.
 
 pub mod duty;
+pub mod goal;
 pub mod part;
 pub mod read;
 pub mod text;
 
 pub use duty::{DutyError, DutyWindow, parse_duty};
+pub use goal::{Duty, Form, Goal, StageGoal};
 pub use part::{Kind, Part, Technology, UnknownName, Value};
 pub use read::{DiodeFamily, DiodeType, diode_type, infer_kind, marked_resistor};

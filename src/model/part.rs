@@ -285,6 +285,15 @@ impl Value {
         }
     }
 
+    /// The value in SI units (Ω or F; 0 for no value).
+    pub fn si(self) -> f64 {
+        match self {
+            Value::Resistance(r) => r.si(),
+            Value::Capacitance(c) => c.si(),
+            Value::None => 0.0,
+        }
+    }
+
     /// The value a part of `kind` has when its stored integer is `base`.
     pub fn from_base(kind: Kind, base: i64) -> Self {
         match kind {

@@ -3,7 +3,7 @@
 
 use crate::model::{Kind, Part, Value};
 use crate::solve::suggest::Advice;
-use crate::solve::{Design, Duty, Goal, Outcome, Quantity, Settings, StageGoal};
+use crate::solve::{Design, Goal, Outcome, Quantity, Settings, StageGoal};
 use crate::units::format_sig;
 use serde::Serialize;
 use std::io::{self, Write};
@@ -59,11 +59,8 @@ fn bin_label(p: &Part) -> String {
 
 pub(crate) fn describe_goal(goal: &Goal, s: &Settings) -> String {
     // Long times in the units people use (1 h, 90 min), never 3.6 ks.
-    let t = |x: f64| {
-        crate::units::Seconds::from_si(x)
-            .map_or_else(|| format_sig(x, 4, "s"), |s| crate::units::time_text(s, 4))
-    };
-    let f = |x: f64| format_sig(1.0 / x, 4, "Hz");
+    let t = |x: crate::units::Seconds| crate::units::time_text(x, 4);
+    let f = |x: crate::units::Seconds| format_sig(1.0 / x.si(), 4, "Hz");
     let stage = |g: &StageGoal| match *g {
         StageGoal::Pulse { width } => format!("one-shot of {}", t(width)),
         StageGoal::Square { period } => format!("square wave of {} ({})", f(period), t(period)),
@@ -71,17 +68,16 @@ pub(crate) fn describe_goal(goal: &Goal, s: &Settings) -> String {
             format!("steered astable, high {}, low {}", t(high), t(low))
         }
         StageGoal::Astable { period, duty } => {
-            let d = match duty {
-                Duty::Any => String::new(),
-                Duty::Range(a, b) => format!(", duty {:.1}–{:.1} %", a * 100.0, b * 100.0),
-                Duty::Point(d) => format!(", duty {:.1} %", d * 100.0),
+            let d = match duty.window_si() {
+                None => String::new(),
+                Some((a, b)) => format!(", duty {:.1}–{:.1} %", a * 100.0, b * 100.0),
             };
             format!("astable of {} ({}){d}", f(period), t(period))
         }
     };
     let what = match goal {
         Goal::Value { kind, target } => {
-            format!("substitute for {}", format_sig(*target, 4, unit(*kind)))
+            format!("substitute for {}", format_sig(target.si(), 4, unit(*kind)))
         }
         Goal::Stages(st) => st.iter().map(stage).collect::<Vec<_>>().join(" + "),
     };

@@ -194,6 +194,7 @@ pub fn brute_best(parts: &[Part], goal: &Goal, s: &Settings) -> Option<BruteBest
     };
     match goal {
         Goal::Value { kind, target } => {
+            let target = &target.si();
             let nets = if *kind == Kind::Capacitor {
                 &cnets
             } else {

@@ -17,6 +17,7 @@
 
 use super::admit::{Family, Finding, Form};
 use crate::model::Kind;
+pub use crate::model::{Duty, Goal, StageGoal};
 use crate::network::Net;
 use crate::timing::Conditions;
 use serde::Serialize;
@@ -40,84 +41,6 @@ pub fn inside(x: f64, lo: f64, hi: f64) -> bool {
 #[inline]
 pub fn no_worse(err: f64, bound: f64) -> bool {
     bound >= 0.0 && err <= bound + ROUNDING
-}
-
-/// The duty-cycle requirement of an astable.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
-#[serde(rename_all = "snake_case")]
-pub enum Duty {
-    /// Any duty.
-    Any,
-    /// Duty must lie in `[lo, hi]` (ratios); a window only, no error contribution.
-    Range(f64, f64),
-    /// Duty as a target with the same relative tolerance as the period.
-    Point(f64),
-}
-
-/// One timer stage to design. Times in seconds.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
-#[serde(rename_all = "snake_case", tag = "form")]
-pub enum StageGoal {
-    /// Monostable pulse width.
-    Pulse {
-        /// Width, s.
-        width: f64,
-    },
-    /// Classic astable: period and duty.
-    Astable {
-        /// Period, s.
-        period: f64,
-        /// Duty requirement.
-        duty: Duty,
-    },
-    /// Diode-steered astable: separate high and low times.
-    Steered {
-        /// High time, s.
-        high: f64,
-        /// Low time, s.
-        low: f64,
-    },
-    /// Output-driven square wave: period.
-    Square {
-        /// Period, s.
-        period: f64,
-    },
-}
-
-impl StageGoal {
-    /// The circuit form.
-    pub fn form(&self) -> Form {
-        match self {
-            StageGoal::Pulse { .. } => Form::Monostable,
-            StageGoal::Astable { .. } => Form::Astable,
-            StageGoal::Steered { .. } => Form::Steered,
-            StageGoal::Square { .. } => Form::Square,
-        }
-    }
-
-    /// Position names, in the order designs list them.
-    pub fn positions(&self) -> &'static [&'static str] {
-        match self {
-            StageGoal::Pulse { .. } | StageGoal::Square { .. } => &["R", "C"],
-            StageGoal::Astable { .. } => &["R1", "R2", "C"],
-            StageGoal::Steered { .. } => &["Ra", "Rb", "C"],
-        }
-    }
-}
-
-/// The whole request.
-#[derive(Debug, Clone, PartialEq, Serialize)]
-#[serde(rename_all = "snake_case")]
-pub enum Goal {
-    /// One part's worth of value from a network (the repair substitute). Value in SI units.
-    Value {
-        /// Resistor or capacitor.
-        kind: Kind,
-        /// Target value, Ω or F.
-        target: f64,
-    },
-    /// One or more timer stages sharing the stock (a pair or a dual package: two).
-    Stages(Vec<StageGoal>),
 }
 
 /// How designs are ranked.

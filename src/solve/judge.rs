@@ -9,7 +9,7 @@
 //! extremes, the model band on top, and the timer's own initial error — must lie inside too.
 //! Pure.
 
-use super::goal::{Duty, Quantity, StageGoal, inside};
+use super::goal::{Quantity, StageGoal, inside};
 use crate::timing::{Banded, Evaluation};
 
 /// The worst case of a stage's quantities: `(lowest, highest)`.
@@ -101,31 +101,35 @@ type Targeted = (Banded, Option<(f64, f64)>, (f64, f64), Option<f64>);
 fn targeted(g: &StageGoal, ev: &Evaluation, w: Option<&Worst>, tol: f64) -> Option<Vec<Targeted>> {
     Some(match *g {
         StageGoal::Pulse { width } => {
+            let width = width.si();
             vec![(ev.high, w.map(|w| w.high), window(width, tol), Some(width))]
         }
-        StageGoal::Square { period } => vec![(
-            ev.period?,
-            w.and_then(|w| w.period),
-            window(period, tol),
-            Some(period),
-        )],
-        StageGoal::Steered { high, low } => vec![
-            (ev.high, w.map(|w| w.high), window(high, tol), Some(high)),
-            (ev.low?, w.and_then(|w| w.low), window(low, tol), Some(low)),
-        ],
+        StageGoal::Square { period } => {
+            let period = period.si();
+            vec![(
+                ev.period?,
+                w.and_then(|w| w.period),
+                window(period, tol),
+                Some(period),
+            )]
+        }
+        StageGoal::Steered { high, low } => {
+            let (high, low) = (high.si(), low.si());
+            vec![
+                (ev.high, w.map(|w| w.high), window(high, tol), Some(high)),
+                (ev.low?, w.and_then(|w| w.low), window(low, tol), Some(low)),
+            ]
+        }
         StageGoal::Astable { period, duty } => {
+            let period = period.si();
             let mut v = vec![(
                 ev.period?,
                 w.and_then(|w| w.period),
                 window(period, tol),
                 Some(period),
             )];
-            match duty {
-                Duty::Any => {}
-                Duty::Range(a, b) => v.push((ev.duty?, w.and_then(|w| w.duty), (a, b), None)),
-                Duty::Point(d) => {
-                    v.push((ev.duty?, w.and_then(|w| w.duty), window(d, tol), Some(d)))
-                }
+            if let Some(win) = duty.window_si() {
+                v.push((ev.duty?, w.and_then(|w| w.duty), win, None));
             }
             v
         }
@@ -194,6 +198,7 @@ pub fn quantities(g: &StageGoal, ev: &Evaluation, w: &Worst, tol: f64) -> Vec<Qu
     let win = |t: f64| Some(window(t, tol));
     match *g {
         StageGoal::Pulse { width } => {
+            let width = width.si();
             vec![quantity(
                 "width",
                 "s",
@@ -203,31 +208,33 @@ pub fn quantities(g: &StageGoal, ev: &Evaluation, w: &Worst, tol: f64) -> Vec<Qu
                 w.high,
             )]
         }
-        StageGoal::Square { period: t } => vec![
-            quantity("period", "s", Some(t), win(t), period, wp),
-            quantity("frequency", "Hz", Some(1.0 / t), None, freq, wf),
-            quantity("duty", "", None, None, duty, wd),
-        ],
-        StageGoal::Steered { high, low: lt } => vec![
-            quantity("high", "s", Some(high), win(high), ev.high, w.high),
-            quantity("low", "s", Some(lt), win(lt), low, wl),
-            quantity("period", "s", Some(high + lt), None, period, wp),
-            quantity("frequency", "Hz", Some(1.0 / (high + lt)), None, freq, wf),
-            quantity("duty", "", None, None, duty, wd),
-        ],
+        StageGoal::Square { period: t } => {
+            let t = t.si();
+            vec![
+                quantity("period", "s", Some(t), win(t), period, wp),
+                quantity("frequency", "Hz", Some(1.0 / t), None, freq, wf),
+                quantity("duty", "", None, None, duty, wd),
+            ]
+        }
+        StageGoal::Steered { high, low: lt } => {
+            let (high, lt) = (high.si(), lt.si());
+            vec![
+                quantity("high", "s", Some(high), win(high), ev.high, w.high),
+                quantity("low", "s", Some(lt), win(lt), low, wl),
+                quantity("period", "s", Some(high + lt), None, period, wp),
+                quantity("frequency", "Hz", Some(1.0 / (high + lt)), None, freq, wf),
+                quantity("duty", "", None, None, duty, wd),
+            ]
+        }
         StageGoal::Astable {
             period: t,
             duty: want,
         } => {
-            let (dt, dw) = match want {
-                Duty::Any => (None, None),
-                Duty::Range(a, b) => (None, Some((a, b))),
-                Duty::Point(d) => (Some(d), win(d)),
-            };
+            let t = t.si();
             vec![
                 quantity("period", "s", Some(t), win(t), period, wp),
                 quantity("frequency", "Hz", Some(1.0 / t), None, freq, wf),
-                quantity("duty", "", dt, dw, duty, wd),
+                quantity("duty", "", None, want.window_si(), duty, wd),
                 quantity("high", "s", None, None, ev.high, w.high),
                 quantity("low", "s", None, None, low, wl),
             ]

@@ -737,7 +737,9 @@ mod tests {
     fn shot() -> PlanStage {
         PlanStage {
             name: "shot".into(),
-            goal: Goal::Stages(vec![StageGoal::Pulse { width: 0.109_86 }]),
+            goal: Goal::Stages(vec![StageGoal::Pulse {
+                width: crate::units::Seconds::from_si(0.109_86).expect("time"),
+            }]),
             settings: Settings {
                 tol: 0.02,
                 max_pieces: 1,

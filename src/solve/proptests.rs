@@ -247,6 +247,12 @@ fn pick() -> impl Strategy<Value = (prop::sample::Index, Option<prop::sample::In
     )
 }
 
+/// A duty aimed at `d` with a window of the relative tolerance `tol` either side (how a
+/// technician asks for "65 % within the same 2 %").
+fn point_window(d: f64, tol: f64) -> Duty {
+    Duty::range_si(d * (1.0 - tol), (d * (1.0 + tol)).min(0.99)).expect("duty")
+}
+
 proptest! {
     #![proptest_config(ProptestConfig { cases: 300, ..ProptestConfig::default() })]
 
@@ -263,7 +269,7 @@ proptest! {
         let parts = drawer(&rs, &[]);
         let tol = if guarantee { tol + 5.0 } else { tol };
         let target = near(&of_kind(&parts, Kind::Resistor), a, b, add, shift * tol / 100.0);
-        let goal = Goal::Value { kind: Kind::Resistor, target };
+        let goal = Goal::value_si(Kind::Resistor, target).expect("goal");
         compare(&parts, &goal, &settings(tol, k, alts, guarantee))?;
     }
 
@@ -277,7 +283,7 @@ proptest! {
     ) {
         let parts = drawer(&[], &cs);
         let target = near(&of_kind(&parts, Kind::Capacitor), a, b, add, shift * tol / 100.0);
-        let goal = Goal::Value { kind: Kind::Capacitor, target };
+        let goal = Goal::value_si(Kind::Capacitor, target).expect("goal");
         let mut s = settings(tol, k, 1, false);
         s.cap_techs = None;
         s.min_cap_rating = None;
@@ -301,7 +307,7 @@ proptest! {
         let r = near(&of_kind(&parts, Kind::Resistor), a, b, add, shift * tol / 100.0);
         let c = val(of_kind(&parts, Kind::Capacitor)[c.index(of_kind(&parts, Kind::Capacitor).len())]);
         // DESIGN physics table: ideal one-shot width ln 3 · R · C.
-        let goal = Goal::Stages(vec![StageGoal::Pulse { width: 3f64.ln() * r * c }]);
+        let goal = Goal::Stages(vec![StageGoal::pulse_si(3f64.ln() * r * c).expect("goal")]);
         compare(&parts, &goal, &settings(tol, k, alts, guarantee))?;
     }
 }
@@ -340,12 +346,9 @@ proptest! {
         let near = 1.0 + shift * tol / 100.0;
         let d = (x1 + x2) / (x1 + 2.0 * x2);
         let goal = match form {
-            0 => StageGoal::Pulse { width: 3f64.ln() * x1 * c * near },
-            1 => StageGoal::Astable { period: 2f64.ln() * (x1 + 2.0 * x2) * c * near, duty: Duty::Any },
-            _ => StageGoal::Astable {
-                period: 2f64.ln() * (x1 + 2.0 * x2) * c * near,
-                duty: Duty::Range(d - 0.05, (d + 0.05).min(0.99)),
-            },
+            0 => StageGoal::pulse_si(3f64.ln() * x1 * c * near).expect("goal"),
+            1 => StageGoal::astable_si(2f64.ln() * (x1 + 2.0 * x2) * c * near, Duty::Any).expect("goal"),
+            _ => StageGoal::astable_si(2f64.ln() * (x1 + 2.0 * x2) * c * near, Duty::range_si(d - 0.05, (d + 0.05).min(0.99)).expect("duty")).expect("goal"),
         };
         compare(&parts, &Goal::Stages(vec![goal]), &s)?;
     }
@@ -375,8 +378,8 @@ proptest! {
         // DESIGN physics table: period ln 2 · (R1 + 2 R2) · C, duty (R1 + R2)/(R1 + 2 R2).
         let period = 2f64.ln() * (x1 + 2.0 * x2) * c * (1.0 + shift * tol / 100.0);
         let d = (x1 + x2) / (x1 + 2.0 * x2);
-        let duty = [Duty::Any, Duty::Range(d - 0.03, (d + 0.03).min(0.99)), Duty::Point((d * (1.0 + shift * tol / 300.0)).min(0.99))][duty];
-        let goal = Goal::Stages(vec![StageGoal::Astable { period, duty }]);
+        let duty = [Duty::Any, Duty::range_si(d - 0.03, (d + 0.03).min(0.99)).expect("duty"), point_window((d * (1.0 + shift * tol / 300.0)).min(0.98), tol / 100.0)][duty];
+        let goal = Goal::Stages(vec![StageGoal::astable_si(period, duty).expect("goal")]);
         compare(&parts, &goal, &settings(tol, k, 2, guarantee))?;
     }
 
@@ -399,10 +402,10 @@ proptest! {
         let m = 1.0 + shift * tol / 100.0;
         let g = if square {
             // Output-driven square wave with the bipolar output drop at 9 V: about 1.9 · R · C.
-            StageGoal::Square { period: 1.9 * xa * c * m }
+            StageGoal::square_si(1.9 * xa * c * m).expect("goal")
         } else {
             // Ideal steered astable: ln 2 · Ra · C high, ln 2 · Rb · C low.
-            StageGoal::Steered { high: 2f64.ln() * xa * c * m, low: 2f64.ln() * xb * c }
+            StageGoal::steered_si(2f64.ln() * xa * c * m, 2f64.ln() * xb * c).expect("goal")
         };
         compare(&parts, &Goal::Stages(vec![g]), &settings(tol, k, 1, false))?;
     }
@@ -427,8 +430,8 @@ proptest! {
         let x = |i: &prop::sample::Index| val(res[i.index(res.len())]);
         let y = |i: &prop::sample::Index| val(caps[i.index(caps.len())]);
         let goal = Goal::Stages(vec![
-            StageGoal::Astable { period: 2f64.ln() * (x(&r.0) + 2.0 * x(&r.1)) * y(&c.0), duty: Duty::Any },
-            StageGoal::Pulse { width: 3f64.ln() * x(&r.2) * y(&c.1) },
+            StageGoal::astable_si(2f64.ln() * (x(&r.0) + 2.0 * x(&r.1)) * y(&c.0), Duty::Any).expect("goal"),
+            StageGoal::pulse_si(3f64.ln() * x(&r.2) * y(&c.1)).expect("goal"),
         ]);
         compare(&parts, &goal, &settings(tol, k, 2, false))?;
     }
@@ -488,9 +491,9 @@ proptest! {
         let m = 1.0 + shift / 100.0;
         // DESIGN physics table: ideal one-shot ln 3 · R · C; astable ln 2 · (R1 + 2 R2) · C.
         let g = if astable {
-            StageGoal::Astable { period: 2f64.ln() * (x1 + 2.0 * x2) * y * m, duty: Duty::Any }
+            StageGoal::astable_si(2f64.ln() * (x1 + 2.0 * x2) * y * m, Duty::Any).expect("goal")
         } else {
-            StageGoal::Pulse { width: 3f64.ln() * (x1 + x2) * y * m }
+            StageGoal::pulse_si(3f64.ln() * (x1 + x2) * y * m).expect("goal")
         };
         let goal = Goal::Stages(vec![g]);
         let s = settings(1.0, k.min(if astable { 2 } else { 3 }), 3, false);
@@ -536,10 +539,7 @@ fn too_many_distinct_values_for_pairs_is_refused_not_swallowed() {
         0,
         Technology::Film,
     ));
-    let goal = Goal::Value {
-        kind: Kind::Resistor,
-        target: 2000.0,
-    };
+    let goal = Goal::value_si(Kind::Resistor, 2000.0).expect("goal");
     let refused = solve(&parts, &goal, &settings(1.0, 2, 1, false));
     assert!(
         matches!(&refused, Err(super::goal::SolveError::Invalid(m)) if m.contains("distinct")),
@@ -561,10 +561,10 @@ fn duty_exactly_on_the_window_edge_is_found() {
         part(1, Kind::Resistor, 10e3, 1.0, 3, 0, Technology::MetalFilm),
         part(2, Kind::Capacitor, 100e-9, 5.0, 1, 0, Technology::Film),
     ];
-    let goal = Goal::Stages(vec![StageGoal::Astable {
-        period: 1.0 / 360.674,
-        duty: Duty::Range(0.60, 0.75),
-    }]);
+    let goal = Goal::Stages(vec![
+        StageGoal::astable_si(1.0 / 360.674, Duty::range_si(0.60, 0.75).expect("duty"))
+            .expect("goal"),
+    ]);
     let s = edge_settings(1.0, 3);
     let out = solve(&parts, &goal, &s).expect("search runs");
     assert_eq!(out.designs.first().map(|d| d.pieces), Some(4), "{out:?}");
@@ -596,10 +596,10 @@ fn three_piece_design_on_the_duty_edge_beats_seven() {
         let id = [10, 12, 15][i];
         parts.push(part(id, Kind::Capacitor, *v, 5.0, 1, 0, Technology::Film));
     }
-    let goal = Goal::Stages(vec![StageGoal::Astable {
-        period: 1.0 / 1490.39,
-        duty: Duty::Range(0.70, 0.75),
-    }]);
+    let goal = Goal::Stages(vec![
+        StageGoal::astable_si(1.0 / 1490.39, Duty::range_si(0.70, 0.75).expect("duty"))
+            .expect("goal"),
+    ]);
     let s = edge_settings(0.2, 3);
     let out = solve(&parts, &goal, &s).expect("search runs");
     let best = out.designs.first().expect("a design");
@@ -612,10 +612,7 @@ fn value_exactly_on_the_window_edge_is_found() {
     // 1 kΩ ± 0.5 % admits 995 Ω … 1005 Ω, both ends included.
     for v in [1005.0, 995.0] {
         let parts = vec![part(1, Kind::Resistor, v, 1.0, 1, 0, Technology::MetalFilm)];
-        let goal = Goal::Value {
-            kind: Kind::Resistor,
-            target: 1000.0,
-        };
+        let goal = Goal::value_si(Kind::Resistor, 1000.0).expect("goal");
         let s = edge_settings(0.5, 1);
         let out = solve(&parts, &goal, &s).expect("search runs");
         assert_eq!(out.designs.first().map(|d| d.pieces), Some(1), "{v} Ω");
@@ -647,18 +644,17 @@ proptest! {
         if value {
             // The network x1 + x2 sits exactly on the lower or upper edge of the window.
             let target = (x1 + x2) / if upper { 1.0 + t } else { 1.0 - t };
-            let goal = Goal::Value { kind: Kind::Resistor, target };
+            let goal = Goal::value_si(Kind::Resistor, target).expect("goal");
             compare(&parts, &goal, &settings(tol, k.max(2), 1, false))?;
         } else {
             let caps = of_kind(&parts, Kind::Capacitor);
             let y = val(caps[c.index(caps.len())]);
             // DESIGN physics table: period ln 2 · (R1 + 2 R2) · C, duty (R1 + R2)/(R1 + 2 R2).
             let d = (x1 + x2) / (x1 + 2.0 * x2);
-            let duty = if upper || d >= 0.99 { Duty::Range(0.5, d) } else { Duty::Range(d, 0.99) };
-            let goal = Goal::Stages(vec![StageGoal::Astable {
-                period: 2f64.ln() * (x1 + 2.0 * x2) * y,
-                duty,
-            }]);
+            let duty = if upper || d >= 0.99 { Duty::range_si(0.5, d).expect("duty") } else { Duty::range_si(d, 0.99).expect("duty") };
+            let goal = Goal::Stages(vec![
+                StageGoal::astable_si(2f64.ln() * (x1 + 2.0 * x2) * y, duty).expect("goal"),
+            ]);
             compare(&parts, &goal, &settings(tol, k, 1, false))?;
         }
     }
@@ -736,9 +732,9 @@ proptest! {
         let y = val(caps[c.index(caps.len())]);
         // DESIGN physics table: ideal one-shot ln 3 · R · C; astable ln 2 · (R1 + 2 R2) · C.
         let g = if astable {
-            StageGoal::Astable { period: 2f64.ln() * (x1 + 2.0 * x2) * y, duty: Duty::Any }
+            StageGoal::astable_si(2f64.ln() * (x1 + 2.0 * x2) * y, Duty::Any).expect("goal")
         } else {
-            StageGoal::Pulse { width: 3f64.ln() * x1 * y }
+            StageGoal::pulse_si(3f64.ln() * x1 * y).expect("goal")
         };
         let mut s = settings(5.0, k, 3, false);
         s.model = crate::timing::Model::real();

@@ -35,13 +35,9 @@ pub fn out_of_reach(goal: &Goal, family: &Family, tol: f64) -> Option<String> {
     // time is always the longer (DESIGN physics table; common practice).
     let low_duty = stages.iter().any(|s| match *s {
         StageGoal::Astable {
-            duty: Duty::Range(_, hi),
+            duty: Duty::Window(w),
             ..
-        } => hi <= 0.5,
-        StageGoal::Astable {
-            duty: Duty::Point(d),
-            ..
-        } => d * (1.0 + tol) <= 0.5,
+        } => w.si().1 <= 0.5,
         _ => false,
     });
     if low_duty {
@@ -53,11 +49,7 @@ pub fn out_of_reach(goal: &Goal, family: &Family, tol: f64) -> Option<String> {
     }
     let limit = family.max_freq.value;
     stages.iter().find_map(|s| {
-        let period = match *s {
-            StageGoal::Astable { period, .. } | StageGoal::Square { period } => period,
-            StageGoal::Steered { high, low } => high + low,
-            StageGoal::Pulse { .. } => return None,
-        };
+        let period = s.period()?.si();
         // Even the slow edge of the window is faster than the family allows.
         let fastest_needed = 1.0 / (period * (1.0 + tol));
         (fastest_needed > limit).then(|| {
@@ -197,14 +189,16 @@ pub fn stock_out_of_reach(parts: &[Part], goal: &Goal, s: &Settings) -> Option<S
         // The time targeted and its factor per R×C; the astable's two resistors each lie in
         // [r_min, r_max], so its period lies in (2·charge + discharge)·R·C of those bounds.
         let (what, target, per_rc) = match *g {
-            StageGoal::Pulse { width } => ("a pulse", width, f.one_shot),
-            StageGoal::Astable { period, .. } => ("a period", period, 2.0 * f.charge + f.discharge),
+            StageGoal::Pulse { width } => ("a pulse", width.si(), f.one_shot),
+            StageGoal::Astable { period, .. } => {
+                ("a period", period.si(), 2.0 * f.charge + f.discharge)
+            }
             StageGoal::Steered { high, low } => (
                 "a period",
-                high + low,
+                high.si() + low.si(),
                 f.steered_charge + f.steered_discharge,
             ),
-            StageGoal::Square { period } => ("a period", period, f.square_high + f.square_low),
+            StageGoal::Square { period } => ("a period", period.si(), f.square_high + f.square_low),
         };
         let longest = per_rc * r_max * c_max;
         let shortest = per_rc * r_min * c_min;
@@ -346,25 +340,31 @@ fn validate(goal: &Goal, s: &Settings) -> Result<(), SolveError> {
         }
     };
     match goal {
-        Goal::Value { target, .. } => pos(*target, "the value")?,
+        Goal::Value { kind, target } => {
+            if !target.fits(*kind) || *kind == Kind::Diode {
+                return bad(format!(
+                    "a {kind:?} goal needs a value of its own kind, not {target}"
+                ));
+            }
+            pos(target.si(), "the value")?
+        }
         Goal::Stages(stages) => {
             if stages.is_empty() || stages.len() > 2 {
                 return bad("a design has one or two stages".into());
             }
             for g in stages {
                 match *g {
-                    StageGoal::Pulse { width } => pos(width, "the pulse width")?,
-                    StageGoal::Square { period } => pos(period, "the period")?,
+                    StageGoal::Pulse { width } => pos(width.si(), "the pulse width")?,
+                    StageGoal::Square { period } => pos(period.si(), "the period")?,
                     StageGoal::Steered { high, low } => {
-                        pos(high, "the high time")?;
-                        pos(low, "the low time")?;
+                        pos(high.si(), "the high time")?;
+                        pos(low.si(), "the low time")?;
                     }
                     StageGoal::Astable { period, duty } => {
-                        pos(period, "the period")?;
-                        match duty {
-                            Duty::Any => {}
-                            Duty::Point(d) if d > 0.0 && d < 1.0 => {}
-                            Duty::Range(a, b) if a > 0.0 && a <= b && b < 1.0 => {}
+                        pos(period.si(), "the period")?;
+                        match duty.window_si() {
+                            None => {}
+                            Some((a, b)) if a > 0.0 && a <= b && b < 1.0 => {}
                             _ => return bad("duty must lie between 0 and 100 %".into()),
                         }
                     }
@@ -773,7 +773,7 @@ impl<'a> Ctx<'a> {
         let cs = cclass.items(parts);
         let mut stages = Vec::new();
         let value = match goal {
-            Goal::Value { kind, target } => Some((*kind, *target)),
+            Goal::Value { kind, target } => Some((*kind, target.si())),
             Goal::Stages(gs) => {
                 let (_, r_max) = Pool::with_pairs(rs.clone(), false).range(s.max_pieces);
                 for g in gs {
@@ -926,7 +926,7 @@ impl<'a> Ctx<'a> {
             StageGoal::Pulse { width } => self.walk_product(
                 si,
                 plan.f.one_shot,
-                width,
+                width.si(),
                 (ns[0], ns[1]),
                 split,
                 used_r,
@@ -937,7 +937,7 @@ impl<'a> Ctx<'a> {
             StageGoal::Square { period } => self.walk_product(
                 si,
                 plan.f.square_high + plan.f.square_low,
-                period,
+                period.si(),
                 (ns[0], ns[1]),
                 split,
                 used_r,
@@ -947,7 +947,7 @@ impl<'a> Ctx<'a> {
             ),
             StageGoal::Astable { period, duty } => self.walk_astable(
                 si,
-                period,
+                period.si(),
                 duty,
                 (ns[0], ns[1], ns[2]),
                 split,
@@ -958,7 +958,7 @@ impl<'a> Ctx<'a> {
             ),
             StageGoal::Steered { high, low } => self.walk_steered(
                 si,
-                (high, low),
+                (high.si(), low.si()),
                 (ns[0], ns[1], ns[2]),
                 split,
                 used_r,
@@ -1175,10 +1175,10 @@ impl<'a> Ctx<'a> {
                 xof(odds_scaled(b, g)),
             )
         };
-        let xwin = |e: f64| match duty {
-            Duty::Any => (0.0, f64::INFINITY),
-            Duty::Range(a, b) => xw(a, b),
-            Duty::Point(d) => xw(d * (1.0 - e), d * (1.0 + e)),
+        let duty = duty.window_si();
+        let xwin = |_e: f64| match duty {
+            None => (0.0, f64::INFINITY),
+            Some((a, b)) => xw(a, b),
         };
         let (r1min, r1max) = self.rpool.range(n1);
         let (r2min, r2max) = self.rpool.range(n2);
@@ -1229,23 +1229,12 @@ impl<'a> Ctx<'a> {
                         let r1 = r1c.value;
                         let aa = kc * r1 + ks * r2;
                         let d = kc * (r1 + r2) / aa;
-                        let mut err = srel(c * aa, g, period);
+                        let err = srel(c * aa, g, period);
                         // The screened duty's bracket in odds: [odds/g, odds·g].
                         let (dlo, dhi) = (odds_scaled(d, 1.0 / g), odds_scaled(d, g));
                         let duty_ok = match duty {
-                            Duty::Any => true,
-                            Duty::Range(lo, hi) => inside(dhi, lo, 1.0) && inside(dlo, 0.0, hi),
-                            Duty::Point(dt) => {
-                                let e = if dlo > dt {
-                                    rel(dlo, dt)
-                                } else if dhi < dt {
-                                    rel(dhi, dt)
-                                } else {
-                                    0.0
-                                };
-                                err = err.max(e);
-                                true
-                            }
+                            None => true,
+                            Some((lo, hi)) => inside(dhi, lo, 1.0) && inside(dlo, 0.0, hi),
                         };
                         if duty_ok && no_worse(err, st.bound()) {
                             Pool::take(r1c, used_r, 1);
@@ -1697,10 +1686,7 @@ mod tests {
             time_limit: Some(std::time::Duration::ZERO),
             rank: Rank::FewestPieces,
         };
-        let goal = Goal::Value {
-            kind: Kind::Resistor,
-            target: 1000.0,
-        };
+        let goal = Goal::value_si(Kind::Resistor, 1000.0).expect("goal");
         let out = solve(&parts, &goal, &s).expect("runs");
         assert!(!out.complete, "stopped by the clock");
         assert!(out.designs.is_empty());

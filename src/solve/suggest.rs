@@ -102,6 +102,7 @@ pub fn advise(
     match (goal, &closest) {
         (Goal::Value { kind, target }, _) => {
             // The value itself, and the complement of each stocked value in either combination.
+            let target = &target.si();
             let mut ideals = vec![*target];
             for p in parts
                 .iter()
@@ -287,14 +288,17 @@ fn ideal_values(g: &StageGoal, f: &crate::timing::Factors, v: &[f64]) -> Vec<f64
     let get = |i: usize| v.get(i).copied().unwrap_or(f64::NAN);
     match *g {
         StageGoal::Pulse { width } => {
+            let width = width.si();
             let k = f.one_shot;
             vec![width / (k * get(1)), width / (k * get(0))]
         }
         StageGoal::Square { period } => {
+            let period = period.si();
             let k = f.square_high + f.square_low;
             vec![period / (k * get(1)), period / (k * get(0))]
         }
         StageGoal::Steered { high, low } => {
+            let (high, low) = (high.si(), low.si());
             let (kh, kl) = (f.steered_charge, f.steered_discharge);
             let c = get(2);
             vec![
@@ -304,6 +308,7 @@ fn ideal_values(g: &StageGoal, f: &crate::timing::Factors, v: &[f64]) -> Vec<f64
             ]
         }
         StageGoal::Astable { period, .. } => {
+            let period = period.si();
             let (kc, ks) = (f.charge, f.charge + f.discharge);
             let (r1, r2, c) = (get(0), get(1), get(2));
             vec![

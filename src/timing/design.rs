@@ -25,47 +25,7 @@ use crate::model::Technology;
 use crate::units::{Farads, Hertz, Ohms, Ratio, Seconds, Tolerance, Volts};
 use serde::Serialize;
 
-/// The circuit form of a stage.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize)]
-#[serde(rename_all = "snake_case")]
-pub enum Form {
-    /// One-shot: a trigger starts one pulse of fixed width.
-    Monostable,
-    /// Classic astable: charge via R1+R2, discharge via R2.
-    Astable,
-    /// Diode-steered astable: separate charge (Ra) and discharge (Rb) paths.
-    Steered,
-    /// Output-driven square wave: one resistor from the output to the capacitor.
-    Square,
-}
-
-impl Form {
-    /// Plain name, as typed on the command line.
-    pub fn name(self) -> &'static str {
-        match self {
-            Form::Monostable => "monostable",
-            Form::Astable => "astable",
-            Form::Steered => "steered",
-            Form::Square => "square",
-        }
-    }
-
-    /// Whether the stage runs free (has a period) rather than firing once.
-    pub fn is_periodic(self) -> bool {
-        !matches!(self, Form::Monostable)
-    }
-
-    /// Whether the stage has a second resistor (`r2`).
-    pub fn has_r2(self) -> bool {
-        matches!(self, Form::Astable | Form::Steered)
-    }
-
-    /// Whether `r1` sits between the supply and the discharge pin (so `Vcc/R1` flows into the
-    /// chip while discharging).
-    pub fn r1_feeds_discharge(self) -> bool {
-        !matches!(self, Form::Square)
-    }
-}
+pub use crate::model::Form;
 
 /// How the diode-steered astable is wired (see the module header).
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, Serialize, Default)]

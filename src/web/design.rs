@@ -9,7 +9,9 @@ use crate::report::pictures::waveform::Waveform;
 use crate::solve::{Duty, Goal, Outcome, Rank, Settings, StageGoal, family_by_name, solve};
 use crate::store::{Part, Technology};
 use crate::timing::Conditions;
-use crate::units::{Farads, Ohms, parse_frequency, parse_time, parse_tolerance, parse_voltage};
+use crate::units::{
+    Farads, Ohms, Seconds, parse_frequency, parse_time, parse_tolerance, parse_voltage, time_text,
+};
 use serde::{Deserialize, Serialize};
 use std::time::Duration;
 
@@ -83,12 +85,12 @@ fn or<'a>(s: &'a str, default: &'a str) -> &'a str {
     }
 }
 
-fn time(what: &str, s: &str) -> Result<f64, WebError> {
+fn time(what: &str, s: &str) -> Result<Seconds, WebError> {
     if s.trim().is_empty() {
         return Err(WebError::BadInput(format!("give the {what}, e.g. 250ms")));
     }
-    let t = parse_time(s).map_err(|e| bad(what, e))?.si();
-    if t > 0.0 {
+    let t = parse_time(s).map_err(|e| bad(what, e))?;
+    if t.is_positive() {
         Ok(t)
     } else {
         Err(WebError::BadInput(format!("the {what} must be above zero")))
@@ -102,8 +104,7 @@ fn duty(s: &str) -> Result<Duty, WebError> {
         return Ok(Duty::Any);
     }
     let w = crate::model::parse_duty(t).map_err(|e| WebError::BadInput(e.to_string()))?;
-    let (lo, hi) = w.si();
-    Ok(Duty::Range(lo, hi))
+    Ok(Duty::Window(w))
 }
 
 /// The goal and settings a form stands for, with `onhand find`'s defaults (1 %, 9 V, bipolar,
@@ -124,20 +125,16 @@ pub fn request(f: &DesignForm, time_limit: Duration) -> Result<(Goal, Settings),
     if !vcc.is_positive() {
         return Err(WebError::BadInput("the supply must be above zero".into()));
     }
-    let freq_period = |f: &DesignForm| -> Result<f64, WebError> {
+    let freq_period = |f: &DesignForm| -> Result<Seconds, WebError> {
         if f.freq.trim().is_empty() {
             return Err(WebError::BadInput("give the frequency, e.g. 1kHz".into()));
         }
         let hz = parse_frequency(&f.freq)
             .map_err(|e| bad("frequency", e))?
             .si();
-        if hz > 0.0 {
-            Ok(1.0 / hz)
-        } else {
-            Err(WebError::BadInput(
-                "the frequency must be above zero".into(),
-            ))
-        }
+        Seconds::from_si(1.0 / hz)
+            .filter(|p| hz > 0.0 && p.is_positive())
+            .ok_or_else(|| WebError::BadInput("the frequency must be above zero".into()))
     };
     let stages = match or(&f.form, "pulse") {
         "pulse" => vec![StageGoal::Pulse {
@@ -159,10 +156,12 @@ pub fn request(f: &DesignForm, time_limit: Duration) -> Result<(Goal, Settings),
             let width = time("pulse width", &f.width)?;
             // As `onhand find pair`: the pulse must end before the next trigger, even at the
             // edges of the tolerance.
-            if width * (1.0 + tol) >= period * (1.0 - tol) {
+            if width.si() * (1.0 + tol) >= period.si() * (1.0 - tol) {
                 return Err(WebError::BadInput(format!(
                     "the pulse width must stay below the period even at the edges of the \
-                     tolerance: width {width} s, period {period} s"
+                     tolerance: width {}, period {}",
+                    time_text(width, 4),
+                    time_text(period, 4)
                 )));
             }
             vec![
@@ -290,9 +289,9 @@ pub fn run(parts: &[Part], goal: &Goal, settings: &Settings) -> Result<DesignRes
 pub fn reach_picture(parts: &[Part], g: &StageGoal, s: &Settings) -> Option<String> {
     use crate::solve::reach::{ReachForm, Request, reach};
     let (form, at) = match g {
-        StageGoal::Pulse { width } => (ReachForm::Pulse, *width),
-        StageGoal::Astable { period, .. } => (ReachForm::Astable, 1.0 / period),
-        StageGoal::Square { period } => (ReachForm::Square, 1.0 / period),
+        StageGoal::Pulse { width } => (ReachForm::Pulse, width.si()),
+        StageGoal::Astable { period, .. } => (ReachForm::Astable, 1.0 / period.si()),
+        StageGoal::Square { period } => (ReachForm::Square, 1.0 / period.si()),
         StageGoal::Steered { .. } => return None,
     };
     if !(at.is_finite() && at > 0.0) {
@@ -344,7 +343,12 @@ mod tests {
             ..DesignForm::default()
         };
         let (goal, s) = request(&f, Duration::from_secs(1)).expect("ok");
-        assert_eq!(goal, Goal::Stages(vec![StageGoal::Pulse { width: 0.25 }]));
+        assert_eq!(
+            goal,
+            Goal::Stages(vec![StageGoal::Pulse {
+                width: Seconds::from_si(0.25).expect("time")
+            }])
+        );
         assert!((s.tol - 0.01).abs() < 1e-12);
         assert_eq!(s.max_pieces, 3);
         let bad = DesignForm {
@@ -366,7 +370,7 @@ mod tests {
             panic!("stages")
         };
         assert!(
-            matches!(st[0], StageGoal::Astable { duty: Duty::Range(a, b), .. } if (a - 0.6).abs() < 1e-9 && (b - 0.7).abs() < 1e-9)
+            matches!(st[0], StageGoal::Astable { duty, .. } if duty.window_si() == Some((0.6, 0.7)))
         );
     }
 }

@@ -99,7 +99,7 @@ pub enum TargetSpec {
         /// Period.
         period: Seconds,
         /// Duty window, if any.
-        duty: Option<(Ratio, Ratio)>,
+        duty: Option<crate::model::DutyWindow>,
     },
     /// Diode-steered astable.
     Steered {
@@ -195,9 +195,8 @@ fn period_of(stage: &str, s: &RawStage) -> Result<Seconds, PlanFileError> {
 
 /// Read a duty window in the one grammar every command shares (`model::parse_duty`):
 /// `55%..70%`, `0.55..0.7`, `60%±2`, or a single value meaning ±1 point.
-pub fn parse_duty(text: &str) -> Result<(Ratio, Ratio), PlanFileError> {
-    let w = crate::model::parse_duty(text).map_err(|e| PlanFileError(format!("duty: {e}")))?;
-    Ok((w.low, w.high))
+pub fn parse_duty(text: &str) -> Result<crate::model::DutyWindow, PlanFileError> {
+    crate::model::parse_duty(text).map_err(|e| PlanFileError(format!("duty: {e}")))
 }
 
 /// Parse and validate a plan file's text.
@@ -351,11 +350,15 @@ mod tests {
     #[test]
     fn a_duty_reads_as_it_does_in_find() {
         let pct = |r: Ratio| r.si() * 100.0;
-        let (lo, hi) = parse_duty("65%").expect("a point");
+        let ends = |text: &str| {
+            let w = parse_duty(text).expect(text);
+            (w.low, w.high)
+        };
+        let (lo, hi) = ends("65%");
         assert!((pct(lo) - 64.0).abs() < 1e-9 && (pct(hi) - 66.0).abs() < 1e-9);
-        let (lo, hi) = parse_duty("65%±2").expect("a point with its window");
+        let (lo, hi) = ends("65%±2");
         assert!((pct(lo) - 63.0).abs() < 1e-9 && (pct(hi) - 67.0).abs() < 1e-9);
-        let (lo, hi) = parse_duty("0.55..0.7").expect("a range");
+        let (lo, hi) = ends("0.55..0.7");
         assert!((pct(lo) - 55.0).abs() < 1e-9 && (pct(hi) - 70.0).abs() < 1e-9);
         assert!(parse_duty("70%..55%").is_err());
     }

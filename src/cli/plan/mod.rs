@@ -21,9 +21,9 @@ use crate::report::find::{describe_goal, jdesign, write_design};
 use crate::solve::allocate::{Limits, Proof};
 use crate::solve::plan::{self, Bound, Buildable, Cover, Mix, PlanStage, StageShare};
 use crate::solve::{Duty, Goal, Rank, Settings, StageGoal, family_by_name};
-use crate::store::Part;
+use crate::store::{Part, Value};
 use crate::timing::Conditions;
-use crate::units::{Ratio, parse_ratio, parse_voltage};
+use crate::units::{parse_ratio, parse_voltage};
 use anyhow::{Context as _, Result, anyhow, bail};
 use file::{PlanSpec, StageSpec, TargetSpec};
 use serde::Serialize;
@@ -139,24 +139,16 @@ pub(super) fn load_plan(src: &PlanSource) -> Result<PlanSpec> {
                 .map(|t| {
                     let g = stage_of(t)?;
                     let target = match g {
-                        StageGoal::Pulse { width } => TargetSpec::Pulse {
-                            width: secs(width)?,
-                        },
+                        StageGoal::Pulse { width } => TargetSpec::Pulse { width },
                         StageGoal::Astable { period, duty } => TargetSpec::Astable {
-                            period: secs(period)?,
+                            period,
                             duty: match duty {
-                                Duty::Range(a, b) => Some((ratio(a)?, ratio(b)?)),
-                                Duty::Point(d) => Some((ratio(d - 0.01)?, ratio(d + 0.01)?)),
+                                Duty::Window(w) => Some(w),
                                 Duty::Any => None,
                             },
                         },
-                        StageGoal::Steered { high, low } => TargetSpec::Steered {
-                            high: secs(high)?,
-                            low: secs(low)?,
-                        },
-                        StageGoal::Square { period } => TargetSpec::Square {
-                            period: secs(period)?,
-                        },
+                        StageGoal::Steered { high, low } => TargetSpec::Steered { high, low },
+                        StageGoal::Square { period } => TargetSpec::Square { period },
                     };
                     Ok(StageSpec {
                         name: t.clone(),
@@ -188,14 +180,6 @@ pub(super) fn load_plan(src: &PlanSource) -> Result<PlanSpec> {
     Ok(spec)
 }
 
-fn secs(v: f64) -> Result<crate::units::Seconds> {
-    crate::units::Seconds::from_si(v).ok_or_else(|| anyhow!("time {v} s out of range"))
-}
-
-fn ratio(v: f64) -> Result<Ratio> {
-    Ratio::from_si(v).ok_or_else(|| anyhow!("ratio {v} out of range"))
-}
-
 /// The search goal and settings of one plan stage.
 pub(super) fn stage_plan(spec: &PlanSpec, s: &StageSpec) -> Result<PlanStage> {
     let family = family_by_name(&spec.family)
@@ -208,22 +192,20 @@ pub(super) fn stage_plan(spec: &PlanSpec, s: &StageSpec) -> Result<PlanStage> {
         } => Goal::Value {
             kind: *kind,
             target: resistance
-                .map(|r| r.si())
-                .or(capacitance.map(|c| c.si()))
-                .unwrap_or(0.0),
+                .map(Value::Resistance)
+                .or(capacitance.map(Value::Capacitance))
+                .unwrap_or(Value::None),
         },
-        TargetSpec::Pulse { width } => Goal::Stages(vec![StageGoal::Pulse { width: width.si() }]),
+        TargetSpec::Pulse { width } => Goal::Stages(vec![StageGoal::Pulse { width: *width }]),
         TargetSpec::Astable { period, duty } => Goal::Stages(vec![StageGoal::Astable {
-            period: period.si(),
-            duty: duty.map_or(Duty::Any, |(a, b)| Duty::Range(a.si(), b.si())),
+            period: *period,
+            duty: duty.map_or(Duty::Any, Duty::Window),
         }]),
         TargetSpec::Steered { high, low } => Goal::Stages(vec![StageGoal::Steered {
-            high: high.si(),
-            low: low.si(),
+            high: *high,
+            low: *low,
         }]),
-        TargetSpec::Square { period } => Goal::Stages(vec![StageGoal::Square {
-            period: period.si(),
-        }]),
+        TargetSpec::Square { period } => Goal::Stages(vec![StageGoal::Square { period: *period }]),
         TargetSpec::Pair { period, width } => {
             let tol = s.tolerance.si();
             if width.si() * (1.0 + tol) >= period.si() * (1.0 - tol) {
@@ -234,10 +216,10 @@ pub(super) fn stage_plan(spec: &PlanSpec, s: &StageSpec) -> Result<PlanStage> {
             }
             Goal::Stages(vec![
                 StageGoal::Astable {
-                    period: period.si(),
+                    period: *period,
                     duty: Duty::Any,
                 },
-                StageGoal::Pulse { width: width.si() },
+                StageGoal::Pulse { width: *width },
             ])
         }
     };
