@@ -9,7 +9,7 @@ use super::goal::{Goal, Settings, StageGoal};
 use super::judge;
 use crate::model::{Kind, Part, Technology, Value};
 use crate::network::{Combine, Net};
-use crate::timing::{Conditions, evaluate};
+use crate::timing::{Conditions, evaluate_times};
 use crate::units::{Farads, Ohms};
 
 /// A network found by the brute force.
@@ -310,7 +310,7 @@ fn stage_error(parts: &[Part], g: &StageGoal, nets: &[&BNet], s: &Settings) -> O
         conditions: cond,
         steering: crate::timing::Steering::default(),
     };
-    let ev = |at: [u8; 3]| evaluate(&stage(at), &s.family, &s.model).ok();
+    let ev = |at: [u8; 3]| evaluate_times(&stage(at), &s.family, &s.model).ok();
     let nominal = ev([0; 3])?;
     let err = judge::judge(g, &nominal, None, s.tol)?;
     if s.guarantee {

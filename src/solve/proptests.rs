@@ -642,10 +642,14 @@ proptest! {
         let (x1, x2) = (val(res[r1.index(res.len())]), val(res[r2.index(res.len())]));
         let t = tol / 100.0;
         if value {
-            // The network x1 + x2 sits exactly on the lower or upper edge of the window.
-            let target = (x1 + x2) / if upper { 1.0 + t } else { 1.0 - t };
-            let goal = Goal::value_si(Kind::Resistor, target).expect("goal");
-            compare(&parts, &goal, &settings(tol, k.max(2), 1, false))?;
+            // The network x1 + x2 sits exactly on the lower or upper edge of the window. A goal
+            // holds its value exactly (in mΩ, as typed), so the tolerance is set from the
+            // stored target to put the edge on the network.
+            let goal = Goal::value_si(Kind::Resistor, (x1 + x2) / if upper { 1.0 + t } else { 1.0 - t })
+                .expect("goal");
+            let Goal::Value { target, .. } = &goal else { unreachable!("a value goal") };
+            let edge = if upper { (x1 + x2) / target.si() - 1.0 } else { 1.0 - (x1 + x2) / target.si() };
+            compare(&parts, &goal, &settings(edge * 100.0, k.max(2), 1, false))?;
         } else {
             let caps = of_kind(&parts, Kind::Capacitor);
             let y = val(caps[c.index(caps.len())]);

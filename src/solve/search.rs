@@ -19,7 +19,7 @@ use super::goal::{
 use super::judge::{self, Worst};
 use crate::model::{Kind, Part, Technology, Value};
 use crate::network::{Cand, Combine, Item, Pool, Step};
-use crate::timing::{Conditions, Evaluation, Factors, Form, evaluate};
+use crate::timing::{Conditions, Evaluation, Factors, Form, evaluate, evaluate_times};
 use crate::units::{Farads, Ohms, Volts};
 use std::cmp::Ordering;
 use std::collections::BTreeMap;
@@ -1425,7 +1425,7 @@ impl<'a> Ctx<'a> {
 
     /// The evaluator's answer for stage `si` of `picks` (None when the form cannot run).
     fn evaluation(&self, picks: &[Pick], si: usize, at: [Corner; 3]) -> Option<Evaluation> {
-        evaluate(&self.stage_at(picks, si, at), self.family, &self.s.model).ok()
+        evaluate_times(&self.stage_at(picks, si, at), self.family, &self.s.model).ok()
     }
 
     /// The worst case of stage `si` over every corner of its positions' tolerances (the same
@@ -1596,7 +1596,7 @@ impl<'a> Ctx<'a> {
             None => (0..self.stages.len())
                 .map(|si| {
                     let goal = &self.stages[si].goal;
-                    let ev = self.evaluation(&picks, si, [Corner::Nominal; 3]);
+                    let ev = evaluate(&self.stage_of(&picks, si), self.family, &self.s.model).ok();
                     let wc = self.worst(&picks, si);
                     StageReport {
                         form: Some(goal.form()),

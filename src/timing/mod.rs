@@ -19,7 +19,7 @@ pub use checks::{
 pub use design::{CapFacts, Form, Stage, StageTimes, Steering, cycle_si};
 pub use evaluate::{
     Banded, DiodeModel, DiodeParams, Effect, Evaluation, Model, SMALL_SIGNAL_DIODE, dc_bias_loss,
-    evaluate, factor_bounds, factor_bounds_between,
+    evaluate, evaluate_times, factor_bounds, factor_bounds_between,
 };
 pub use family::{Family, FamilyError, Figure, FigureKind, Provenance, family_by_name};
 pub use forms::{Conditions, Cycle, Factors, FormError, astable, monostable, square, steered};
