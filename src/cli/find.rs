@@ -843,15 +843,7 @@ pub(crate) fn techs(list: &[String], timing: bool) -> Result<Option<Vec<Technolo
         return Ok(None);
     }
     if list.is_empty() {
-        return Ok(timing.then(|| {
-            vec![
-                Technology::C0g,
-                Technology::Film,
-                Technology::X7r,
-                Technology::Y5v,
-                Technology::Other,
-            ]
-        }));
+        return Ok(timing.then(crate::solve::plan_file::timing_technologies));
     }
     list.iter()
         .map(|t| t.parse::<Technology>().map_err(|e| anyhow!("--tech: {e}")))

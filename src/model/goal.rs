@@ -202,6 +202,14 @@ pub enum Goal {
 }
 
 impl Goal {
+    /// How many timer stages the goal designs (a value substitute counts as one).
+    pub fn stage_count(&self) -> usize {
+        match self {
+            Goal::Stages(s) => s.len(),
+            Goal::Value { .. } => 1,
+        }
+    }
+
     /// A substitute goal from a value in SI units (Ω or F), rounded to the store's exact units;
     /// `None` for a kind that has no value or a value that does not fit.
     pub fn value_si(kind: Kind, si: f64) -> Option<Goal> {

@@ -6,6 +6,7 @@ pub mod find;
 pub mod list;
 pub mod netlist;
 pub mod pictures;
+pub mod plan;
 pub mod reach_text;
 pub mod reorder;
 pub mod schematic;

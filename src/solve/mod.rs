@@ -12,6 +12,7 @@ pub mod goal;
 pub mod judge;
 pub mod kits;
 pub mod plan;
+pub mod plan_file;
 pub mod reach;
 pub mod search;
 pub mod suggest;

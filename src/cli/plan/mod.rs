@@ -5,7 +5,11 @@
 //! units use each; this module loads stock, holds parts when asked, and renders. Reorders read a
 //! price list (see [`prices`]; a built-in invented one by default).
 
-pub mod file;
+/// The plan file (its reader lives in the model layer; the old path stays for callers).
+pub use crate::model::plan as file;
+use crate::report::plan as report_plan;
+pub(crate) use crate::report::plan::{claim_text, unit_span};
+pub(crate) use crate::solve::plan_file::{plan_answer, stage_plan};
 pub mod prices;
 mod reorder;
 mod sheet;
@@ -15,18 +19,14 @@ pub(crate) use sheet::write_find_sheet;
 pub use reorder::ReorderArgs;
 use reorder::{REORDER_EXAMPLES, run_reorder};
 
-use super::find::{stage_of, techs};
+use super::find::stage_of;
 use super::{Context, Status};
-use crate::report::find::{describe_goal, jdesign, write_design};
-use crate::solve::allocate::{Limits, Proof};
-use crate::solve::plan::{self, Bound, Buildable, Cover, Mix, PlanStage, StageShare};
-use crate::solve::{Duty, Goal, Rank, Settings, StageGoal, family_by_name};
-use crate::store::{Part, Value};
-use crate::timing::Conditions;
+use crate::solve::allocate::Limits;
+use crate::solve::plan::PlanStage;
+use crate::solve::{Duty, StageGoal};
 use crate::units::{parse_ratio, parse_voltage};
 use anyhow::{Context as _, Result, anyhow, bail};
 use file::{PlanSpec, StageSpec, TargetSpec};
-use serde::Serialize;
 use std::io::Write;
 use std::path::PathBuf;
 use std::time::Duration;
@@ -180,69 +180,6 @@ pub(super) fn load_plan(src: &PlanSource) -> Result<PlanSpec> {
     Ok(spec)
 }
 
-/// The search goal and settings of one plan stage.
-pub(super) fn stage_plan(spec: &PlanSpec, s: &StageSpec) -> Result<PlanStage> {
-    let family = family_by_name(&spec.family)
-        .ok_or_else(|| anyhow!("unknown family {:?}: use bipolar or cmos", spec.family))?;
-    let goal = match &s.target {
-        TargetSpec::Value {
-            kind,
-            resistance,
-            capacitance,
-        } => Goal::Value {
-            kind: *kind,
-            target: resistance
-                .map(Value::Resistance)
-                .or(capacitance.map(Value::Capacitance))
-                .unwrap_or(Value::None),
-        },
-        TargetSpec::Pulse { width } => Goal::Stages(vec![StageGoal::Pulse { width: *width }]),
-        TargetSpec::Astable { period, duty } => Goal::Stages(vec![StageGoal::Astable {
-            period: *period,
-            duty: duty.map_or(Duty::Any, Duty::Window),
-        }]),
-        TargetSpec::Steered { high, low } => Goal::Stages(vec![StageGoal::Steered {
-            high: *high,
-            low: *low,
-        }]),
-        TargetSpec::Square { period } => Goal::Stages(vec![StageGoal::Square { period: *period }]),
-        TargetSpec::Pair { period, width } => {
-            let tol = s.tolerance.si();
-            if width.si() * (1.0 + tol) >= period.si() * (1.0 - tol) {
-                bail!(
-                    "stage {:?}: the pulse width must stay below the period even at the edges of the tolerance",
-                    s.name
-                );
-            }
-            Goal::Stages(vec![
-                StageGoal::Astable {
-                    period: *period,
-                    duty: Duty::Any,
-                },
-                StageGoal::Pulse { width: *width },
-            ])
-        }
-    };
-    let timing = !matches!(goal, Goal::Value { .. });
-    Ok(PlanStage {
-        name: s.name.clone(),
-        goal,
-        settings: Settings {
-            tol: s.tolerance.si(),
-            max_pieces: s.pieces,
-            alternatives: 1,
-            guarantee: s.guarantee,
-            family,
-            model: crate::timing::Model::real(),
-            conditions: Conditions::ideal(spec.supply),
-            cap_techs: techs(&[], timing)?,
-            min_cap_rating: Some(spec.supply.si() * 1.5),
-            time_limit: Some(Duration::from_secs(10)),
-            rank: Rank::FewestPieces,
-        },
-    })
-}
-
 pub(super) fn limits(src: &PlanSource) -> Result<Limits> {
     let t = crate::units::parse_time(&src.time_limit).map_err(|e| anyhow!(e))?;
     if !t.is_positive() {
@@ -252,140 +189,6 @@ pub(super) fn limits(src: &PlanSource) -> Result<Limits> {
         per_phase: Duration::from_secs_f64(t.si()),
         ..Limits::default()
     })
-}
-
-/// "units 1–12" or "unit 13".
-pub(super) fn unit_span(first: u32, n: u32) -> String {
-    if n == 1 {
-        format!("unit {first}")
-    } else {
-        format!("units {first}–{}", first + n - 1)
-    }
-}
-
-/// What the proof covers: the whole design space, or the candidate lists offered (and which
-/// stages had more designs than were offered). `bound` says why the unit count is the most
-/// possible even so, when it is; `rest` names what is only proven over the candidates
-/// ("fewest pieces", "least cost").
-pub(crate) fn claim_text(p: Proof, cover: &[Cover], bound: Option<&Bound>, rest: &str) -> String {
-    let base = proof_text(p);
-    if p != Proof::Optimal {
-        return base.to_string();
-    }
-    let cut: Vec<&Cover> = cover.iter().filter(|c| !c.complete).collect();
-    if cut.is_empty() {
-        return format!("{base} over every design that meets the targets");
-    }
-    let offered: Vec<String> = cover.iter().map(|c| c.offered.to_string()).collect();
-    let names: Vec<String> = cut.iter().map(|c| format!("{:?}", c.stage)).collect();
-    let most = cover.iter().map(|c| c.offered).max().unwrap_or(0);
-    let stopped: Vec<String> = cut
-        .iter()
-        .filter(|c| c.timed_out)
-        .map(|c| format!("{:?}", c.stage))
-        .collect();
-    let mut left_out = format!(
-        "{} {} more designs that were left out — `--candidates {}` offers more",
-        names.join(", "),
-        if cut.len() == 1 { "has" } else { "have" },
-        most.saturating_mul(2).max(1)
-    );
-    if !stopped.is_empty() {
-        left_out += &format!(
-            " (the search for {} stopped at its time limit)",
-            stopped.join(", ")
-        );
-    }
-    let offered = offered.join(", ");
-    match bound {
-        Some(Bound::EveryUnit) => format!(
-            "every unit is built; {rest} proven only over the {offered} candidate designs offered per stage: {left_out}"
-        ),
-        Some(Bound::Stage(s)) => format!(
-            "no plan can build more: stage {s:?} alone cannot, from the whole stock, over every design it has; {rest} proven only over the {offered} candidate designs offered per stage: {left_out}"
-        ),
-        None => format!(
-            "{base} only over the {offered} candidate designs offered per stage, so a better plan may exist: {left_out}"
-        ),
-    }
-}
-
-/// Positions of the plan that use the same parts wired in different ways (series in one place,
-/// parallel in another), as loud warnings: a builder following one unit's list may wire
-/// another unit's parts the wrong way.
-pub(super) fn wiring_clashes(parts: &[Part], shares: &[StageShare]) -> Vec<String> {
-    use std::collections::BTreeMap;
-    // parts (by label, sorted) → [(network in words, where)]
-    let mut seen: BTreeMap<Vec<String>, Vec<(String, String)>> = BTreeMap::new();
-    for share in shares {
-        let mut first = 1;
-        for (d, n) in &share.uses {
-            for p in d.positions.iter().filter(|p| p.rows.len() > 1) {
-                let label = |i: usize| {
-                    p.rows
-                        .get(i)
-                        .and_then(|&r| parts.get(r))
-                        .map(Part::label)
-                        .unwrap_or_default()
-                };
-                let mut key: Vec<String> = (0..p.rows.len()).map(label).collect();
-                key.sort();
-                let how = p.net.describe(&label);
-                let at = format!("stage {:?} {} {}", share.name, unit_span(first, *n), p.name);
-                let list = seen.entry(key).or_default();
-                if !list.iter().any(|(h, _)| *h == how) {
-                    list.push((how, at));
-                }
-            }
-            first += n;
-        }
-    }
-    seen.into_iter()
-        .filter(|(_, ways)| ways.len() > 1)
-        .map(|(key, ways)| {
-            let ways: Vec<String> = ways
-                .iter()
-                .map(|(how, at)| format!("{at}: {how}"))
-                .collect();
-            format!(
-                "CAUTION: the same parts ({}) are wired {} different ways in this plan — {}. Check each unit against its own list before soldering.",
-                key.join(", "),
-                ways.len(),
-                ways.join("; ")
-            )
-        })
-        .collect()
-}
-
-pub(super) fn proof_text(p: Proof) -> &'static str {
-    match p {
-        Proof::Optimal => "proven optimal",
-        Proof::TimeLimited => {
-            "a time limit stopped the integer program: feasible, not proven optimal"
-        }
-    }
-}
-
-/// The plan computation of `onhand plan` on plain values (the web page calls it too): the
-/// search goal of each stage, then how many units the stock `parts` builds, with at most
-/// `variants` designs per stage when given (the file's own `variants` otherwise applies only
-/// where the caller passes it).
-pub(crate) fn plan_answer(
-    spec: &PlanSpec,
-    parts: &[Part],
-    candidates: usize,
-    variants: Option<u32>,
-    limits: Limits,
-) -> Result<(Vec<PlanStage>, Buildable)> {
-    let stages: Vec<PlanStage> = spec
-        .stages
-        .iter()
-        .map(|s| stage_plan(spec, s))
-        .collect::<Result<_>>()?;
-    let mix = variants.map_or(Mix::Mixed, |variants| Mix::Kits { variants });
-    let answer = plan::plan_units(parts, &stages, spec.units, candidates, mix, limits)
-        .context("planning")?;
-    Ok((stages, answer))
 }
 
 fn run_plan(args: PlanArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status> {
@@ -425,62 +228,26 @@ fn run_plan(args: PlanArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status
         _ => Vec::new(),
     };
     if ctx.json {
-        #[derive(Serialize)]
-        struct JUse<'a> {
-            units: u32,
-            first_unit: u32,
-            design: crate::report::find::JDesign<'a>,
-        }
-        #[derive(Serialize)]
-        struct JStage<'a> {
-            name: &'a str,
-            goal: String,
-            candidates: usize,
-            designs: Vec<JUse<'a>>,
-        }
-        let j = serde_json::json!({
-            "schema": crate::report::style::JSON_SCHEMA,
-            "plan": spec.name,
-            "wanted": answer.wanted,
-            "built": answer.built,
-            "proof": answer.proof,
-            "optimal_over": if answer.cover.iter().all(|c| c.complete) { "every design" } else { "the candidates offered" },
-            "cover": answer.cover,
-            "units_bound_by": answer.units_bound_by,
-            "wiring_warnings": wiring_clashes(&parts, &answer.stages),
-            "mix": answer.mix,
-            "mixed_built": answer.mixed_built,
-            "classes": answer.classes,
-            "integer_program": answer.size,
-            "pieces": answer.pieces,
-            "stages": answer.stages.iter().zip(&stages).map(|(sh, st)| {
-                let mut first = 1;
-                JStage {
-                    name: &sh.name,
-                    goal: describe_goal(&st.goal, &st.settings),
-                    candidates: sh.candidates,
-                    designs: sh.uses.iter().enumerate().map(|(i, (d, n))| {
-                        let u = JUse { units: *n, first_unit: first, design: jdesign(&parts, i + 1, d) };
-                        first += n;
-                        u
-                    }).collect(),
-                }
-            }).collect::<Vec<_>>(),
-            "takes": answer.takes.iter().map(|&(row, n)| serde_json::json!({
-                "part_id": parts[row].id, "part": parts[row].label(), "bin": parts[row].bin,
-                "pieces": n, "free": parts[row].available(),
-            })).collect::<Vec<_>>(),
-            "impossible": answer.impossible,
-            "short": answer.short.iter().map(|s| serde_json::json!({
-                "stage": s.stage, "units": s.units, "part_id": parts[s.row].id, "part": parts[s.row].label(),
-                "bin": parts[s.row].bin, "need": s.need, "left": s.left,
-            })).collect::<Vec<_>>(),
-            "held": held,
-            "sheets": sheets,
-        });
+        let view = report_plan::PlanView {
+            spec: &spec,
+            stages: &stages,
+            parts: &parts,
+            answer: &answer,
+        };
+        let mut j = report_plan::plan_json(&view);
+        j["held"] = serde_json::to_value(&held)?;
+        j["sheets"] = serde_json::to_value(&sheets)?;
         writeln!(out, "{j}")?;
     } else {
-        write_plan(out, &spec, &stages, &parts, &answer)?;
+        report_plan::write_plan(
+            out,
+            &report_plan::PlanView {
+                spec: &spec,
+                stages: &stages,
+                parts: &parts,
+                answer: &answer,
+            },
+        )?;
         if let Some(dir) = &args.sheet {
             if sheets.is_empty() {
                 writeln!(out, "\nNo build sheets: no unit can be built.")?;
@@ -514,159 +281,12 @@ fn run_plan(args: PlanArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status
     })
 }
 
-fn write_plan(
-    out: &mut dyn Write,
-    spec: &PlanSpec,
-    stages: &[PlanStage],
-    parts: &[Part],
-    a: &Buildable,
-) -> Result<()> {
-    writeln!(
-        out,
-        "Plan {:?}: {} unit{} of {} stage{}, {} timer at {}",
-        spec.name,
-        spec.units,
-        if spec.units == 1 { "" } else { "s" },
-        stages.len(),
-        if stages.len() == 1 { "" } else { "s" },
-        spec.family,
-        spec.supply
-    )?;
-    writeln!(out)?;
-    if let Mix::Kits { variants } = a.mix {
-        let how = if variants == 1 {
-            "identical kits: one design per stage for every unit".to_string()
-        } else {
-            format!("kits with at most {variants} designs per stage across all units")
-        };
-        writeln!(out, "Planned as {how}.")?;
-    }
-    writeln!(
-        out,
-        "The stock can build {} of {} units ({}; integer program of {} variables and {} constraints).",
-        a.built,
-        a.wanted,
-        claim_text(
-            a.proof,
-            &a.cover,
-            a.units_bound_by.as_ref(),
-            "fewest pieces"
-        ),
-        a.size.variables,
-        a.size.constraints
-    )?;
-    if let Some(mixed) = a.mixed_built {
-        let cmp = match mixed.cmp(&a.built) {
-            std::cmp::Ordering::Greater => format!(
-                "{} more than these kits; drop --identical/--variants to build them",
-                mixed - a.built
-            ),
-            _ => "no more than these kits".to_string(),
-        };
-        writeln!(
-            out,
-            "A mixed plan (any design for any unit) from the same candidates builds {mixed} of {} units: {cmp}.",
-            a.wanted
-        )?;
-    }
-    for (share, st) in a.stages.iter().zip(stages) {
-        writeln!(out)?;
-        writeln!(
-            out,
-            "Stage {:?} — {} ({} candidate designs)",
-            share.name,
-            describe_goal(&st.goal, &st.settings),
-            share.candidates
-        )?;
-        if share.uses.is_empty() {
-            writeln!(out, "  no unit can be built with this stage")?;
-        }
-        let mut first = 1;
-        for (d, n) in &share.uses {
-            writeln!(out, "  {}:", unit_span(first, *n))?;
-            write_design(out, parts, d, st.goal_stages())?;
-            first += n;
-        }
-    }
-    let clashes = wiring_clashes(parts, &a.stages);
-    if !clashes.is_empty() {
-        writeln!(out)?;
-        for c in &clashes {
-            writeln!(out, "{c}")?;
-        }
-    }
-    if !a.takes.is_empty() {
-        writeln!(out)?;
-        writeln!(out, "Takes from stock ({} pieces):", a.pieces)?;
-        for &(row, n) in &a.takes {
-            let p = &parts[row];
-            writeln!(
-                out,
-                "  {n:>4} × {:<32} {} ({} free)",
-                p.label(),
-                p.place(),
-                p.available()
-            )?;
-        }
-    }
-    if !a.impossible.is_empty() {
-        writeln!(out)?;
-        writeln!(
-            out,
-            "Nothing in stock can meet these stages: {}. `onhand reorder` says what to buy.",
-            a.impossible.join(", ")
-        )?;
-    }
-    if !a.short.is_empty() {
-        writeln!(out)?;
-        let rest = a.wanted - a.built;
-        writeln!(
-            out,
-            "Short for the other {rest} unit{}:",
-            if rest == 1 { "" } else { "s" }
-        )?;
-        let mut last = "";
-        for s in &a.short {
-            if s.stage != last {
-                let what = if s.units == 1 {
-                    "1 unit".to_string()
-                } else {
-                    format!("{} units", s.units)
-                };
-                writeln!(
-                    out,
-                    "  stage {:?}: {what} cannot be built from what is left; its best design lacks",
-                    s.stage
-                )?;
-                last = &s.stage;
-            }
-            let p = &parts[s.row];
-            writeln!(
-                out,
-                "    {} × {} ({}, {} left)",
-                s.need,
-                p.label(),
-                p.place(),
-                s.left
-            )?;
-        }
-        writeln!(
-            out,
-            "  `onhand reorder` chooses the cheapest purchase that builds them all."
-        )?;
-    }
-    Ok(())
-}
-
 pub(super) trait StageCount {
     fn goal_stages(&self) -> usize;
 }
 
 impl StageCount for PlanStage {
     fn goal_stages(&self) -> usize {
-        match &self.goal {
-            Goal::Stages(s) => s.len(),
-            Goal::Value { .. } => 1,
-        }
+        self.goal.stage_count()
     }
 }

@@ -33,7 +33,7 @@
 //! `frequency`/`period` and `width`. Every value is read with the units parser, so `4k7`,
 //! `100n`, `1.5 kHz` all work. Unknown keys are errors, so a typo never silently drops a target.
 
-use crate::store::Kind;
+use crate::model::Kind;
 use crate::units::{self, Hertz, Ratio, Seconds, Volts};
 use serde::Deserialize;
 
@@ -99,7 +99,7 @@ pub enum TargetSpec {
         /// Period.
         period: Seconds,
         /// Duty window, if any.
-        duty: Option<crate::model::DutyWindow>,
+        duty: Option<super::DutyWindow>,
     },
     /// Diode-steered astable.
     Steered {
@@ -195,7 +195,7 @@ fn period_of(stage: &str, s: &RawStage) -> Result<Seconds, PlanFileError> {
 
 /// Read a duty window in the one grammar every command shares (`model::parse_duty`):
 /// `55%..70%`, `0.55..0.7`, `60%±2`, or a single value meaning ±1 point.
-pub fn parse_duty(text: &str) -> Result<crate::model::DutyWindow, PlanFileError> {
+pub fn parse_duty(text: &str) -> Result<super::DutyWindow, PlanFileError> {
     crate::model::parse_duty(text).map_err(|e| PlanFileError(format!("duty: {e}")))
 }
 
@@ -203,10 +203,10 @@ pub fn parse_duty(text: &str) -> Result<crate::model::DutyWindow, PlanFileError>
 pub fn parse_plan(text: &str) -> Result<PlanSpec, PlanFileError> {
     let raw: RawPlan =
         toml::from_str(text).map_err(|e| PlanFileError(format!("plan file: {e}")))?;
-    crate::store::text::check_field(
+    crate::model::text::check_field(
         "the plan's `name`",
         raw.name.trim(),
-        crate::store::text::MAX_NAME,
+        crate::model::text::MAX_NAME,
     )
     .map_err(|e| PlanFileError(format!("plan file: {e}")))?;
     if raw.name.trim().is_empty() {
@@ -238,10 +238,10 @@ pub fn parse_plan(text: &str) -> Result<PlanSpec, PlanFileError> {
         let name = match s.name.as_deref().map(str::trim) {
             Some("") | None => format!("stage {}", i + 1),
             Some(given) => {
-                crate::store::text::check_field(
+                crate::model::text::check_field(
                     "a stage name",
                     given,
-                    crate::store::text::MAX_NAME,
+                    crate::model::text::MAX_NAME,
                 )
                 .map_err(|e| PlanFileError(format!("plan file: stage {}: {e}", i + 1)))?;
                 given.to_string()
