@@ -443,54 +443,94 @@ fn a_purchase_of_several_pieces_says_how_many() {
 }
 
 /// A quantity of stage 0 of the best design in a `find --json` answer.
-fn found_quantity(j: &serde_json::Value, name: &str) -> serde_json::Value {
-    j["designs"][0]["stages"][0]["quantities"]
-        .as_array()
-        .expect("quantities")
-        .iter()
-        .find(|q| q["name"] == name)
-        .unwrap_or_else(|| panic!("no {name} in {j}"))
-        .clone()
-}
-
 #[test]
 fn each_position_expression_is_accepted_by_check_with_the_same_numbers() {
-    let (b, s) = drawer();
-    for (find_args, form, ours, theirs) in [
-        (vec!["pulse", "1ms"], "monostable", "width", "high"),
-        (
-            vec!["astable", "1kHz", "--duty", "55..75%", "--within", "5%"],
-            "astable",
-            "period",
-            "period",
-        ),
+    // In every form, the design `find` reports is handed to `check` exactly as `find --json`
+    // describes it: each position's expression (every piece with its stocked tolerance in
+    // brackets) and the capacitor's dielectric. Both run the one evaluator and the one
+    // worst-case rule, so nominal, model band and worst case agree. `check` adds the timer's
+    // temperature drift over ±25 °C by default; `find` judges at room temperature (its worst
+    // case is the parts' tolerance and the timer's initial error), so `--temp-span 0`.
+    let b = Bench::new();
+    let s = crate::util::repo_path("sample-stock/bench-drawer.csv");
+    let s = s.to_str().expect("a path in UTF-8");
+    for find_args in [
+        vec!["pulse", "250ms"],
+        vec!["astable", "1kHz", "--duty", "55..75%", "--within", "5%"],
+        vec!["square", "1kHz", "--within", "2%"],
+        vec![
+            "steered", "--high", "700us", "--low", "1.5ms", "--within", "5%", "--pieces", "1",
+        ],
     ] {
         let mut args = vec!["--json", "find"];
         args.extend(find_args.iter().copied());
-        args.extend(["--stock", &s]);
-        let j = b.run(&args).ok().json();
-        let mut check = vec!["--json".to_string(), "check".into(), form.into()];
-        for p in j["designs"][0]["positions"].as_array().expect("positions") {
+        args.extend(["--stock", s]);
+        let j = b.run(&args).json();
+        let design = &j["designs"][0];
+        let stage = &design["stages"][0];
+        let form = stage["form"].as_str().expect("form");
+        let mut check = vec![
+            "--json".to_string(),
+            "check".into(),
+            form.into(),
+            "--temp-span".into(),
+            "0".into(),
+        ];
+        for p in design["positions"].as_array().expect("positions") {
+            let name = match p["name"].as_str().expect("name") {
+                "Ra" => "RA",
+                "Rb" => "RB",
+                other => other,
+            };
             let expr = p["expression"].as_str().expect("expression");
-            check.push(format!("{}={expr}", p["name"].as_str().expect("name")));
+            assert!(
+                expr.contains('['),
+                "{expr}: each piece carries its tolerance"
+            );
+            check.push(format!("{name}={expr}"));
+            if p["kind"] == "capacitor" {
+                let tech = p["pieces"][0]["technology"].as_str().expect("technology");
+                check.extend(["--cap".to_string(), format!("{name}={tech}")]);
+            }
         }
         let check: Vec<&str> = check.iter().map(String::as_str).collect();
         let c = b.run(&check).ok().json();
-        let theirs = c["analyses"][0]["nominal"]
-            .as_array()
-            .expect("check nominal")
-            .iter()
-            .find(|q| q["quantity"] == theirs)
-            .expect("check quantity")["nominal"]
-            .as_f64()
-            .expect("number");
-        let ours = found_quantity(&j, ours)["nominal"].as_f64().expect("ours");
-        // The evaluator takes exact units (mΩ, fF), so a parallel network's value is rounded
-        // to a few parts in a million before it is timed; beyond that the numbers agree.
-        assert!(
-            ((ours - theirs) / theirs).abs() < 5e-6,
-            "{form}: find {ours} vs check {theirs} ({check:?})"
-        );
+        let analysis = &c["analyses"][0];
+        let theirs = |list: &serde_json::Value, q: &str| -> serde_json::Value {
+            let q = if q == "width" { "high" } else { q };
+            list.as_array()
+                .expect("list")
+                .iter()
+                .find(|x| x["quantity"] == q)
+                .unwrap_or_else(|| panic!("{form}: check has no {q}"))
+                .clone()
+        };
+        let quantities = stage["quantities"].as_array().expect("quantities");
+        assert!(!quantities.is_empty());
+        for q in quantities {
+            let name = q["name"].as_str().expect("name");
+            let nominal = theirs(&analysis["nominal"], name);
+            let worst = theirs(&analysis["worst_case"]["intervals"], name);
+            for (field, ours, theirs) in [
+                ("nominal", &q["nominal"], &nominal["nominal"]),
+                ("band_lo", &q["band_lo"], &nominal["band_lo"]),
+                ("band_hi", &q["band_hi"], &nominal["band_hi"]),
+                ("worst_lo", &q["worst_lo"], &worst["worst_lo"]),
+                ("worst_hi", &q["worst_hi"], &worst["worst_hi"]),
+            ] {
+                let (ours, theirs) = (
+                    ours.as_f64().expect("ours"),
+                    theirs.as_f64().expect("theirs"),
+                );
+                // The evaluator takes exact units (mΩ, fF), so a parallel network's value is
+                // rounded to a few parts in a billion before it is timed; beyond that the
+                // numbers are the same.
+                assert!(
+                    ((ours - theirs) / theirs).abs() < 1e-6,
+                    "{form} {name} {field}: find {ours} vs check {theirs} ({check:?})"
+                );
+            }
+        }
     }
 }
 

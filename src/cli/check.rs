@@ -519,6 +519,7 @@ fn prepare(args: &CheckArgs) -> anyhow::Result<Prepared> {
             let given_tol = tols.get(&full).copied();
             let tolerance = given_tol.unwrap_or(default);
             let is_unknown = unknown.as_deref() == Some(full.as_str());
+            let mut shown_tol = None;
             let (pos, expression) = if is_unknown {
                 // Placeholder; the inference replaces it. Taken exact.
                 let zero = Tolerance {
@@ -533,22 +534,39 @@ fn prepare(args: &CheckArgs) -> anyhow::Result<Prepared> {
                 (Position::single(&full, combine, v, zero), "?".to_string())
             } else {
                 let expr = exprs.get(&full).cloned().unwrap_or_default();
-                let (net, vals) = match combine {
-                    Combine::Resistive => parse_net(&expr, &mut |s: &str| {
-                        parse_resistance(s).map(|o: Ohms| o.si())
-                    }),
-                    Combine::Capacitive => parse_net(&expr, &mut |s: &str| {
-                        parse_capacitance(s).map(|f: Farads| f.si())
-                    }),
-                }
-                .with_context(|| format!("position {full}"))?;
-                if given_tol.is_none() {
+                // Each leaf: a value, optionally with its own tolerance in brackets
+                // (`4k7[1%]`, as `find --json` writes each position's expression).
+                let mut leaf = |s: &str| -> Result<(f64, Option<Tolerance>), String> {
+                    let (value, tol) = match s.split_once('[') {
+                        Some((v, t)) => {
+                            let t = t.strip_suffix(']').ok_or("a '[' without its ']'")?;
+                            (
+                                v.trim(),
+                                Some(parse_tolerance(t).map_err(|e| e.to_string())?),
+                            )
+                        }
+                        None => (s, None),
+                    };
+                    let si = match combine {
+                        Combine::Resistive => parse_resistance(value).map(|o: Ohms| o.si()),
+                        Combine::Capacitive => parse_capacitance(value).map(|f: Farads| f.si()),
+                    }
+                    .map_err(|e| e.to_string())?;
+                    Ok((si, tol))
+                };
+                let (net, vals) =
+                    parse_net(&expr, &mut leaf).with_context(|| format!("position {full}"))?;
+                if given_tol.is_none() && vals.iter().any(|(_, t)| t.is_none()) {
                     defaults_used.push(format!("{full} {}", tolerance_text(default)));
                 }
-                let pieces = vals
+                let pieces: Vec<Piece> = vals
                     .into_iter()
-                    .map(|value| Piece { value, tolerance })
+                    .map(|(value, own)| Piece {
+                        value,
+                        tolerance: own.unwrap_or(tolerance),
+                    })
                     .collect();
+                shown_tol = pieces_tolerance_text(&pieces);
                 (
                     Position {
                         name: full.clone(),
@@ -575,7 +593,9 @@ fn prepare(args: &CheckArgs) -> anyhow::Result<Prepared> {
                 } else {
                     "Ω"
                 },
-                tolerance: tolerance_text(tolerance),
+                tolerance: shown_tol
+                    .take()
+                    .unwrap_or_else(|| tolerance_text(tolerance)),
                 pieces: pos.pieces.len(),
                 inferred: is_unknown,
             });
@@ -889,6 +909,27 @@ pub fn run(args: CheckArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resul
     } else {
         Status::NotMet
     })
+}
+
+/// The tolerance shown for a position: the one every piece shares, or each distinct one.
+fn pieces_tolerance_text(pieces: &[Piece]) -> Option<String> {
+    let mut seen: Vec<Tolerance> = Vec::new();
+    for p in pieces {
+        if !seen.contains(&p.tolerance) {
+            seen.push(p.tolerance);
+        }
+    }
+    match seen.as_slice() {
+        [] => None,
+        [one] => Some(tolerance_text(*one)),
+        many => Some(format!(
+            "per piece: {}",
+            many.iter()
+                .map(|t| tolerance_text(*t))
+                .collect::<Vec<_>>()
+                .join(", ")
+        )),
+    }
 }
 
 #[cfg(test)]

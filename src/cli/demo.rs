@@ -119,20 +119,8 @@ fn check_args_of(found: &serde_json::Value) -> Result<Vec<String>> {
             "Rb" => "RB",
             other => other,
         };
+        // The expression carries each piece's tolerance (`5.6kΩ[±1%]`).
         args.push(format!("{check_name}={expr}"));
-        if let [piece] = p["pieces"]
-            .as_array()
-            .map(Vec::as_slice)
-            .unwrap_or_default()
-        {
-            if let Some(t) = piece["tolerance"].as_f64() {
-                args.push("--tol".into());
-                args.push(format!(
-                    "{check_name}={}%",
-                    crate::units::decimal_text(t * 100.0, 3)
-                ));
-            }
-        }
     }
     Ok(args)
 }

@@ -151,7 +151,8 @@ pub struct NetParseError {
 
 /// Parse a network expression such as `33k+2k2`, `10n||2n2`, `(10k||10k)+1k` or `10n//2n2`.
 /// `+` is series, `||`, `//` or `∥` is parallel; parentheses group; without them parallel
-/// binds tighter than series. Each leaf is handed to `leaf` and its result collected in order;
+/// binds tighter than series. A leaf may end in a bracketed part (`4k7[1%]`), handed to `leaf`
+/// whole: operators inside brackets do not split it. Each leaf is handed to `leaf` and its result collected in order;
 /// the returned tree indexes that list.
 pub fn parse_net<T, E: fmt::Display>(
     text: &str,
@@ -241,10 +242,19 @@ impl<T> Parser<'_, T> {
         }
         self.skip_ws();
         let rest = &self.src[self.pos..];
+        // A leaf may carry its own tolerance in brackets (`4k7[1%]`, `10u[-20/+80%]`): nothing
+        // inside the brackets is an operator.
+        let mut in_brackets = false;
         let end = rest
             .char_indices()
             .find(|&(i, c)| {
-                c == '+' && !is_exponent_sign(rest, i) || c == '∥' || c == '(' || c == ')'
+                match c {
+                    '[' => in_brackets = true,
+                    ']' => in_brackets = false,
+                    _ => {}
+                }
+                !in_brackets
+                    && (c == '+' && !is_exponent_sign(rest, i) || c == '∥' || c == '(' || c == ')')
             })
             .map_or(rest.len(), |(i, _)| i);
         let token = rest[..end].trim();
@@ -270,6 +280,18 @@ mod tests {
 
     fn num(s: &str) -> Result<f64, String> {
         s.parse::<f64>().map_err(|e| e.to_string())
+    }
+
+    #[test]
+    fn a_bracketed_tolerance_stays_with_its_leaf() {
+        let mut leaves = Vec::new();
+        let (net, _) = parse_net("10u[-20/+80%] + 4u7[10%]||1u", &mut |s: &str| {
+            leaves.push(s.to_string());
+            Ok::<_, String>(())
+        })
+        .expect("parse");
+        assert_eq!(leaves, ["10u[-20/+80%]", "4u7[10%]", "1u"]);
+        assert_eq!(net.pieces(), 3);
     }
 
     #[test]

@@ -467,8 +467,14 @@ fn render(r: &CheckReport, out: &mut String) -> std::fmt::Result {
         let shown = if p.inferred {
             format!("{value}  (inferred from the measurement, taken exact)")
         } else if p.pieces > 1 {
+            // "per piece: ±1 %, ±5 %" when the pieces differ; one tolerance otherwise.
+            let each = if p.tolerance.starts_with("per piece") {
+                ""
+            } else {
+                "each "
+            };
             format!(
-                "{value}  = {}  ({} pieces, each {})",
+                "{value}  = {}  ({} pieces, {each}{})",
                 p.expression, p.pieces, p.tolerance
             )
         } else {

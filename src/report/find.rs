@@ -206,12 +206,19 @@ pub(crate) fn describe_model(m: &crate::timing::Model) -> String {
     format!("real parts: {}", on.join(", "))
 }
 
-/// A network as `onhand check` reads it for a position: `150kΩ+820kΩ`, `(10nF||2.2nF)+1nF`.
+/// A network as `onhand check` reads it for a position, each piece with its stocked tolerance
+/// in brackets: `150kΩ[±1%]+820kΩ[±1%]`, `(10nF[±5%]||2.2nF[±5%])+1nF[−20/+80%]`.
 pub(crate) fn expression(parts: &[Part], p: &crate::solve::Position) -> String {
-    let leaf = |i: usize| match p.rows.get(i).and_then(|&r| parts.get(r)).map(|pt| pt.value) {
-        Some(Value::Resistance(r)) => r.to_string().replace(' ', ""),
-        Some(Value::Capacitance(c)) => c.to_string().replace(' ', ""),
-        _ => "?".into(),
+    let leaf = |i: usize| {
+        let Some(pt) = p.rows.get(i).and_then(|&r| parts.get(r)) else {
+            return "?".into();
+        };
+        let value = match pt.value {
+            Value::Resistance(r) => r.to_string(),
+            Value::Capacitance(c) => c.to_string(),
+            Value::None => return "?".into(),
+        };
+        format!("{value}[{}]", pt.tolerance).replace(' ', "")
     };
     p.net.expression(&leaf)
 }
@@ -400,6 +407,10 @@ struct JPiece<'a> {
     bin: &'a str,
     value: f64,
     tolerance: f64,
+    /// The dielectric or resistor technology, as `--cap` and `add --tech` read it.
+    technology: Option<&'static str>,
+    /// The voltage rating in volts, when the stock records one.
+    voltage_rating: Option<f64>,
 }
 
 #[derive(Serialize)]
@@ -466,12 +477,16 @@ pub(crate) fn jdesign<'a>(parts: &'a [Part], rank: usize, d: &'a Design) -> JDes
                             bin: &pt.bin,
                             value: si(pt),
                             tolerance: pt.tolerance.widest().si(),
+                            technology: Some(pt.technology.as_str()),
+                            voltage_rating: pt.voltage_rating.map(|v| v.si()),
                         },
                         None => JPiece {
                             part_id: -1,
                             bin: "(to buy)",
                             value: f64::NAN,
                             tolerance: f64::NAN,
+                            technology: None,
+                            voltage_rating: None,
                         },
                     })
                     .collect(),
