@@ -8,7 +8,10 @@
 //!    children in /proc/self/stat), peak resident set (GNU time, `wait4`), the ratio of the two
 //!    stocks, and that the best piece counts agree.
 //! 3. `plan` with 100 units and 5 stages on the 50 000-row stock.
-//! 4. `import` of a 200 000-row CSV: wall time and peak resident set.
+//! 4. `import` of 50 000 and 200 000 rows, CSV and JSON, from a file and from standard input:
+//!    median wall time and the child's peak resident set, and the ratio of the peaks (bounded
+//!    memory: the 200 000-row peak is the 50 000-row peak up to a small constant).
+//!    `SCALE_BENCH_ONLY=import` runs this part alone.
 //!
 //! Wall times on a shared machine carry the other processes' load; the CPU figure does not.
 //! Prints figures; asserts only that runs succeed and answers agree. Targets: find median
@@ -237,6 +240,10 @@ fn mean(v: &[f64]) -> f64 {
 
 fn main() {
     let dir = tempfile::tempdir().expect("temp dir");
+    if std::env::var("SCALE_BENCH_ONLY").is_ok_and(|v| v == "import") {
+        import_figures(dir.path());
+        return;
+    }
     let (big_csv, big_rows) = stock_csv(50_000, false);
     let (small_csv, small_rows) = stock_csv(50_000, true);
     let big = dir.path().join("big.csv");
@@ -442,35 +449,145 @@ fn main() {
     );
     println!();
 
-    println!("== 4. import of a 200 000-row CSV ==");
-    let (huge_csv, huge_rows) = stock_csv(200_000, false);
-    let huge = dir.path().join("huge.csv");
-    std::fs::write(&huge, &huge_csv).expect("write csv");
-    let huge_db = dir.path().join("huge.db");
-    let args: Vec<String> = vec![
-        "--db".into(),
-        huge_db.display().to_string(),
-        "--user".into(),
-        "bench".into(),
-        "import".into(),
-        huge.display().to_string(),
-    ];
+    import_figures(dir.path());
+}
+
+/// The stock of [`stock_csv`] as the JSON array `export --format json` writes (one object per
+/// row, keyed by column name), compact.
+fn stock_json(csv: &str) -> String {
+    let mut lines = csv.lines();
+    let header: Vec<&str> = lines.next().unwrap_or_default().split(',').collect();
+    let mut out = String::from("[\n");
+    for (i, line) in lines.enumerate() {
+        let mut obj = serde_json::Map::new();
+        for (name, cell) in header.iter().zip(line.split(',')) {
+            let v = match *name {
+                "quantity" => serde_json::Value::from(cell.parse::<i64>().unwrap_or(0)),
+                "low" if cell.is_empty() => serde_json::Value::Null,
+                _ => serde_json::Value::String(cell.to_string()),
+            };
+            obj.insert((*name).to_string(), v);
+        }
+        if i > 0 {
+            out.push_str(",\n");
+        }
+        out.push_str(&serde_json::Value::Object(obj).to_string());
+    }
+    out.push_str("\n]\n");
+    out
+}
+
+/// One import run under GNU time into a new database: wall seconds, the child's peak resident
+/// set in MB (None without /usr/bin/time), and the rows the store then holds.
+fn timed_import(dir: &Path, file: &Path, stdin: bool, json: bool) -> (f64, Option<f64>, usize) {
+    let db = tempfile::Builder::new()
+        .suffix(".db")
+        .tempfile_in(dir)
+        .expect("temp db")
+        .into_temp_path();
+    let _ = std::fs::remove_file(&db);
+    let time = Path::new("/usr/bin/time");
+    let report = tempfile::NamedTempFile::new().expect("temp file");
+    let mut cmd = if time.exists() {
+        let mut c = Command::new(time);
+        c.args(["-f", "%M", "-o"]).arg(report.path()).arg(binary());
+        c
+    } else {
+        Command::new(binary())
+    };
+    cmd.arg("--db").arg(&db).args(["--user", "bench", "import"]);
+    if json {
+        cmd.args(["--format", "json"]);
+    }
+    if stdin {
+        cmd.arg("-")
+            .stdin(std::fs::File::open(file).expect("open the import file"));
+    } else {
+        cmd.arg(file);
+    }
     let t0 = Instant::now();
-    let peak = peak_mb(&args);
+    let st = cmd
+        .stdout(Stdio::null())
+        .stderr(Stdio::null())
+        .status()
+        .expect("spawn onhand import");
     let wall = t0.elapsed().as_secs_f64();
-    let n = Store::open(&huge_db)
+    assert!(
+        st.success(),
+        "onhand import {} failed: {st}",
+        file.display()
+    );
+    let peak = time.exists().then(|| {
+        std::fs::read_to_string(report.path())
+            .ok()
+            .and_then(|t| t.lines().last()?.trim().parse::<f64>().ok())
+            .map(|kib| kib / 1024.0)
+    });
+    let rows = Store::open(&db)
         .expect("store")
         .parts(&PartFilter::default())
         .expect("parts")
         .len();
-    assert_eq!(
-        n, huge_rows,
-        "the 200 000-row import did not import every row"
-    );
+    let _ = std::fs::remove_file(&db);
+    (wall, peak.flatten(), rows)
+}
+
+/// Part 4: import figures, CSV and JSON, file and standard input, 50 000 and 200 000 rows.
+fn import_figures(dir: &Path) {
+    const IMPORT_RUNS: usize = 3;
+    println!("== 4. import: median wall of {IMPORT_RUNS} runs, peak resident set of the child ==");
     println!(
-        "  {huge_rows} rows, {:.1} MB of CSV: {:.1} s, peak resident set {}",
-        huge_csv.len() as f64 / 1e6,
-        wall,
-        peak.map_or("not measured".to_string(), |p| format!("{p:.1} MB"))
+        "  {:<16} {:>8} {:>8} {:>9} {:>10}",
+        "source", "rows", "MB in", "wall", "peak"
     );
+    let mut peaks: Vec<(String, usize, Option<f64>)> = Vec::new();
+    for rows in [50_000, 200_000] {
+        let (csv, n) = stock_csv(rows, false);
+        let json = stock_json(&csv);
+        let csv_path = dir.join(format!("import-{rows}.csv"));
+        let json_path = dir.join(format!("import-{rows}.json"));
+        std::fs::write(&csv_path, &csv).expect("write csv");
+        std::fs::write(&json_path, &json).expect("write json");
+        for (what, path, size, stdin, is_json) in [
+            ("CSV file", &csv_path, csv.len(), false, false),
+            ("CSV stdin", &csv_path, csv.len(), true, false),
+            ("JSON file", &json_path, json.len(), false, true),
+            ("JSON stdin", &json_path, json.len(), true, true),
+        ] {
+            let mut walls = Vec::new();
+            let mut peak: Option<f64> = None;
+            for _ in 0..IMPORT_RUNS {
+                let (w, p, got) = timed_import(dir, path, stdin, is_json);
+                assert_eq!(got, n, "{what}: the import did not import every row");
+                walls.push(w);
+                peak = match (peak, p) {
+                    (Some(a), Some(b)) => Some(a.max(b)),
+                    (a, b) => a.or(b),
+                };
+            }
+            println!(
+                "  {what:<16} {n:>8} {:>8.1} {:>7.2} s {:>10}",
+                size as f64 / 1e6,
+                median(&walls),
+                peak.map_or("n/a".to_string(), |p| format!("{p:.1} MB"))
+            );
+            peaks.push((what.to_string(), n, peak));
+        }
+    }
+    for what in ["CSV file", "CSV stdin", "JSON file", "JSON stdin"] {
+        let of = |small: bool| {
+            peaks
+                .iter()
+                .filter(|(w, _, _)| w == what)
+                .map(|(_, n, p)| (*n, *p))
+                .reduce(|a, b| if (a.0 < b.0) == small { a } else { b })
+        };
+        if let (Some((ns, Some(ps))), Some((nb, Some(pb)))) = (of(true), of(false)) {
+            println!(
+                "  {what:<16} peak at {nb} rows / at {ns} rows: {:.2} ({:+.1} MB)",
+                pb / ps,
+                pb - ps
+            );
+        }
+    }
 }

@@ -180,9 +180,10 @@ fn an_unterminated_quote_is_refused_naming_its_row() {
         "quote.csv",
         "value,quantity,note\n4k7,5,fine\n1k,3,\"unterminated\n2k2,3,ok\n3k3,1,ok\n",
     );
+    // The quote opens on spreadsheet row 3 (header = row 1), line 3 of the file.
     b.run(&["import", text(&csv)])
         .code(2)
-        .stderr_has("row 2")
+        .stderr_has("row 3: a quoted cell opens here (line 3 of the file)")
         .stderr_has("never closed");
     b.run(&["import", "--dry-run", text(&csv)]).code(2);
     assert_eq!(export(&b), before);
@@ -429,13 +430,14 @@ fn huge_text_is_refused_with_a_short_excerpt() {
         "{} bytes of message",
         r.stderr.len()
     );
-    // A file larger than the import cap is refused before it is read (a sparse file here).
+    // A file of any size is read row by row; one without line breaks (a sparse file here) is
+    // refused at the first record over the record cap, not read whole.
     let huge = b.path("huge.csv");
     let f = std::fs::File::create(&huge).expect("create");
     f.set_len(65 * 1024 * 1024).expect("size");
     b.run(&["import", text(&huge)])
         .code(2)
-        .stderr_has("larger than 64 MB");
+        .stderr_has("longer than 1024 KiB");
     assert_eq!(export(&b), before);
 }
 

@@ -178,9 +178,10 @@ pub enum StoreError {
     /// Export could not be written.
     #[error("export failed: {0}")]
     Export(String),
-    /// Import input with problems; every one is listed with its row and column.
+    /// Import input with problems: the first ones with their row and column, and how many
+    /// more there were (a file of any size keeps only [`RowErrors::KEPT`] in memory).
     #[error("{}", render_row_errors(.0))]
-    Import(Vec<RowError>),
+    Import(RowErrors),
 }
 
 impl From<rusqlite::Error> for StoreError {
@@ -302,21 +303,87 @@ impl std::fmt::Display for RowError {
     }
 }
 
-/// At most this many row errors are listed; the rest are counted.
-const SHOWN_ERRORS: usize = 20;
+/// The problems of one import: the first [`RowErrors::KEPT`] in file order, and a count of
+/// the rest, so a file of any size with a problem in every row takes the same memory. Reads as
+/// a slice of the kept problems.
+#[derive(Debug, Clone, Default, PartialEq, Eq)]
+pub struct RowErrors {
+    kept: Vec<RowError>,
+    more: usize,
+}
 
-fn render_row_errors(errors: &[RowError]) -> String {
+impl RowErrors {
+    /// How many problems are kept (and listed); the rest are only counted.
+    pub const KEPT: usize = 20;
+
+    /// No problems yet.
+    pub fn new() -> Self {
+        Self::default()
+    }
+
+    /// Add a problem: kept while fewer than [`RowErrors::KEPT`] are, else counted.
+    pub fn push(&mut self, e: RowError) {
+        if self.kept.len() < Self::KEPT {
+            self.kept.push(e);
+        } else {
+            self.more = self.more.saturating_add(1);
+        }
+    }
+
+    /// Every problem, kept or only counted.
+    pub fn total(&self) -> usize {
+        self.kept.len().saturating_add(self.more)
+    }
+
+    /// The problems counted but not kept.
+    pub fn more(&self) -> usize {
+        self.more
+    }
+}
+
+impl std::ops::Deref for RowErrors {
+    type Target = [RowError];
+    fn deref(&self) -> &[RowError] {
+        &self.kept
+    }
+}
+
+impl Extend<RowError> for RowErrors {
+    fn extend<I: IntoIterator<Item = RowError>>(&mut self, iter: I) {
+        iter.into_iter().for_each(|e| self.push(e));
+    }
+}
+
+impl From<Vec<RowError>> for RowErrors {
+    fn from(v: Vec<RowError>) -> Self {
+        let mut e = RowErrors::new();
+        e.extend(v);
+        e
+    }
+}
+
+impl From<RowError> for RowErrors {
+    fn from(one: RowError) -> Self {
+        RowErrors {
+            kept: vec![one],
+            more: 0,
+        }
+    }
+}
+
+fn render_row_errors(errors: &RowErrors) -> String {
+    let total = errors.total();
     let mut s = format!(
         "import refused, nothing was changed ({} problem{}):",
-        errors.len(),
-        if errors.len() == 1 { "" } else { "s" }
+        total,
+        if total == 1 { "" } else { "s" }
     );
-    for e in errors.iter().take(SHOWN_ERRORS) {
+    for e in errors.iter() {
         s.push_str("\n  ");
         s.push_str(&e.to_string());
     }
-    if errors.len() > SHOWN_ERRORS {
-        s.push_str(&format!("\n  … and {} more", errors.len() - SHOWN_ERRORS));
+    if errors.more() > 0 {
+        s.push_str(&format!("\n  … and {} more", errors.more()));
     }
     s
 }

@@ -1,12 +1,15 @@
-//! Import: records (from CSV or JSON) checked completely first, then applied all-or-nothing in
-//! one IMMEDIATE transaction. Import adds quantities to matching rows and creates new ones; each
-//! row's ledger reason is `import <file> row N`. A dry run does the same work inside the
-//! transaction and rolls it back, so it reports exactly what would change and commits nothing.
+//! Import: records (from CSV or JSON) read, checked and written one at a time inside one
+//! IMMEDIATE transaction, all-or-nothing: after the first problem the rest are still checked
+//! (every problem is counted, the first ones kept) but not written, and the transaction is
+//! rolled back. Import adds quantities to matching rows and creates new ones; each row's ledger
+//! reason is `import <file> row N`. A dry run does the same on a private copy of the store and
+//! rolls it back, so it reports exactly what would change and commits nothing. Memory does not
+//! grow with the rows: the report keeps counts and the first [`KEPT_LINES`] changes.
 
 use super::change::{Change, add_in};
 use super::exchange::Record;
 use super::spec::PartSpec;
-use super::{RowError, Store, StoreError};
+use super::{RowError, RowErrors, Store, StoreError};
 use rusqlite::TransactionBehavior;
 use serde::Serialize;
 
@@ -19,6 +22,9 @@ pub struct ImportLine {
     pub change: Change,
 }
 
+/// How many rows' changes an import report keeps; the rest are counted.
+pub const KEPT_LINES: usize = 40;
+
 /// What an import did (or, for a dry run, would do).
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ImportReport {
@@ -26,8 +32,12 @@ pub struct ImportReport {
     pub dry_run: bool,
     /// The file name used in ledger reasons.
     pub source: String,
-    /// One line per data row.
+    /// Data rows read (every one imported). 0: the file has no data rows, nothing was written.
+    pub rows: usize,
+    /// What the first [`KEPT_LINES`] data rows did, in file order.
     pub lines: Vec<ImportLine>,
+    /// Rows after those in `lines` (`rows` − `lines.len()`), counted only.
+    pub more_lines: usize,
     /// Rows that created a new stock row.
     pub created: usize,
     /// Rows that added to an existing stock row.
@@ -81,29 +91,13 @@ fn resolve_one(r: &Record) -> Result<(usize, PartSpec, i64), Vec<RowError>> {
     }
 }
 
-/// Resolve every record, collecting every problem with its row and column.
-fn resolve(records: &[Record]) -> Result<Vec<(usize, PartSpec, i64)>, StoreError> {
-    let mut errors = Vec::new();
-    let mut out = Vec::with_capacity(records.len());
-    for r in records {
-        match resolve_one(r) {
-            Ok(x) => out.push(x),
-            Err(e) => errors.extend(e),
-        }
-    }
-    if errors.is_empty() {
-        Ok(out)
-    } else {
-        Err(StoreError::Import(errors))
-    }
-}
-
 /// How many rows a streamed import goes between two calls of its progress callback.
 pub const PROGRESS_EVERY: usize = 1000;
 
 impl Store {
     /// Import `records` all-or-nothing; `source` names the file in the ledger reasons. With
-    /// `dry_run`, report what would change and write nothing.
+    /// `dry_run`, report what would change and write nothing. The same as
+    /// [`Store::import_stream`] over the slice.
     pub fn import(
         &mut self,
         records: &[Record],
@@ -111,29 +105,28 @@ impl Store {
         who: &str,
         dry_run: bool,
     ) -> Result<ImportReport, StoreError> {
-        let specs = resolve(records)?;
-        if dry_run {
-            // A dry run works on a private copy taken under a read lock only (`VACUUM INTO`),
-            // so it never holds the write lock other processes are waiting for, and reports
-            // exactly what the real import would do, row ids included.
-            let copy = Scratch::new()?;
-            self.conn
-                .execute("VACUUM INTO ?1", [copy.0.to_string_lossy().as_ref()])?;
-            let mut scratch = Store::open(&copy.0)?;
-            let report = scratch.apply_import(&specs, source, who, true);
-            drop(scratch);
-            return report;
-        }
-        self.apply_import(&specs, source, who, false)
+        self.import_stream(
+            |each| {
+                records.iter().for_each(|r| each(Ok(r.clone())));
+                Ok(())
+            },
+            source,
+            who,
+            dry_run,
+            &mut |_| {},
+        )
     }
 
     /// Import records handed over one at a time by `read` (which calls its argument once per
-    /// record, or per row error, in file order), all-or-nothing like [`Store::import`] with
-    /// the same checks and row numbers, without holding the file or its records: each row is
-    /// resolved and written inside one IMMEDIATE transaction as it arrives; after the first
-    /// problem the rest are still checked (every problem is reported) but not written, and the
-    /// transaction is rolled back. `progress` is called with the rows read so far every
-    /// [`PROGRESS_EVERY`] rows. With `dry_run`, the same on a private copy, rolled back.
+    /// record, or per problem, in file order), all-or-nothing, without holding the file or its
+    /// records: each row is resolved and written inside one IMMEDIATE transaction as it
+    /// arrives; after the first problem the rest are still checked (every problem is counted,
+    /// the first [`RowErrors::KEPT`] kept) but not written, and the transaction is rolled back.
+    /// `progress` is called with the rows read so far every [`PROGRESS_EVERY`] rows. With
+    /// `dry_run`, the same on a private copy taken under a read lock only (`VACUUM INTO`), so
+    /// it never holds the write lock other processes wait for, and reports exactly what the
+    /// real import would do, row ids included. No data rows: `rows` is 0 and nothing is
+    /// written.
     pub fn import_stream(
         &mut self,
         read: impl FnOnce(&mut dyn FnMut(Result<Record, RowError>)) -> Result<(), StoreError>,
@@ -147,14 +140,14 @@ impl Store {
             self.conn
                 .execute("VACUUM INTO ?1", [copy.0.to_string_lossy().as_ref()])?;
             let mut scratch = Store::open(&copy.0)?;
-            let report = scratch.apply_stream(read, source, who, true, progress);
-            drop(scratch);
-            return report;
+            return scratch.apply_import(read, source, who, true, progress);
         }
-        self.apply_stream(read, source, who, false, progress)
+        self.apply_import(read, source, who, false, progress)
     }
 
-    fn apply_stream(
+    /// The one apply path: one IMMEDIATE transaction, rolled back on any problem or when
+    /// `dry_run`.
+    fn apply_import(
         &mut self,
         read: impl FnOnce(&mut dyn FnMut(Result<Record, RowError>)) -> Result<(), StoreError>,
         source: &str,
@@ -169,12 +162,14 @@ impl Store {
         let mut report = ImportReport {
             dry_run,
             source: source.to_string(),
+            rows: 0,
             lines: Vec::new(),
+            more_lines: 0,
             created: 0,
             topped_up: 0,
             pieces: 0,
         };
-        let mut errors: Vec<RowError> = Vec::new();
+        let mut errors = RowErrors::new();
         let mut sql_error: Option<StoreError> = None;
         let mut seen = 0usize;
         read(&mut |rec| {
@@ -193,6 +188,7 @@ impl Store {
                     return;
                 }
             };
+            report.rows += 1;
             if !errors.is_empty() || sql_error.is_some() {
                 // Already refused: checked, not written.
                 return;
@@ -206,7 +202,11 @@ impl Store {
                         report.topped_up += 1;
                     }
                     report.pieces = report.pieces.saturating_add(qty);
-                    report.lines.push(ImportLine { row, change });
+                    if report.lines.len() < KEPT_LINES {
+                        report.lines.push(ImportLine { row, change });
+                    } else {
+                        report.more_lines += 1;
+                    }
                 }
                 Err(e @ StoreError::Sql(_)) => sql_error = Some(e),
                 Err(other) => errors.push(RowError {
@@ -223,60 +223,7 @@ impl Store {
             // Dropping the transaction rolls it back: nothing of the file is kept.
             return Err(StoreError::Import(errors));
         }
-        if seen == 0 {
-            return Err(StoreError::Import(vec![RowError {
-                row: 0,
-                column: None,
-                message: "the file has no data rows".into(),
-            }]));
-        }
-        if dry_run {
-            tx.rollback()?;
-        } else {
-            tx.commit()?;
-        }
-        Ok(report)
-    }
-
-    /// Apply resolved rows in one IMMEDIATE transaction; roll it back when `dry_run`.
-    fn apply_import(
-        &mut self,
-        specs: &[(usize, PartSpec, i64)],
-        source: &str,
-        who: &str,
-        dry_run: bool,
-    ) -> Result<ImportReport, StoreError> {
-        let tx = self
-            .conn
-            .transaction_with_behavior(TransactionBehavior::Immediate)?;
-        super::change::begin_change(&tx, None)?;
-        let mut report = ImportReport {
-            dry_run,
-            source: source.to_string(),
-            lines: Vec::with_capacity(specs.len()),
-            created: 0,
-            topped_up: 0,
-            pieces: 0,
-        };
-        for (row, spec, qty) in specs {
-            let why = format!("import {source} row {row}");
-            let change = add_in(&tx, spec, *qty, who, &why).map_err(|e| match e {
-                StoreError::Sql(_) => e,
-                other => StoreError::Import(vec![RowError {
-                    row: *row,
-                    column: None,
-                    message: other.to_string(),
-                }]),
-            })?;
-            if change.created {
-                report.created += 1;
-            } else {
-                report.topped_up += 1;
-            }
-            report.pieces = report.pieces.saturating_add(*qty);
-            report.lines.push(ImportLine { row: *row, change });
-        }
-        if dry_run {
+        if dry_run || report.rows == 0 {
             tx.rollback()?;
         } else {
             tx.commit()?;
@@ -370,5 +317,56 @@ mod tests {
             ]
         );
         assert!(s.parts(&Default::default()).expect("parts").is_empty());
+    }
+
+    #[test]
+    fn the_report_keeps_the_first_rows_and_counts_the_rest() {
+        let (_d, mut s) = store();
+        let mut csv = String::from("value,quantity,bin\n");
+        for i in 0..1000 {
+            csv.push_str(&format!("1k,2,B{}\n", i % 600));
+        }
+        let recs = read_csv(&csv).expect("csv");
+        let r = s.import(&recs, "x.csv", "t", false).expect("import");
+        assert_eq!(
+            (r.rows, r.created, r.topped_up, r.pieces),
+            (1000, 600, 400, 2000)
+        );
+        assert_eq!(r.lines.len(), KEPT_LINES);
+        assert_eq!(r.more_lines, 1000 - KEPT_LINES);
+        let first: Vec<usize> = r.lines.iter().map(|l| l.row).collect();
+        assert_eq!(first, (2..2 + KEPT_LINES).collect::<Vec<_>>());
+        assert_eq!(s.parts(&Default::default()).expect("parts").len(), 600);
+    }
+
+    #[test]
+    fn a_file_bad_in_every_row_keeps_the_first_problems_and_counts_them_all() {
+        let (_d, mut s) = store();
+        let mut csv = String::from("value,quantity\n");
+        for _ in 0..5000 {
+            csv.push_str("1k,lots\n");
+        }
+        let recs = read_csv(&csv).expect("csv");
+        let Err(StoreError::Import(errs)) = s.import(&recs, "x.csv", "t", false) else {
+            panic!("must fail");
+        };
+        assert_eq!((errs.len(), errs.total()), (RowErrors::KEPT, 5000));
+        assert_eq!(errs[0].row, 2);
+        let text = StoreError::Import(errs).to_string();
+        assert!(text.contains("(5000 problems)"), "{text}");
+        assert!(
+            text.contains(&format!("… and {} more", 5000 - RowErrors::KEPT)),
+            "{text}"
+        );
+        assert!(s.parts(&Default::default()).expect("parts").is_empty());
+    }
+
+    #[test]
+    fn no_data_rows_write_nothing_and_say_so() {
+        let (_d, mut s) = store();
+        let recs = read_csv("value,quantity\n").expect("csv");
+        let r = s.import(&recs, "x.csv", "t", false).expect("import");
+        assert_eq!((r.rows, r.lines.len()), (0, 0));
+        assert!(s.ledger(None).expect("ledger").is_empty());
     }
 }

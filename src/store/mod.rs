@@ -26,15 +26,15 @@ pub mod undo;
 pub use backup::{Contents, FullExport};
 pub use care::Merge;
 pub use change::{Change, LedgerEntry};
-pub use error::{RowError, Shortfall, StoreError};
+pub use error::{RowError, RowErrors, Shortfall, StoreError};
 pub use exchange::{
-    COLUMNS, ExportFormat, Record, check_csv_file, each_csv_record, export, neutralise_cell,
-    read_csv, read_json,
+    COLUMNS, ExportFormat, MAX_RECORD_BYTES, Record, each_csv_record, each_json_record, export,
+    neutralise_cell, read_csv, read_json,
 };
 pub use holds::{
     Hold, HoldAction, HoldChange, HoldFilter, HoldLine, unit_member, unit_of, units_text,
 };
-pub use import::{ImportLine, ImportReport, PROGRESS_EVERY};
+pub use import::{ImportLine, ImportReport, KEPT_LINES, PROGRESS_EVERY};
 pub use log::{LogEntry, LogFilter};
 pub use members::{MAX_MEMBER_NAME, Member, Session, clean_member_name};
 pub use part::{Kind, Part, Technology, UnknownName, Value};

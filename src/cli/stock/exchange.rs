@@ -1,7 +1,7 @@
 //! `onhand import` and `onhand export`: stock to and from CSV or JSON files.
 
 use super::{Context, Status, describe, open_for_writing, open_store};
-use crate::store::{ExportFormat, export, read_csv, read_json};
+use crate::store::{ExportFormat, export};
 use anyhow::{Context as _, bail};
 use std::io::Write;
 use std::path::PathBuf;
@@ -17,7 +17,8 @@ Columns (any order, any case; value and quantity are required):
   kind,value,tolerance,technology,volts,watts,package,bin,quantity,low,note
 Rows matching an existing row (same kind, value, tolerance, technology, package, bin) add
 to its count; others become new rows. Any bad cell refuses the whole file, citing row and
-column (row 1 is the first line after the header).";
+column (rows as a spreadsheet numbers them: the header is row 1; JSON items count from 1).
+Files and standard input of any size are read row by row.";
 
 pub const EXPORT_EXAMPLES: &str = "\
 Examples:
@@ -57,136 +58,13 @@ pub struct ExportArgs {
     pub out: Option<PathBuf>,
 }
 
-/// The largest import file read (our cap: a 200 000-row stock is about 15 MB). A bigger file is
-/// refused before it is read, so a runaway cell cannot fill the memory.
-const MAX_IMPORT_BYTES: u64 = 64 * 1024 * 1024;
-
-/// Read an import file of at most [`MAX_IMPORT_BYTES`], never more than that into memory.
-/// Standard input, with the same size cap as a file.
-fn read_capped_stdin() -> anyhow::Result<String> {
-    use std::io::Read as _;
-    let mut bytes = Vec::new();
-    std::io::stdin()
-        .take(MAX_IMPORT_BYTES + 1)
-        .read_to_end(&mut bytes)
-        .context("reading standard input")?;
-    if bytes.len() as u64 > MAX_IMPORT_BYTES {
-        anyhow::bail!(
-            "standard input is larger than {} MB, more than onhand imports at once; split it into \
-             smaller files",
-            MAX_IMPORT_BYTES / (1024 * 1024)
-        );
-    }
-    String::from_utf8(bytes).map_err(|e| {
-        anyhow::anyhow!(
-            "standard input is not UTF-8 text (byte {} is not valid); save it as UTF-8 CSV or JSON",
-            e.utf8_error().valid_up_to() + 1
-        )
-    })
-}
-
-fn read_capped(path: &std::path::Path) -> anyhow::Result<String> {
-    use std::io::Read as _;
-    let too_big = || {
-        anyhow::anyhow!(
-            "{} is larger than {} MB, more than onhand imports at once; split it into smaller \
-             files",
-            path.display(),
-            MAX_IMPORT_BYTES / (1024 * 1024)
-        )
-    };
-    let file = std::fs::File::open(path).with_context(|| format!("reading {}", path.display()))?;
-    if file.metadata().is_ok_and(|m| m.len() > MAX_IMPORT_BYTES) {
-        return Err(too_big());
-    }
-    let mut bytes = Vec::new();
-    file.take(MAX_IMPORT_BYTES + 1)
-        .read_to_end(&mut bytes)
-        .with_context(|| format!("reading {}", path.display()))?;
-    if bytes.len() as u64 > MAX_IMPORT_BYTES {
-        return Err(too_big());
-    }
-    String::from_utf8(bytes).map_err(|e| {
-        anyhow::anyhow!(
-            "{} is not UTF-8 text (byte {} is not valid); save it as UTF-8 CSV or JSON",
-            path.display(),
-            e.utf8_error().valid_up_to() + 1
-        )
-    })
-}
-
-/// A CSV file imported as a stream: checked line by line first (UTF-8, no quote left open),
-/// then read and written row by row in one transaction, so neither the file nor its records
-/// are held in memory whatever its size. A progress line goes to standard error when it is a
-/// terminal and the import has run for more than a second (never when piped).
-fn import_csv_file(
-    a: &ImportArgs,
-    ctx: &Context,
-    name: &str,
-) -> anyhow::Result<crate::store::ImportReport> {
-    use std::io::IsTerminal as _;
-    let open =
-        || std::fs::File::open(&a.file).with_context(|| format!("reading {}", a.file.display()));
-    // The same size cap as the in-memory path: one line (a runaway cell) is read whole, so the
-    // cap still bounds what a single line can take.
-    if open()?.metadata().is_ok_and(|m| m.len() > MAX_IMPORT_BYTES) {
-        bail!(
-            "{} is larger than {} MB, more than onhand imports at once; split it into smaller \
-             files",
-            a.file.display(),
-            MAX_IMPORT_BYTES / (1024 * 1024)
-        );
-    }
-    let checked = crate::store::check_csv_file(std::io::BufReader::new(open()?))
-        .with_context(|| format!("reading {}", a.file.display()))?;
-    if let Err(why) = checked {
-        // Worded as the in-memory path words it: "FILE is not UTF-8 text …", "importing
-        // FILE: row N: a quoted cell …".
-        if why.starts_with("is not") {
-            bail!("{} {why}", a.file.display());
-        }
-        bail!("importing {}: {why}", a.file.display());
-    }
-    let mut store = if a.dry_run {
-        open_store(ctx)?
-    } else {
-        open_for_writing(ctx)?
-    };
-    let file = open()?;
-    let started = std::time::Instant::now();
-    let terminal = std::io::stderr().is_terminal();
-    let mut shown = false;
-    let mut progress = |rows: usize| {
-        if terminal && started.elapsed() > std::time::Duration::from_secs(1) {
-            eprint!("\rimporting {}: {rows} rows read", a.file.display());
-            shown = true;
-        }
-    };
-    let result = store.import_stream(
-        |each| crate::store::each_csv_record(file, each),
-        name,
-        &ctx.user,
-        a.dry_run,
-        &mut progress,
-    );
-    if shown {
-        eprintln!();
-    }
-    match result {
-        Err(crate::store::StoreError::Import(e))
-            if e.len() == 1 && e[0].row == 0 && e[0].message == "the file has no data rows" =>
-        {
-            bail!("{} has no data rows", a.file.display())
-        }
-        r => r.with_context(|| format!("importing {}", a.file.display())),
-    }
-}
-
-/// At most this many per-row lines are printed; the rest are summarised.
-const SHOWN_LINES: usize = 40;
-
-/// Run `import`.
+/// Run `import`. The file or standard input is read as a stream, CSV line by line and JSON
+/// element by element, into one transaction (all or nothing), so memory stays the same
+/// whatever its size: the store keeps counts and the first rows' changes only. A progress line
+/// goes to standard error when it is a terminal and the import has run for more than a second
+/// (never when piped).
 pub fn run_import(a: ImportArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Result<Status> {
+    use std::io::IsTerminal as _;
     // `-` is standard input (CSV unless --format json), as in most tools.
     let stdin = a.file.as_os_str() == "-";
     let format = a.format.unwrap_or_else(|| {
@@ -204,33 +82,50 @@ pub fn run_import(a: ImportArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::
             |n| n.to_string_lossy().into_owned(),
         )
     };
-    let report = if !stdin && format == Format::Csv {
-        import_csv_file(&a, ctx, &name)?
+    let source: Box<dyn std::io::Read> = if stdin {
+        Box::new(std::io::stdin().lock())
     } else {
-        let data = if stdin {
-            read_capped_stdin()?
-        } else {
-            read_capped(&a.file)?
-        };
-        let records = match format {
-            Format::Csv => read_csv(&data),
-            Format::Json => read_json(&data),
-        }
-        .with_context(|| format!("importing {}", a.file.display()))?;
-        if records.is_empty() {
-            bail!("{} has no data rows", a.file.display());
-        }
-        // A dry run only reads (the store copies itself under a read lock); a real import
-        // checks the file's consistency before writing.
-        let mut store = if a.dry_run {
-            open_store(ctx)?
-        } else {
-            open_for_writing(ctx)?
-        };
-        store
-            .import(&records, &name, &ctx.user, a.dry_run)
-            .with_context(|| format!("importing {}", a.file.display()))?
+        Box::new(
+            std::fs::File::open(&a.file)
+                .with_context(|| format!("reading {}", a.file.display()))?,
+        )
     };
+    // A dry run only reads (the store copies itself under a read lock); a real import
+    // checks the file's consistency before writing.
+    let mut store = if a.dry_run {
+        open_store(ctx)?
+    } else {
+        open_for_writing(ctx)?
+    };
+    let started = std::time::Instant::now();
+    let terminal = std::io::stderr().is_terminal();
+    let mut shown = false;
+    let mut progress = |rows: usize| {
+        if terminal && started.elapsed() > std::time::Duration::from_secs(1) {
+            eprint!("\rimporting {}: {rows} rows read", a.file.display());
+            shown = true;
+        }
+    };
+    let result = store.import_stream(
+        |each| {
+            match format {
+                Format::Csv => crate::store::each_csv_record(source, each),
+                Format::Json => crate::store::each_json_record(source, each),
+            }
+            Ok(())
+        },
+        &name,
+        &ctx.user,
+        a.dry_run,
+        &mut progress,
+    );
+    if shown {
+        eprintln!();
+    }
+    let report = result.with_context(|| format!("importing {}", a.file.display()))?;
+    if report.rows == 0 {
+        bail!("{} has no data rows", a.file.display());
+    }
     if ctx.json {
         crate::cli::json::line(out, &report)?;
         return Ok(Status::Success);
@@ -240,7 +135,7 @@ pub fn run_import(a: ImportArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::
     } else {
         ("new", "added")
     };
-    for line in report.lines.iter().take(SHOWN_LINES) {
+    for line in &report.lines {
         let c = &line.change;
         if c.created {
             writeln!(
@@ -262,8 +157,13 @@ pub fn run_import(a: ImportArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::
             )?;
         }
     }
-    if report.lines.len() > SHOWN_LINES {
-        writeln!(out, "… and {} more rows", report.lines.len() - SHOWN_LINES)?;
+    if report.more_lines > 0 {
+        let n = report.more_lines;
+        writeln!(
+            out,
+            "… and {n} more {}",
+            if n == 1 { "row" } else { "rows" }
+        )?;
     }
     writeln!(
         out,
@@ -273,7 +173,7 @@ pub fn run_import(a: ImportArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::
         } else {
             "imported "
         },
-        crate::units::count(report.lines.len(), "row", "rows"),
+        crate::units::count(report.rows, "row", "rows"),
         name,
         report.created,
         report.topped_up,
