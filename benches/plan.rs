@@ -26,6 +26,22 @@ use std::time::{Duration, Instant};
 const UNITS: [u32; 3] = [25, 100, 250];
 /// Timed runs per figure.
 const FULL_RUNS: usize = 10;
+/// The 250-unit reorder's medians before this branch's changes, for the before/after line:
+/// (candidates per stage, median ms, where measured). Printed, never asserted.
+const REORDER_250_BEFORE: [(usize, f64, &str); 4] = [
+    (24, 4201.0, "last session"),
+    (
+        24,
+        9553.0,
+        "c389f01 on 2026-12-02 at load average 9 on 2 cores",
+    ),
+    (48, 3475.0, "last session"),
+    (
+        48,
+        5540.0,
+        "c389f01 on 2026-12-02 at load average 9 on 2 cores",
+    ),
+];
 
 /// Timed runs per figure: 10, or 3 under PLAN_BENCH_QUICK.
 fn runs() -> usize {
@@ -491,8 +507,14 @@ fn main() {
     }
     println!();
     for (count, m, pf, bound, cost) in &reorder_250 {
+        let before: Vec<String> = REORDER_250_BEFORE
+            .iter()
+            .filter(|b| b.0 == *count)
+            .map(|b| format!("{:.0} ms {}", b.1, b.2))
+            .collect();
+        let before = format!(" (before: {})", before.join("; "));
         println!(
-            "reorder 250 units × 3 stages, {count} candidates, microlp: median {:.1} ms, {pf} (cost {:.2}, proven bound {}); target < 2 s and proven: {}",
+            "reorder 250 units × 3 stages, {count} candidates, microlp: median {:.1} ms{before}, {pf} (cost {:.2}, proven bound {}); target < 2 s and proven: {}",
             m * 1e3,
             *cost as f64 / 100.0,
             bound.map_or("none".to_string(), |b| format!("{:.2}", b as f64 / 100.0)),

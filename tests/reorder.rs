@@ -317,3 +317,124 @@ fn the_list_is_proven_cheapest_or_says_how_far_it_may_be() {
     assert!(bound <= total, "{j}");
     assert_eq!(j["gap_cents"].as_u64(), Some(total - bound), "{j}");
 }
+
+/// A drawer with exactly two 100 kΩ and two 1 µF: two kits of the one-shot below.
+fn two_kits() -> Bench {
+    let b = Bench::new();
+    b.run(&[
+        "add",
+        "100k",
+        "--qty",
+        "2",
+        "--tol",
+        "1%",
+        "--tech",
+        "metal_film",
+    ])
+    .ok();
+    b.run(&[
+        "add",
+        "1u",
+        "--kind",
+        "capacitor",
+        "--tech",
+        "film",
+        "--tol",
+        "5%",
+        "--qty",
+        "2",
+        "--volts",
+        "63",
+    ])
+    .ok();
+    b
+}
+
+/// The kinds bought for a stage whose name contains `who`, a line each.
+fn serving(j: &serde_json::Value, who: &str) -> Vec<String> {
+    j["buy"]
+        .as_array()
+        .expect("buy")
+        .iter()
+        .filter(|l| l["serves"].as_str().is_some_and(|s| s.contains(who)))
+        .map(|l| l["kind"].as_str().expect("kind").to_string())
+        .collect()
+}
+
+#[test]
+fn a_plans_own_holds_count_for_that_plan_only() {
+    let b = two_kits();
+    let prices = b.write("prices.csv", PRICES);
+    // The one-shot t = ln 3 · 100 kΩ · 1 µF = 109.9 ms (t = ln 3 · R · C, common practice).
+    let a = plan(&b, "a", 2, "110ms");
+    let other = plan(&b, "b", 1, "110ms");
+    // Plan a holds both kits the drawer has: nothing is free any more.
+    b.run(&["plan", text(&a), "--hold"]).ok();
+    let j = b.run(&["--json", "holds"]).ok().json();
+    let held: i64 = j
+        .as_array()
+        .expect("holds")
+        .iter()
+        .map(|h| h["quantity"].as_i64().expect("n"))
+        .sum();
+    assert_eq!(held, 4, "{j}");
+    // One unit of each plan: a builds its unit from its own holds; its second held kit is
+    // still a's, so b's unit is bought (one pack of resistors at 1.60, one of capacitors at
+    // 3.80; any pair of values that makes 110 ms ± 5 % costs the same).
+    let j = b
+        .run(&[
+            "--json",
+            "reorder",
+            text(&a),
+            text(&other),
+            "--units",
+            "1",
+            "--prices",
+            text(&prices),
+        ])
+        .ok()
+        .json();
+    assert_eq!(j["total_cents"], 540, "{j}");
+    let mut bought = serving(&j, "b: tick");
+    bought.sort();
+    assert_eq!(bought, vec!["capacitor", "resistor"], "{j}");
+    assert!(serving(&j, "a: tick").is_empty(), "{j}");
+    // Each plan's own line counts its own holds only: a alone builds its unit, b none.
+    let plans = j["plans"].as_array().expect("plans");
+    assert_eq!(plans[0]["stock_alone_builds"], 1, "{j}");
+    assert_eq!(plans[1]["stock_alone_builds"], 0, "{j}");
+}
+
+#[test]
+fn a_plan_named_twice_counts_its_holds_once() {
+    let b = two_kits();
+    let prices = b.write("prices.csv", PRICES);
+    let a = plan(&b, "a", 2, "110ms");
+    b.run(&["plan", text(&a), "--hold"]).ok();
+    // The same plan twice: four units against the two kits a holds, so two are bought
+    // (2 pieces each: one pack of 100 kΩ at 1.60, one pack of 1 µF at 3.80). Its holds are
+    // not counted once per naming: that would be four kits from a drawer of two.
+    let again = b.write(
+        "again.toml",
+        &std::fs::read_to_string(&a).expect("plan file"),
+    );
+    let j = b
+        .run(&[
+            "--json",
+            "reorder",
+            text(&a),
+            text(&again),
+            "--prices",
+            text(&prices),
+        ])
+        .ok()
+        .json();
+    assert_eq!(j["total_cents"], 540, "{j}");
+    let needed: u64 = j["buy"]
+        .as_array()
+        .expect("buy")
+        .iter()
+        .map(|l| l["pieces_needed"].as_u64().expect("n"))
+        .sum();
+    assert_eq!(needed, 4, "{j}");
+}

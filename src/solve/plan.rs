@@ -319,10 +319,17 @@ fn shares(
             uses: Vec::new(),
         })
         .collect();
-    for (&(s, i), &n) in origin.iter().zip(counts) {
+    // Several program candidates may stand for one design (its split over a plan's own
+    // holds): their units add up.
+    let mut per: std::collections::BTreeMap<(usize, usize), u32> =
+        std::collections::BTreeMap::new();
+    for (&o, &n) in origin.iter().zip(counts) {
         if n > 0 {
-            out[s].uses.push((cls.to_rows(&per_stage[s][i]), n));
+            *per.entry(o).or_insert(0) += n;
         }
+    }
+    for ((s, i), n) in per {
+        out[s].uses.push((cls.to_rows(&per_stage[s][i]), n));
     }
     for s in &mut out {
         s.uses.sort_by_key(|u| std::cmp::Reverse(u.1));
@@ -604,6 +611,8 @@ pub fn reorder(
         stages: stages.to_vec(),
         units: vec![units; stages.len()],
         refill: Vec::new(),
+        plan_of: vec![0; stages.len()],
+        own: Vec::new(),
     };
     reorder_for(parts, offers, &want, count, limits)
 }
@@ -618,9 +627,94 @@ pub struct Want {
     pub units: Vec<u32>,
     /// (offer row in the parts slice, pieces) bought besides the plans.
     pub refill: Vec<(usize, u32)>,
+    /// The plan each stage belongs to (an index into `own`; stages of a plan named twice
+    /// share one plan).
+    pub plan_of: Vec<usize>,
+    /// Per plan, the pieces its own holds keep for it: (stock row in the parts slice, pieces).
+    /// `parts` counts them as held (not free); they are free to that plan's stages only.
+    /// Empty: no plan holds anything.
+    pub own: Vec<Vec<(usize, u32)>>,
 }
 
-/// [`reorder`] for a [`Want`]: one least-cost purchase for several plans and a refill.
+/// A plan's own holds as resources of the purchase program: for each class the plan holds
+/// pieces of, one extra resource (after the classes) that only that plan's stages draw on.
+#[derive(Debug, Clone, Default)]
+struct Owned {
+    /// Per plan, class → (own resource index, pieces held).
+    by_plan: Vec<std::collections::BTreeMap<usize, (usize, u32)>>,
+    /// The own resources in index order (pieces held), after the classes.
+    pieces: Vec<u32>,
+}
+
+impl Owned {
+    fn new(
+        own: &[Vec<(usize, u32)>],
+        class_of_row: &dyn Fn(usize) -> Option<usize>,
+        classes: usize,
+    ) -> Self {
+        let mut by_plan = Vec::new();
+        let mut pieces = Vec::new();
+        for rows in own {
+            let mut per: std::collections::BTreeMap<usize, u32> = std::collections::BTreeMap::new();
+            for &(row, n) in rows {
+                if let Some(c) = class_of_row(row) {
+                    let e = per.entry(c).or_insert(0);
+                    *e = e.saturating_add(n);
+                }
+            }
+            let mut m = std::collections::BTreeMap::new();
+            for (c, n) in per.into_iter().filter(|&(_, n)| n > 0) {
+                m.insert(c, (classes + pieces.len(), n));
+                pieces.push(n);
+            }
+            by_plan.push(m);
+        }
+        Self { by_plan, pieces }
+    }
+
+    /// The classes as plan `g`'s stages see them: its own held pieces free.
+    fn view(&self, cparts: &[Part], g: usize) -> Vec<Part> {
+        let mut v = cparts.to_vec();
+        if let Some(m) = self.by_plan.get(g) {
+            for (&c, &(_, n)) in m {
+                v[c].quantity = v[c].quantity.saturating_add(i64::from(n));
+            }
+        }
+        v
+    }
+
+    /// Every way a unit of plan `g` can split a candidate's pieces between the shared class
+    /// and the plan's own held pieces of it (a variant per split; pieces are identical, so
+    /// the split is all that matters). Without own pieces: the candidate itself.
+    fn variants(&self, g: usize, c: &Candidate) -> Vec<Candidate> {
+        let mut out = vec![Vec::<(usize, u32)>::new()];
+        for &(class, n) in &c.uses {
+            let own = self.by_plan.get(g).and_then(|m| m.get(&class)).copied();
+            let mut next = Vec::new();
+            for base in &out {
+                let most = own.map_or(0, |(_, h)| n.min(h));
+                for a in 0..=most {
+                    let mut u = base.clone();
+                    if n > a {
+                        u.push((class, n - a));
+                    }
+                    if a > 0 {
+                        u.push((own.map_or(class, |o| o.0), a));
+                    }
+                    next.push(u);
+                }
+            }
+            out = next;
+        }
+        out.into_iter()
+            .map(|uses| Candidate { uses, ..c.clone() })
+            .collect()
+    }
+}
+
+/// [`reorder`] for a [`Want`]: one least-cost purchase for several plans and a refill. Each
+/// plan's own holds are free to that plan's stages and to no other (and count once, however
+/// often the plan is named).
 pub fn reorder_for(
     parts: &[Part],
     offers: &[Buyable],
@@ -636,10 +730,46 @@ pub fn reorder_for(
     let is_offer = |c: usize| offer_rows.contains(&cls.row(c));
     let stock: Vec<usize> = (0..cparts.len()).filter(|&c| !is_offer(c)).collect();
     let all: Vec<usize> = (0..cparts.len()).collect();
-    let lists: Vec<Listed> = stages
-        .iter()
-        .map(|s| stage_candidates(cparts, &[stock.clone(), all.clone()], s, count))
-        .collect::<Result<_, _>>()?;
+    let mut class_by_row = vec![None; parts.len()];
+    for (c, m) in cls.members.iter().enumerate() {
+        for &r in m {
+            class_by_row[r] = Some(c);
+        }
+    }
+    let class_of = |row: usize| class_by_row.get(row).copied().flatten();
+    let owned = Owned::new(
+        &want.own,
+        &|r| class_of(r).filter(|&c| !is_offer(c)),
+        cparts.len(),
+    );
+    let plan_of = |s: usize| want.plan_of.get(s).copied().unwrap_or(0);
+    // Stages of plans without holds of their own all see the same stock; a stage whose goal,
+    // settings and view of the stock equal an earlier one's reuses its candidates.
+    let view_key = |g: usize| {
+        if owned.by_plan.get(g).is_some_and(|m| !m.is_empty()) {
+            g + 1
+        } else {
+            0
+        }
+    };
+    let mut seen_lists: Vec<(usize, &PlanStage, usize)> = Vec::new();
+    let mut lists: Vec<Listed> = Vec::new();
+    for (s, st) in stages.iter().enumerate() {
+        let key = view_key(plan_of(s));
+        let earlier = seen_lists
+            .iter()
+            .find(|(k, e, _)| *k == key && e.goal == st.goal && e.settings == st.settings)
+            .map(|e| e.2);
+        let listed = match earlier {
+            Some(i) => lists[i].clone(),
+            None => {
+                let view = owned.view(cparts, plan_of(s));
+                stage_candidates(&view, &[stock.clone(), all.clone()], st, count)?
+            }
+        };
+        seen_lists.push((key, st, s));
+        lists.push(listed);
+    }
     let per_stage: Vec<Vec<Design>> = lists.iter().map(|l| l.0.clone()).collect();
     if let Some((s, _)) = stages.iter().zip(&per_stage).find(|(_, d)| d.is_empty()) {
         return Err(PlanError::Program(AllocateError::Infeasible(format!(
@@ -647,7 +777,6 @@ pub fn reorder_for(
             s.name
         ))));
     }
-    let class_of = |row: usize| (0..cparts.len()).find(|&c| cls.row(c) == row);
     let mut resources: Vec<Resource> = cparts.iter().map(resource_of).collect();
     for o in offers {
         if let Some(c) = class_of(o.row) {
@@ -657,7 +786,11 @@ pub fn reorder_for(
             };
         }
     }
-    let mut extra = vec![0u32; cparts.len()];
+    resources.extend(owned.pieces.iter().map(|&available| Resource {
+        available,
+        pack: None,
+    }));
+    let mut extra = vec![0u32; resources.len()];
     for &(row, n) in &want.refill {
         match class_of(row).filter(|&c| is_offer(c)) {
             Some(c) => extra[c] = extra[c].saturating_add(n),
@@ -668,13 +801,21 @@ pub fn reorder_for(
             }
         }
     }
-    let (cands, origin) = ip_candidates(&per_stage);
+    let (plain, plain_origin) = ip_candidates(&per_stage);
+    let mut cands = Vec::new();
+    let mut origin = Vec::new();
+    for (c, o) in plain.iter().zip(&plain_origin) {
+        for v in owned.variants(plan_of(c.stage), c) {
+            cands.push(v);
+            origin.push(*o);
+        }
+    }
     let demand = allocate::Demand {
         units: want.units.clone(),
         extra: extra.clone(),
     };
     let p = allocate::purchase_for(&demand, &cands, &resources, limits)?;
-    let used = allocate::usage(&cands, &p.counts, cparts.len());
+    let used = allocate::usage(&cands, &p.counts, resources.len());
     let buy = (0..cparts.len())
         .filter(|&c| is_offer(c) && p.packs[c] > 0)
         .map(|c| (cls.row(c), p.packs[c], used[c] + u64::from(extra[c])))
@@ -797,6 +938,54 @@ mod tests {
                 &format!("X{extra}"),
             ));
         }
+    }
+
+    #[test]
+    fn a_plans_own_holds_serve_that_plan_only() {
+        // Invented drawer: two 100 kΩ and two 1 µF, every piece held by plan 0's units; the
+        // same values can be bought (invented packs and prices).
+        let mut parts = vec![
+            part(1, Kind::Resistor, 100e3, 2, "A"),
+            part(2, Kind::Capacitor, 1e-6, 2, "B"),
+            part(3, Kind::Resistor, 100e3, 1000, "offer"),
+            part(4, Kind::Capacitor, 1e-6, 1000, "offer"),
+        ];
+        parts[0].held = 2;
+        parts[1].held = 2;
+        let offers = [
+            Buyable {
+                row: 2,
+                pack: 10,
+                price_cents: 70,
+            },
+            Buyable {
+                row: 3,
+                pack: 10,
+                price_cents: 300,
+            },
+        ];
+        let want = |units: u32, plan_of: Vec<usize>| Want {
+            stages: vec![shot(), shot()],
+            units: vec![units; 2],
+            refill: Vec::new(),
+            plan_of,
+            own: vec![vec![(0, 2), (1, 2)], Vec::new()],
+        };
+        // One unit each: plan 0 builds from its holds, plan 1 buys one pack of each.
+        let o = reorder_for(&parts, &offers, &want(1, vec![0, 1]), 4, Limits::default())
+            .expect("order");
+        assert_eq!(o.cost_cents, 370, "{o:?}");
+        assert_eq!(o.proof, Proof::Optimal);
+        // Both stages belong to plan 0: its two held kits cover one unit of each.
+        let o = reorder_for(&parts, &offers, &want(1, vec![0, 0]), 4, Limits::default())
+            .expect("order");
+        assert_eq!(o.cost_cents, 0, "{o:?}");
+        assert!(o.buy.is_empty(), "{o:?}");
+        // Two units of plan 0's stage and two of plan 1's: only plan 1 buys.
+        let o = reorder_for(&parts, &offers, &want(2, vec![0, 1]), 4, Limits::default())
+            .expect("order");
+        assert_eq!(o.cost_cents, 370, "{o:?}");
+        assert_eq!(o.buy.iter().map(|b| b.2).sum::<u64>(), 4, "{o:?}");
     }
 
     #[test]

@@ -201,20 +201,54 @@ fn plans(args: &ReorderArgs) -> Result<Vec<PlanSpec>> {
     Ok(out)
 }
 
-/// The stock, with the pieces each named plan already holds counted as free to the list.
-fn stock(ctx: &Context, args: &ReorderArgs, specs: &[PlanSpec]) -> Result<Vec<Part>> {
-    let src = args.source.stock.as_deref();
-    let mut parts = load_stock(ctx, src)?;
-    let base: Vec<i64> = parts.iter().map(|p| p.held).collect();
-    for spec in specs {
-        let freed = super::super::holds::stock_for_plan(ctx, src, &spec.name)?;
-        for (p, (f, b)) in parts.iter_mut().zip(freed.iter().zip(&base)) {
-            if p.id == f.id {
-                p.held -= b - f.held;
+/// The stock as it is (every hold held), and per plan named (a plan named twice once) the
+/// pieces its own units hold: (row, pieces). A plan's holds are free to that plan only.
+struct Stock {
+    parts: Vec<Part>,
+    /// Plan names, each once, in the order first named.
+    names: Vec<String>,
+    /// Per name, the rows its units hold and how many pieces.
+    own: Vec<Vec<(usize, u32)>>,
+}
+
+impl Stock {
+    /// The index into `names` of a plan.
+    fn plan(&self, name: &str) -> usize {
+        self.names.iter().position(|n| n == name).unwrap_or(0)
+    }
+
+    /// The stock as plan `k` alone sees it: its own holds free, every other hold held.
+    fn for_plan(&self, k: usize) -> Vec<Part> {
+        let mut parts = self.parts.clone();
+        for &(row, n) in self.own.get(k).map_or(&[][..], |v| &v[..]) {
+            if let Some(p) = parts.get_mut(row) {
+                p.held -= i64::from(n);
             }
         }
+        parts
     }
-    Ok(parts)
+}
+
+fn stock(ctx: &Context, args: &ReorderArgs, specs: &[PlanSpec]) -> Result<Stock> {
+    let src = args.source.stock.as_deref();
+    let parts = load_stock(ctx, src)?;
+    let mut names: Vec<String> = Vec::new();
+    let mut own = Vec::new();
+    for spec in specs {
+        if names.contains(&spec.name) {
+            continue;
+        }
+        let freed = super::super::holds::stock_for_plan(ctx, src, &spec.name)?;
+        let mut rows = Vec::new();
+        for (row, (p, f)) in parts.iter().zip(&freed).enumerate() {
+            if p.id == f.id && p.held > f.held {
+                rows.push((row, u32::try_from(p.held - f.held).unwrap_or(u32::MAX)));
+            }
+        }
+        names.push(spec.name.clone());
+        own.push(rows);
+    }
+    Ok(Stock { parts, names, own })
 }
 
 pub(super) fn run_reorder(args: ReorderArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status> {
@@ -250,7 +284,9 @@ pub(super) fn run_reorder(args: ReorderArgs, ctx: &Context, out: &mut dyn Write)
             of_plan.push(k);
         }
     }
-    let mut parts = stock(ctx, &args, &specs)?;
+    let held = stock(ctx, &args, &specs)?;
+    let plan_of: Vec<usize> = of_plan.iter().map(|&k| held.plan(&specs[k].name)).collect();
+    let mut parts = held.parts.clone();
     let stock_rows = parts.len();
     let most_units = specs.iter().map(|s| s.units).max().unwrap_or(1);
     let (extra, buyable) = offers_as_parts(&offers, stock_rows, most_units);
@@ -280,10 +316,11 @@ pub(super) fn run_reorder(args: ReorderArgs, ctx: &Context, out: &mut dyn Write)
         stages: stages.clone(),
         units: stage_units.clone(),
         refill,
+        plan_of,
+        own: held.own.clone(),
     };
     let order = plan::reorder_for(&parts, &buyable, &want, args.source.candidates, lim)
         .context("choosing the purchase")?;
-    let stock_only: Vec<Part> = parts[..stock_rows].to_vec();
     let mut plan_lines = Vec::new();
     for (k, spec) in specs.iter().enumerate() {
         let own: Vec<PlanStage> = stages
@@ -293,6 +330,7 @@ pub(super) fn run_reorder(args: ReorderArgs, ctx: &Context, out: &mut dyn Write)
             .map(|(s, _)| s.clone())
             .collect();
         // Only for the report: a time limit that stops it does not stop the list.
+        let stock_only = held.for_plan(held.plan(&spec.name));
         let before =
             plan::buildable(&stock_only, &own, spec.units, args.source.candidates, lim).ok();
         plan_lines.push(report::PlanLine {
