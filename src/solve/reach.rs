@@ -1827,10 +1827,16 @@ mod tests {
                 tolerance: Tolerance::symmetric_percent(10.0).expect("tol"),
             };
             let Ok(credit) = credited(&req, r1, r2, cf, Some(cap)) else {
-                // The form itself refused (a bipolar square wave at a low supply): so must the
-                // evaluator be.
+                // The form itself refused (a bipolar square wave at a low supply): by the
+                // evaluator, or by the checks find applies too (they judge the form on the
+                // closed form with the family's output drop, whatever the model).
                 let st = stage_for(form, r1, r2, cf, req.conditions, &req.family);
-                proptest::prop_assert!(crate::timing::evaluate(&st, &req.family, &req.model).is_err());
+                let checks_refuse = admit::review(&st, &req.family).iter().any(|f| {
+                    f.severity == admit::Severity::Error && matches!(f.code, "supply-range" | "form")
+                });
+                proptest::prop_assert!(
+                    checks_refuse || crate::timing::evaluate(&st, &req.family, &req.model).is_err()
+                );
                 return Ok(());
             };
             let mut st = stage_for(form, r1, r2, cf, req.conditions, &req.family);
