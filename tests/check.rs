@@ -457,7 +457,7 @@ fn dangerous_designs_print_cautions() {
         "0",
     ]);
     r.code(1)
-        .stdout_has("CAUTION")
+        .stdout_has("Caution")
         .stdout_has("local codes and licensed practice");
 }
 
@@ -856,11 +856,12 @@ fn findings_are_listed_most_serious_first() {
     all.extend_from_slice(&args);
     let text = Bench::new().run(&all).code(1).stdout;
     let block = text.split("findings:").nth(1).expect("findings block");
+    // The labels are report::style's, as in every report.
     let (e, n) = (
-        block.find("ERROR").expect("error"),
-        block.find("note").expect("note"),
+        block.find("  Error ").expect("error"),
+        block.find("  Note ").expect("note"),
     );
-    let last_warning = block.rfind("warning").expect("warning");
+    let last_warning = block.rfind("  Warning ").expect("warning");
     assert!(e < last_warning && last_warning < n, "{block}");
 }
 
@@ -909,4 +910,85 @@ fn regex_free_scientific(text: &str) -> Option<String> {
             })
         })
         .map(str::to_string)
+}
+
+/// The design of `findings_are_listed_most_serious_first`: an error, cautions or warnings and a
+/// note.
+const MIXED: [&str; 12] = [
+    "check",
+    "monostable",
+    "R=1M",
+    "C=1000u",
+    "--cap",
+    "C=electrolytic",
+    "--rating",
+    "C=16V",
+    "--vcc",
+    "15",
+    "--samples",
+    "0",
+];
+
+/// `onhand ARGS…` run inside a pseudo-terminal by util-linux `script`, so stdout is a terminal;
+/// `no_color` sets `NO_COLOR=1`, else it is removed. None when `script` is missing (and allowed
+/// to be).
+fn on_a_terminal(b: &Bench, args: &[&str], no_color: bool) -> Option<String> {
+    if !crate::util::have_tool("script", &["--version"]) {
+        return None;
+    }
+    let quote = |a: &str| format!("'{}'", a.replace('\'', "'\\''"));
+    let bin = assert_cmd::cargo::cargo_bin!("onhand");
+    let mut line = vec![
+        quote(bin.to_str().expect("utf-8 path")),
+        "--db".to_string(),
+        quote(b.db().to_str().expect("utf-8 path")),
+    ];
+    line.extend(args.iter().map(|a| quote(a)));
+    let mut cmd = std::process::Command::new("script");
+    cmd.args(["-q", "-e", "-c", &line.join(" "), "/dev/null"])
+        .env("ONHAND_USER", "tester")
+        .env_remove("ONHAND_DB")
+        .stdin(std::process::Stdio::null());
+    if no_color {
+        cmd.env("NO_COLOR", "1");
+    } else {
+        cmd.env_remove("NO_COLOR");
+    }
+    let out = cmd.output().expect("run script");
+    assert_eq!(out.status.code(), Some(1), "{out:?}");
+    Some(String::from_utf8_lossy(&out.stdout).replace("\r\n", "\n"))
+}
+
+#[test]
+fn findings_are_coloured_on_a_terminal_only() {
+    // Piped (what every other test sees): the style's plain labels, no escape code at all.
+    let b = Bench::new();
+    let mut piped = crate::util::onhand();
+    piped
+        .arg("--db")
+        .arg(b.db())
+        .env("ONHAND_USER", "tester")
+        .env_remove("NO_COLOR")
+        .args(MIXED);
+    let out = piped.output().expect("run onhand");
+    let text = String::from_utf8_lossy(&out.stdout).to_string();
+    assert!(!text.contains('\u{1b}'), "{text}");
+    assert!(
+        text.contains("  Error  ") && text.contains("  Note   "),
+        "{text}"
+    );
+    assert!(text.contains("result: FAILED"), "{text}");
+    // On a terminal: the same labels in report::style's colours (bold red errors, yellow
+    // warnings), the verdict too.
+    let Some(tty) = on_a_terminal(&b, &MIXED, false) else {
+        return;
+    };
+    let block = tty.split("findings:").nth(1).expect("findings block");
+    assert!(block.contains("\u{1b}[1;31mError\u{1b}[0m"), "{block}");
+    assert!(block.contains("\u{1b}[33mWarning\u{1b}[0m"), "{block}");
+    assert!(tty.contains("result: \u{1b}[1;31mFAILED\u{1b}[0m"), "{tty}");
+    // NO_COLOR on the same terminal: no colour.
+    let plain = on_a_terminal(&b, &MIXED, true).expect("script ran before");
+    assert!(!plain.contains('\u{1b}'), "{plain}");
+    assert!(plain.contains("  Error  "), "{plain}");
 }

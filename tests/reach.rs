@@ -77,20 +77,22 @@ fn a_known_hole_is_shown_and_the_purchase_closes_it() {
         "1",
         "--tol",
         "5%",
+        "--ideal",
         "--stock",
         &stock,
         "--svg",
         svg.to_str().expect("utf-8"),
     ];
     let j = b.run(&args).code(1).json();
-    // common practice: t = ln 3 · R · C. 10 kΩ and 12 kΩ with 1 µF give 10.99 ms and 13.18 ms;
-    // within ±5 % they reach up to ln3·10k·1µ·1.05 and down to ln3·12k·1µ·0.95.
+    // common practice: t = ln 3 · R · C (the textbook model, --ideal). 10 kΩ and 12 kΩ with
+    // 1 µF give 10.99 ms and 13.18 ms; find accepts a target T when t lies within T·(1 ± 5 %),
+    // so they reach up to ln3·10k·1µ/0.95 and down to ln3·12k·1µ/1.05.
     let ln3 = 3f64.ln();
     let holes = j["holes"].as_array().expect("holes");
     assert_eq!(holes.len(), 1, "{j}");
     let (lo, hi) = (num(&holes[0]["lo"]), num(&holes[0]["hi"]));
-    assert!((lo / (ln3 * 10e3 * 1e-6 * 1.05) - 1.0).abs() < 1e-9, "{lo}");
-    assert!((hi / (ln3 * 12e3 * 1e-6 * 0.95) - 1.0).abs() < 1e-9, "{hi}");
+    assert!((lo / (ln3 * 10e3 * 1e-6 / 0.95) - 1.0).abs() < 1e-9, "{lo}");
+    assert!((hi / (ln3 * 12e3 * 1e-6 / 1.05) - 1.0).abs() < 1e-9, "{hi}");
     let fix = &holes[0]["fix"];
     assert!(num(&fix["closes"]) > 0.999, "{fix}");
     // The picture is where the command says, and parses.
@@ -116,7 +118,7 @@ fn a_known_hole_is_shown_and_the_purchase_closes_it() {
     let stock = drawer(&b, &row);
     let mut again = args.to_vec();
     again.truncate(args.len() - 2);
-    again[12] = &stock;
+    again[13] = &stock;
     let j = b.run(&again).ok().json();
     assert_eq!(j["holes"].as_array().map(Vec::len), Some(0), "{j}");
 }
@@ -146,11 +148,11 @@ fn astable_reach_follows_the_period_formula() {
     let j = b
         .run(&[
             "--json", "reach", "astable", "--from", "10Hz", "--to", "100Hz", "--pieces", "1",
-            "--stock", &stock,
+            "--ideal", "--stock", &stock,
         ])
         .code(1)
         .json();
-    // DESIGN: f = 1/(ln 2 · (R1 + 2·R2) · C). R1 is the smallest resistor the discharge pin
+    // DESIGN: f = 1/(ln 2 · (R1 + 2·R2) · C) in the textbook model (--ideal). R1 is the smallest resistor the discharge pin
     // allows beside R2: with R2 = 12 kΩ that is 10 kΩ (42.4 Hz); with R2 = 10 kΩ it is the
     // second 10 kΩ (48.1 Hz; two pieces in stock).
     let f = |r1: f64, r2: f64| 1.0 / (2f64.ln() * (r1 + 2.0 * r2) * 1e-6);

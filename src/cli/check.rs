@@ -902,7 +902,7 @@ pub fn run(args: CheckArgs, ctx: &Context, out: &mut dyn Write) -> anyhow::Resul
     if ctx.json {
         out.write_all(report::json(&report).context("writing JSON")?.as_bytes())?;
     } else {
-        out.write_all(report::text(&report).as_bytes())?;
+        out.write_all(report::text(&report, ctx.style).as_bytes())?;
     }
     Ok(if assessment.ok {
         Status::Success

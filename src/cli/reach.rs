@@ -12,7 +12,7 @@ use crate::report::pictures::Reach;
 use crate::report::reach_text as report;
 use crate::solve::family_by_name;
 use crate::solve::reach::{Hole, ReachForm, ReachMap, Request, fixes, reach};
-use crate::timing::Conditions;
+use crate::timing::{Conditions, Model};
 use crate::units::eseries::Series;
 use crate::units::{parse_frequency_strict, parse_time_strict, parse_tolerance, parse_voltage};
 use anyhow::{Context as _, Result, anyhow, bail};
@@ -83,6 +83,10 @@ pub struct ReachArgs {
     /// Most capacitor rows to list; the rest are summarised.
     #[arg(long, default_value_t = 25, value_name = "N")]
     rows: usize,
+    /// The textbook model (no output-drop, saturation, bias-current or DC-bias effect), as
+    /// `find --ideal`; by default the real-part model `find` uses.
+    #[arg(long)]
+    ideal: bool,
     /// Also count stock held by reservations.
     #[arg(long)]
     include_held: bool,
@@ -153,6 +157,11 @@ pub(super) fn request_of(args: &ReachArgs) -> Result<Request> {
         max_pieces: args.pieces,
         family,
         conditions: Conditions::ideal(vcc),
+        model: if args.ideal {
+            Model::ideal()
+        } else {
+            Model::real()
+        },
         cap_techs: techs(&args.tech, true)?,
         min_cap_rating: Some(vcc.si() * args.voltage_margin),
         max_rows: args.rows.max(1),

@@ -4,7 +4,7 @@
 //! and the files written — as text or JSON. Pure: returns strings.
 
 use super::schematic;
-use super::style::{PERCENTILE_LABELS, sort_by_severity};
+use super::style::{PERCENTILE_LABELS, Style, sort_by_severity};
 use crate::network::Combine;
 use crate::timing::assess::{Arrangement, AssessedStage, Assessment};
 use crate::timing::{
@@ -425,13 +425,18 @@ fn si_unit(v: f64, unit: &str) -> String {
     }
 }
 
-/// The report as text.
-pub fn text(r: &CheckReport) -> String {
+/// The report as text. Findings carry the one severity label and colour of every report
+/// (`report::style`: `Error`, `Caution`, `Warning`, `Note`; colour only when `style` says so —
+/// a terminal without `NO_COLOR`), as does a failed verdict.
+pub fn text(r: &CheckReport, style: Style) -> String {
     let mut out = String::new();
     // Writing into a String cannot fail.
-    let _ = render(r, &mut out);
+    let _ = render(r, style, &mut out);
     out
 }
+
+/// Width of the severity column: the longest plain label.
+const SEVERITY_WIDTH: usize = 7;
 
 fn figure_lines(family: &Family) -> Vec<String> {
     let figs: Vec<String> = family
@@ -449,7 +454,7 @@ fn figure_lines(family: &Family) -> Vec<String> {
     figs.chunks(4).map(|c| c.join(", ")).collect()
 }
 
-fn render(r: &CheckReport, out: &mut String) -> std::fmt::Result {
+fn render(r: &CheckReport, style: Style, out: &mut String) -> std::fmt::Result {
     writeln!(
         out,
         "check: {}, {} timer, supply {}",
@@ -721,13 +726,16 @@ fn render(r: &CheckReport, out: &mut String) -> std::fmt::Result {
         writeln!(out, "  none")?;
     }
     for f in &r.findings {
-        let sev = match f.severity {
-            Severity::Error => "ERROR",
-            Severity::Warning => "warning",
-            Severity::Caution => "CAUTION",
-            Severity::Note => "note",
-        };
-        writeln!(out, "  {sev:<8} {:<22} {}", f.code, f.message)?;
+        // Pad on the plain word: colour codes take no room on the screen.
+        let pad = SEVERITY_WIDTH.saturating_sub(Style::PLAIN.label(f.severity).chars().count());
+        writeln!(
+            out,
+            "  {}{}  {:<22} {}",
+            style.label(f.severity),
+            " ".repeat(pad),
+            f.code,
+            f.message
+        )?;
     }
     let errors = r
         .findings
@@ -738,7 +746,8 @@ fn render(r: &CheckReport, out: &mut String) -> std::fmt::Result {
         (0, None | Some(true)) => "result: sound".to_string(),
         (0, Some(false)) => "result: target not guaranteed".to_string(),
         (n, _) => format!(
-            "result: FAILED — {n} error finding{}",
+            "result: {} — {n} error finding{}",
+            style.paint(Severity::Error, "FAILED"),
             if n == 1 { "" } else { "s" }
         ),
     };
@@ -833,7 +842,33 @@ mod tests {
             ranks.len() >= 3 && ranks.windows(2).all(|w| w[0] <= w[1]),
             "{ranks:?}"
         );
-        let text = text(&report);
+        let text = text(&report, Style::PLAIN);
+        // The labels and colours of report::style: plain words when piped, painted on a
+        // terminal, with the column where the plain label puts it.
+        assert!(!text.contains('\u{1b}'), "{text}");
+        let line = |t: &str, word: &str| {
+            t.lines()
+                .find(|l| l.starts_with(&format!("  {word}")))
+                .map(str::to_string)
+        };
+        let plain_error = line(&text, "Error ").expect("an Error line");
+        let on = Style::choose(true, false, false);
+        let painted = super::text(&report, on);
+        let coloured_error = line(&painted, &on.label(Severity::Error)).expect("a painted Error");
+        assert_eq!(
+            coloured_error
+                .replace("\u{1b}[1;31m", "")
+                .replace("\u{1b}[0m", ""),
+            plain_error
+        );
+        assert!(
+            line(&painted, &on.label(Severity::Warning)).is_some(),
+            "{painted}"
+        );
+        assert!(
+            line(&painted, &on.label(Severity::Note)).is_some(),
+            "{painted}"
+        );
         let header = text
             .lines()
             .find(|l| l.contains("std dev"))

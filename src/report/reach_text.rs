@@ -74,15 +74,25 @@ fn write_text(
     writeln!(out, "{title}")?;
     writeln!(
         out,
-        "range {} … {}; reached means a design from stock within ±{} of the value{}",
+        "range {} … {}; reached means a design from stock whose predicted {}, model band and all, lies within ±{} of the value{} (as find accepts it)",
         axis(map.range.0, u),
         axis(map.range.1, u),
+        if map.form == ReachForm::Pulse {
+            "width"
+        } else {
+            "period"
+        },
         pct(map.tol),
         if map.form == ReachForm::Pulse {
             ""
         } else {
-            " (of its period)"
+            "'s period"
         }
+    )?;
+    writeln!(
+        out,
+        "model: {}",
+        crate::report::find::describe_model(&map.model)
     )?;
     writeln!(
         out,
@@ -256,6 +266,7 @@ pub fn json(map: &ReachMap, holes: &[Hole], view: &View<'_>) -> serde_json::Resu
         family: &'a str,
         vcc: f64,
         max_pieces: usize,
+        model: crate::timing::Model,
         limits: &'a [crate::solve::reach::Limit],
         resistor_networks: usize,
         usable_resistor_networks: usize,
@@ -278,6 +289,7 @@ pub fn json(map: &ReachMap, holes: &[Hole], view: &View<'_>) -> serde_json::Resu
         family: view.family,
         vcc: view.vcc,
         max_pieces: map.max_pieces,
+        model: map.model,
         limits: &map.limits,
         resistor_networks: map.resistor_networks,
         usable_resistor_networks: map.usable_resistor_networks,
