@@ -1955,10 +1955,11 @@ mod tests {
                 }
                 let covered = map.covered.iter().any(|&(a, b)| a <= x && x <= b);
                 let goal = match form {
-                    ReachForm::Pulse => StageGoal::Pulse { width: x },
-                    ReachForm::Astable => StageGoal::Astable { period: 1.0 / x, duty: Duty::Any },
-                    ReachForm::Square => StageGoal::Square { period: 1.0 / x },
-                };
+                    ReachForm::Pulse => StageGoal::pulse_si(x),
+                    ReachForm::Astable => StageGoal::astable_si(1.0 / x, Duty::Any),
+                    ReachForm::Square => StageGoal::square_si(1.0 / x),
+                }
+                .expect("a positive time");
                 let built = evals
                     .iter()
                     .flatten()
