@@ -793,6 +793,19 @@ impl Physics {
 /// and saturation figures come from `model` and `family` (the stage's `diode_drop` and
 /// `output_high_drop`, which [`Stage::times`] uses, are not read here).
 pub fn evaluate(stage: &Stage, family: &Family, model: &Model) -> Result<Evaluation, FormError> {
+    let mut ev = evaluate_times(stage, family, model)?;
+    let phys = Physics::new(stage, family, model)?;
+    ev.effects = phys.effects(stage, family, model);
+    Ok(ev)
+}
+
+/// [`evaluate`] without the effects in words (`effects` is empty): the same numbers, for the
+/// search, which judges many candidates and words only the designs it reports.
+pub fn evaluate_times(
+    stage: &Stage,
+    family: &Family,
+    model: &Model,
+) -> Result<Evaluation, FormError> {
     let phys = Physics::new(stage, family, model)?;
     let r2 = match (stage.form.has_r2(), stage.r2) {
         (true, Some(r)) => r.si(),
@@ -813,7 +826,7 @@ pub fn evaluate(stage: &Stage, family: &Family, model: &Model) -> Result<Evaluat
         period: t.period,
         frequency: t.frequency,
         duty: t.duty,
-        effects: phys.effects(stage, family, model),
+        effects: Vec::new(),
     })
 }
 
