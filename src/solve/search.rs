@@ -117,7 +117,7 @@ pub fn guarantee_out_of_reach(parts: &[Part], goal: &Goal, s: &Settings) -> Opti
                     (&s.family.error_astable, "an astable")
                 };
                 return Some(format!(
-                    "--guarantee needs the worst case within {}, but the {} family's own initial                      error for {form} is ±{} ({} figure, {}) before any part's tolerance: no                      stock can guarantee this window; widen --within, or drop --guarantee to                      design for the model band alone",
+                    "--guarantee needs the worst case within {}, but the {} family's own initial error for {form} is ±{} ({} figure, {}) before any part's tolerance: no stock can guarantee this window; widen --within, or drop --guarantee to design for the model band alone",
                     pct(allowed),
                     s.family.name,
                     crate::units::percent_text(figure.value, 3),
@@ -339,7 +339,13 @@ pub fn model_band_out_of_reach(parts: &[Part], goal: &Goal, s: &Settings) -> Opt
         }
         crate::timing::evaluate::DC_BIAS_LOSS_X7R * (vu / rating).clamp(0.0, 1.0)
     };
-    let pct = |x: f64| format!("±{}", crate::units::percent_text(x, 3));
+    let pct = |x: f64| {
+        if x >= 1e-5 {
+            format!("±{}", crate::units::percent_text(x, 3))
+        } else {
+            format!("±{:.1e} %", x * 100.0)
+        }
+    };
     let ohms = |x: f64| crate::units::format_sig(x, 3, "Ω");
     let farads = |x: f64| crate::units::format_sig(x, 3, "F");
     let secs = |x: f64| {
@@ -415,15 +421,16 @@ pub fn model_band_out_of_reach(parts: &[Part], goal: &Goal, s: &Settings) -> Opt
         let mut why: Vec<String> = Vec::new();
         if plan.r_cap < charge_all {
             why.push(format!(
-                "a charging resistance above about {} lets the pin bias current ({} threshold{}, \
-                 {} {} figures of the {} family) widen the {what}'s band past the window by itself",
+                "a charging resistance above about {} lets the pin bias current (threshold {}{}; \
+                 {}, {}: the {} family's figures) widen the {what}'s band past the window by \
+                 itself",
                 ohms(plan.r_cap),
                 crate::units::format_sig(s.family.threshold_current.value, 3, "A"),
                 if matches!(g, StageGoal::Pulse { .. }) {
                     String::new()
                 } else {
                     format!(
-                        ", {} trigger",
+                        ", trigger {}",
                         crate::units::format_sig(s.family.trigger_current.value, 3, "A")
                     )
                 },
