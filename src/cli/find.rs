@@ -273,7 +273,11 @@ pub fn run(args: FindArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status>
         .or_else(|| {
             args.svg
                 .is_none()
-                .then(|| crate::solve::search::stock_out_of_reach(&parts, &goal, &settings))
+                .then(|| {
+                    crate::solve::search::stock_out_of_reach(&parts, &goal, &settings).or_else(
+                        || crate::solve::search::model_band_out_of_reach(&parts, &goal, &settings),
+                    )
+                })
                 .flatten()
         })
     {

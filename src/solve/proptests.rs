@@ -355,6 +355,53 @@ proptest! {
 }
 
 proptest! {
+    #![proptest_config(ProptestConfig { cases: 16, ..ProptestConfig::default() })]
+
+    /// Up to four pieces per position under the real-part model, on drawers whose resistors
+    /// reach far enough for the bias band to rule designs out and whose capacitors may be X7R
+    /// (their DC-bias loss rules them out below about ±16 %): the search's limits (charge limit,
+    /// discharge limit, capacitor loss) cut nothing the brute force accepts. Ratings are left
+    /// unknown, which the brute force and the search both take as the supply.
+    #[test]
+    fn four_piece_real_model_search_matches_brute_force(
+        rs in prop::collection::vec(resistor_wide(), 2..4),
+        cs in prop::collection::vec(capacitor(), 1..2),
+        x7r in prop::collection::vec(any::<bool>(), 2),
+        r1 in any::<prop::sample::Index>(),
+        r2 in any::<prop::sample::Index>(),
+        c in any::<prop::sample::Index>(),
+        shift in -1.0f64..1.0,
+        astable in any::<bool>(),
+        tol in prop::sample::select(vec![1.0, 2.0, 5.0, 20.0]),
+        k in 3..5usize,
+    ) {
+        let mut parts = drawer(&rs, &cs);
+        for (ci, p) in parts.iter_mut().filter(|p| p.kind == Kind::Capacitor).enumerate() {
+            p.voltage_rating = None;
+            if p.technology != Technology::Electrolytic && x7r[ci % 2] {
+                p.technology = Technology::X7r;
+            }
+        }
+        let res = of_kind(&parts, Kind::Resistor);
+        let (x1, x2) = (val(res[r1.index(res.len())]), val(res[r2.index(res.len())]));
+        let caps = of_kind(&parts, Kind::Capacitor);
+        let c = val(caps[c.index(caps.len())]);
+        let mut s = settings(tol, k, 2, false);
+        s.model = crate::timing::Model::real();
+        s.cap_techs = Some(vec![Technology::Film, Technology::C0g, Technology::X7r]);
+        // DESIGN physics table (ideal forms) only places the target near a stock design; with
+        // k pieces the target is a k-piece multiple of it now and then.
+        let near = 1.0 + shift * tol / 100.0;
+        let goal = if astable {
+            StageGoal::astable_si(2f64.ln() * (x1 + 2.0 * x2) * c * near, Duty::Any).expect("goal")
+        } else {
+            StageGoal::pulse_si(3f64.ln() * x1 * c * near * (k as f64 - 1.0)).expect("goal")
+        };
+        compare(&parts, &Goal::Stages(vec![goal]), &s)?;
+    }
+}
+
+proptest! {
     #![proptest_config(ProptestConfig { cases: 200, ..ProptestConfig::default() })]
 
     #[test]

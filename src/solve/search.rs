@@ -99,6 +99,24 @@ pub fn guarantee_out_of_reach(parts: &[Part], goal: &Goal, s: &Settings) -> Opti
                 .iter()
                 .map(|g| stage_factors(g, s).map_or(0.0, |(_, ie)| ie))
                 .fold(0.0, f64::max);
+            // The chip's own initial error alone: no part, however tight, narrows it.
+            if (1.0 + chip) / (1.0 - chip) > allowed * (1.0 + super::goal::ROUNDING) {
+                let (figure, form) = if stages.iter().any(|g| {
+                    matches!(g, StageGoal::Pulse { .. }) && s.family.error_one_shot.value >= chip
+                }) {
+                    (&s.family.error_one_shot, "a one-shot")
+                } else {
+                    (&s.family.error_astable, "an astable")
+                };
+                return Some(format!(
+                    "--guarantee needs the worst case within {}, but the {} family's own initial error for {form} is ±{} ({} figure, {}) before any part's tolerance: no stock can guarantee this window; widen --within, or drop --guarantee to design for the model band alone",
+                    pct(allowed),
+                    s.family.name,
+                    crate::units::percent_text(figure.value, 3),
+                    figure.kind.label(),
+                    figure.provenance.label()
+                ));
+            }
             let r = tightest(Kind::Resistor).unwrap_or(1.0);
             let c = tightest(Kind::Capacitor).unwrap_or(1.0);
             (
@@ -236,6 +254,224 @@ pub fn stock_out_of_reach(parts: &[Part], goal: &Goal, s: &Settings) -> Option<S
     })
 }
 
+/// Why the model band alone rules out every design the stock can build, if it does: the
+/// pin-bias band of a large charging resistance and the DC-bias loss of a class-2 ceramic each
+/// widen a time's band by themselves, whatever the parts' tolerances. Above the charge limit of
+/// [`plan_stage`] (and, for an astable, the discharge limit) no resistance can be accepted, and
+/// a capacitor whose own DC-bias loss outgrows the window can time nothing; when what remains
+/// cannot reach the target time, no design can be accepted and the answer comes at once with
+/// the reason. Only said when the unlimited stock would reach the time (else it is the stock's
+/// reach, not the model band, that falls short).
+pub fn model_band_out_of_reach(parts: &[Part], goal: &Goal, s: &Settings) -> Option<String> {
+    let Goal::Stages(stages) = goal else {
+        return None;
+    };
+    if !(s.model.bias_currents || s.model.dc_bias) || validate(goal, s).is_err() {
+        return None;
+    }
+    let k = s.max_pieces.max(1);
+    let free = |p: &&Part| p.available() > 0;
+    // Resistor pieces, one entry per piece (at most k of a row matter).
+    let mut rs: Vec<f64> = Vec::new();
+    for p in parts.iter().filter(free) {
+        if let (Kind::Resistor, Value::Resistance(r)) = (p.kind, p.value) {
+            let n = usize::try_from(p.available()).unwrap_or(k).min(k);
+            rs.extend(std::iter::repeat_n(r.si(), n));
+        }
+    }
+    // The capacitors the search may use (the same filters as the search's own).
+    let caps: Vec<(&Part, f64)> = parts
+        .iter()
+        .filter(free)
+        .filter_map(|p| match (p.kind, p.value) {
+            (Kind::Capacitor, Value::Capacitance(c)) => Some((p, c.si())),
+            _ => None,
+        })
+        .filter(|(p, _)| {
+            s.cap_techs
+                .as_ref()
+                .is_none_or(|t| t.contains(&p.technology))
+        })
+        .filter(|(p, _)| match (s.min_cap_rating, p.voltage_rating) {
+            (Some(min), Some(v)) => v.si() >= min,
+            _ => true,
+        })
+        .collect();
+    rs.retain(|x| *x > 0.0 && x.is_finite());
+    if rs.is_empty() || caps.is_empty() {
+        return None;
+    }
+    rs.sort_by(f64::total_cmp);
+    let top_sum = |v: &[f64]| v[v.len().saturating_sub(k)..].iter().sum::<f64>();
+    let r_ser = top_sum(&rs);
+    let r_reach = rs[rs.len() - 1] * k as f64;
+    let vcc = s.conditions.vcc.si();
+    // A network's DC-bias loss follows its least suitable dielectric and its lowest rating (the
+    // supply where one is unknown), so a network holding a class-2 piece loses at least the
+    // X7R figure at the larger of that piece's rating and (if any rating is unknown) the supply;
+    // a dielectric ranked below class 2 (another technology, a tantalum or an electrolytic)
+    // would name the network, and then nothing is ruled out by the loss.
+    let masking = caps.iter().any(|(p, _)| {
+        !matches!(
+            p.technology,
+            Technology::C0g | Technology::Film | Technology::X7r | Technology::Y5v
+        )
+    });
+    let unknown = caps.iter().any(|(p, _)| p.voltage_rating.is_none());
+    let least_loss = |p: &Part, vu: f64| -> f64 {
+        if masking || !s.model.dc_bias || !matches!(p.technology, Technology::X7r | Technology::Y5v)
+        {
+            return 0.0;
+        }
+        let rating = match p.voltage_rating {
+            None => vcc,
+            Some(v) if unknown => v.si().max(vcc),
+            Some(v) => v.si(),
+        };
+        if rating <= 0.0 {
+            return crate::timing::evaluate::DC_BIAS_LOSS_X7R;
+        }
+        crate::timing::evaluate::DC_BIAS_LOSS_X7R * (vu / rating).clamp(0.0, 1.0)
+    };
+    let pct = |x: f64| {
+        if x >= 1e-5 {
+            format!("±{}", crate::units::percent_text(x, 3))
+        } else {
+            format!("±{:.1e} %", x * 100.0)
+        }
+    };
+    let ohms = |x: f64| crate::units::format_sig(x, 3, "Ω");
+    let farads = |x: f64| crate::units::format_sig(x, 3, "F");
+    let secs = |x: f64| {
+        crate::units::Seconds::from_si(x).map_or_else(
+            || crate::units::format_sig(x, 3, "s"),
+            |t| crate::units::time_text(t, 3),
+        )
+    };
+    stages.iter().find_map(|g| {
+        let plan = plan_stage(g, s, r_reach).ok()?;
+        let mut cs: Vec<f64> = Vec::new();
+        let mut lost: Vec<&'static str> = Vec::new();
+        for &(p, c) in &caps {
+            if least_loss(p, plan.vu) <= plan.max_loss {
+                let n = usize::try_from(p.available()).unwrap_or(k).min(k);
+                cs.extend(std::iter::repeat_n(c, n));
+            } else if !lost.contains(&p.technology.label()) {
+                lost.push(p.technology.label());
+            }
+        }
+        cs.sort_by(f64::total_cmp);
+        let c_all: Vec<f64> = {
+            let mut v: Vec<f64> = caps
+                .iter()
+                .flat_map(|&(p, c)| {
+                    std::iter::repeat_n(c, usize::try_from(p.available()).unwrap_or(k).min(k))
+                })
+                .collect();
+            v.sort_by(f64::total_cmp);
+            v
+        };
+        let c_par = top_sum(&cs);
+        let c_par_all = top_sum(&c_all);
+        let f = plan.f;
+        let spread = plan.g;
+        let up = move |x: f64| x * spread;
+        // The longest nominal time with resistances up to (r, r2) and capacitance c; only the
+        // one-shot and the classic astable have charge limits, other forms only the loss.
+        type Longest = Box<dyn Fn(f64, f64, f64) -> f64>;
+        let (what, target, longest): (&str, f64, Longest) = match *g {
+            StageGoal::Pulse { width } => (
+                "width",
+                width.si(),
+                Box::new(move |r, _, c| up(f.one_shot) * r * c),
+            ),
+            StageGoal::Astable { period, .. } => (
+                "period",
+                period.si(),
+                Box::new(move |r, r2, c| (up(f.charge) * r + up(f.discharge) * r2.min(r)) * c),
+            ),
+            StageGoal::Steered { high, low } => (
+                "high time",
+                high.min(low).si(),
+                Box::new(|_, _, _| f64::INFINITY),
+            ),
+            StageGoal::Square { period } => {
+                ("period", period.si(), Box::new(|_, _, _| f64::INFINITY))
+            }
+        };
+        let (charge_all, r2_all) = match *g {
+            StageGoal::Astable { .. } => (2.0 * r_ser, r_ser),
+            _ => (r_ser, r_ser),
+        };
+        let need = target * (1.0 - s.tol) * (1.0 - 1e-6);
+        // The stock reaches the time without the model's limits...
+        if longest(charge_all, r2_all, c_par_all) < need {
+            return None;
+        }
+        let (r_lim, r2_lim) = (charge_all.min(plan.r_cap), r2_all.min(plan.r2_cap));
+        let reach = longest(r_lim, r2_lim, c_par);
+        if !cs.is_empty() && reach >= need {
+            return None;
+        }
+        // ...but not within them: say which limits bite.
+        let mut why: Vec<String> = Vec::new();
+        if plan.r_cap < charge_all {
+            why.push(format!(
+                "a charging resistance above about {} lets the pin bias current (threshold {}{}; \
+                 {}, {}: the {} family's figures) widen the {what}'s band past the window by \
+                 itself",
+                ohms(plan.r_cap),
+                crate::units::format_sig(s.family.threshold_current.value, 3, "A"),
+                if matches!(g, StageGoal::Pulse { .. }) {
+                    String::new()
+                } else {
+                    format!(
+                        ", trigger {}",
+                        crate::units::format_sig(s.family.trigger_current.value, 3, "A")
+                    )
+                },
+                s.family.threshold_current.kind.label(),
+                s.family.threshold_current.provenance.label(),
+                s.family.name
+            ));
+        }
+        if plan.r2_cap < r2_all {
+            why.push(format!(
+                "an R2 above about {} never lets the capacitor discharge to the lower threshold \
+                 against the trigger pin's current",
+                ohms(plan.r2_cap)
+            ));
+        }
+        if !lost.is_empty() {
+            why.push(format!(
+                "the {} capacitors lose more than {:.1} % of their capacitance under DC bias at \
+                 {:.2} V (from memory), which alone widens the band past the window",
+                lost.join(" and "),
+                plan.max_loss * 100.0,
+                plan.vu
+            ));
+        }
+        let rest = if cs.is_empty() {
+            "no capacitor is left".to_string()
+        } else {
+            format!(
+                "what is left reaches at most {} × {}, a {what} of about {}, short of {}",
+                ohms(r_lim),
+                farads(c_par),
+                secs(reach),
+                secs(target)
+            )
+        };
+        Some(format!(
+            "the model band alone is wider than {} for every design this stock can build with at \
+             most {k} pieces per position ({}; {rest}); a wider --within, a larger film or C0G \
+             capacitor, a CMOS timer (--family cmos), or --ideal for the textbook circuit",
+            pct(s.tol),
+            why.join("; ")
+        ))
+    })
+}
+
 /// Search the stock for the best designs meeting `goal`.
 pub fn solve(parts: &[Part], goal: &Goal, settings: &Settings) -> Result<Outcome, SolveError> {
     let started = Instant::now();
@@ -264,6 +500,7 @@ pub fn solve(parts: &[Part], goal: &Goal, settings: &Settings) -> Result<Outcome
         seq: 0,
         cur_p: 0,
         deadline: settings.time_limit.map(|d| started + d),
+        ticks: 0,
     };
     let m = ctx.positions();
     let k = settings.max_pieces;
@@ -424,55 +661,183 @@ fn spread(lo: &Factors, hi: &Factors, form: Form) -> f64 {
 /// The largest charging resistance (R for a one-shot, R1 + R2 for an astable) at which a design
 /// can still be accepted, capped at `r_max`; other forms get `r_max`.
 ///
-/// The pin bias band runs from no current to the constant threshold current, which draws from
-/// the capacitor and slows the charge more the larger the resistance. The band of the width
-/// (one-shot) or of the period (astable) is at least `k(R, Ith) / k0` wide, with `k(R, Ith)` the
-/// charge factor under the threshold current alone and `k0` the sum of the drain-free factors
-/// (for an astable R2 ≤ R1 + R2, so the period without drain is at most `R·C·k0`). Accepted
-/// designs keep their band inside the window, so `k(R, Ith) ≤ k0 · (1 + tol) / (1 − tol)`;
-/// `k(R, Ith)` rises with R, so bisection finds the limit. Margins are on the generous side:
-/// a limit too high only makes the screen wider, never wrong.
+/// The pin bias band runs from no current to the constant pin currents, which draw from (or
+/// push into) the capacitor and move the charge more the larger the resistance. The band of the
+/// one-shot's width is, by the evaluator itself, `band_hi / band_lo` at R (the capacitance
+/// scales every time alike, so it does not matter). For an astable the period's band is at least
+/// `h(S) / (S·C·(kc0 + kd0))` wide, with `h(S)` the slowest charge through S = R1 + R2 (the top of
+/// the high time's band) and `kc0`, `kd0` the drain-free charge and discharge factors (R2 ≤ S, so
+/// the drain-free period is at most `S·C·(kc0 + kd0)`). An accepted band is at most
+/// `(1 + tol)/(1 − tol)` wide (with the rounding allowance of `goal::inside`); both widths rise
+/// with the resistance, so bisection finds the limit. The evaluator's own numbers are used, so
+/// the limit is exact up to the bisection step, which is taken on the generous side.
 fn acceptable_charge_limit(template: &Stage, s: &Settings, r_max: f64) -> Result<f64, SolveError> {
     let form = template.form;
     if !s.model.bias_currents || !matches!(form, Form::Monostable | Form::Astable) || s.tol >= 1.0 {
         return Ok(r_max);
     }
-    let free = crate::timing::Model {
+    let r = super::goal::ROUNDING;
+    let allowed = (1.0 + s.tol) * (1.0 + r) / ((1.0 - s.tol) * (1.0 - r)) * (1.0 + 1e-7);
+    let c = 1e-9;
+    // The least width the band of the targeted time can have at charging resistance x; None
+    // when the evaluator refuses the stage (the capacitor never reaches the threshold).
+    let width = |x: f64| -> Option<f64> {
+        let mut st = template.clone();
+        st.c = Farads::from_si(c).unwrap_or(Farads::ZERO);
+        st.cap = None;
+        let ohms = |v: f64| Ohms::from_si(v).unwrap_or(Ohms::ZERO);
+        match form {
+            Form::Monostable => {
+                st.r1 = ohms(x);
+                let ev = crate::timing::evaluate::evaluate_times(&st, &s.family, &s.model).ok()?;
+                Some(ev.high.band_hi / ev.high.band_lo)
+            }
+            _ => {
+                st.r1 = ohms(x / 2.0);
+                st.r2 = Some(ohms(x / 2.0));
+                let ev = crate::timing::evaluate::evaluate_times(&st, &s.family, &s.model).ok()?;
+                let low = ev.low?;
+                let (r1, r2) = (st.r1.si(), st.r2.map_or(0.0, |v| v.si()));
+                let kc0 = ev.high.nominal / ((r1 + r2) * c);
+                let kd0 = low.nominal / (r2 * c);
+                Some(ev.high.band_hi / ((r1 + r2) * c * (kc0 + kd0)))
+            }
+        }
+    };
+    // A NaN width fails too.
+    let fails = |x: f64| {
+        width(x).is_none_or(|w| w.partial_cmp(&allowed) != Some(Ordering::Less) && w != allowed)
+    };
+    if !fails(r_max) {
+        return Ok(r_max);
+    }
+    let r0 = crate::timing::evaluate::SCREEN_R_MIN;
+    let (mut ok, mut bad) = (r0, r_max);
+    if fails(ok) {
+        return Ok(r_max);
+    }
+    for _ in 0..80 {
+        let mid = (ok * bad).sqrt();
+        if fails(mid) {
+            bad = mid;
+        } else {
+            ok = mid;
+        }
+        if bad / ok < 1.0001 {
+            break;
+        }
+    }
+    // Ohms are exact to the milliohm: the stage above was built from rounded values, so allow
+    // a hair beyond the first failing point.
+    Ok(bad * (1.0 + 1e-6))
+}
+
+/// The screen of one stage: its nominal factors and spread, and the resistance and capacitor
+/// limits beyond which the model band alone rules a design out. `r_max` is the largest
+/// resistance a position can reach.
+fn plan_stage(g: &StageGoal, s: &Settings, r_max: f64) -> Result<Plan, SolveError> {
+    // The evaluator takes the diode and output-drop figures from the model and
+    // the family; the conditions carry only the supply and the control pin.
+    let cond = s.conditions;
+    let (_, ie) = stage_factors(g, s)?;
+    let form = g.form();
+    let ohms = |v: f64| Ohms::from_si(v.min(1e12)).unwrap_or(Ohms::ZERO);
+    let template = Stage {
+        form,
+        r1: ohms(r_max),
+        r2: form.has_r2().then(|| ohms(r_max)),
+        c: Farads::from_si(1e-9).unwrap_or(Farads::ZERO),
+        cap: None,
+        conditions: cond,
+        steering: crate::timing::Steering::default(),
+    };
+    // The astable charges through R1 + R2: the bounds must cover both. Above
+    // `acceptable_charge_limit` no design can be accepted, so the screen need
+    // not cover it (and must not drop the factors it does cover).
+    let reach = if form.has_r2() { 2.0 * r_max } else { r_max };
+    let charging = acceptable_charge_limit(&template, s, reach)?;
+    // The screen brackets the NOMINAL times only: every accepted design has
+    // its nominal inside the window (the band holds the nominal) and is ranked
+    // by the nominal's error, so a bracket of the nominal is a superset of the
+    // acceptance. The nominal is the evaluation with no pin drain and no DC-bias
+    // loss; for the linear paths its factor does not depend on R at all, so the
+    // spread stays ~1 however far the bias band reaches. (Bracketing the whole
+    // band, as before, made the spread the band's width: a ±1 % target was
+    // screened over a window several times as wide, and each extra candidate
+    // went to the evaluator.)
+    let nominal = nominal_model(&s.model);
+    let (f, fh) = crate::timing::factor_bounds_between(
+        &template,
+        &s.family,
+        &nominal,
+        crate::timing::evaluate::SCREEN_R_MIN,
+        charging,
+    )?;
+    let (vu, _) = cond.thresholds()?;
+    Ok(Plan {
+        goal: *g,
+        f,
+        g: spread(&f, &fh, form),
+        cond,
+        ie,
+        r_cap: if charging < reach {
+            charging
+        } else {
+            f64::INFINITY
+        },
+        r2_cap: discharge_limit(&template, s, r_max)?,
+        max_loss: max_band_loss(s.tol),
+        vu,
+    })
+}
+
+/// The model whose evaluation is the nominal of `m`'s: no pin drain and no DC-bias loss (those
+/// two effects make only the band; the nominal is the evaluation's first drain, none, unscaled).
+fn nominal_model(m: &crate::timing::Model) -> crate::timing::Model {
+    crate::timing::Model {
         bias_currents: false,
-        ..s.model
+        dc_bias: false,
+        ..*m
+    }
+}
+
+/// The largest share of capacitance a capacitor network may lose to DC bias in a design that can
+/// still be accepted at tolerance `tol`. Every targeted time's band holds both the nominal and
+/// the nominal times `1 − loss` (the evaluator scales every drain corner by what is kept), so it
+/// is at least `1/(1 − loss)` wide, and an accepted band is at most
+/// `(1 + tol)/(1 − tol)` wide (with the rounding allowance of `goal::inside`). A hair generous.
+fn max_band_loss(tol: f64) -> f64 {
+    let r = super::goal::ROUNDING;
+    let keep_min = (1.0 - tol) * (1.0 - r) / ((1.0 + tol) * (1.0 + r));
+    ((1.0 - keep_min) * (1.0 + 1e-6) + 1e-12).min(1.0)
+}
+
+/// The discharge resistance (R2 of a classic astable) from which the discharge no longer reaches
+/// the lower threshold under some pin current the band spans (the trigger current pushed into the
+/// capacitor holds it up toward `Vsat + R2·Itr`): the evaluator refuses such a design, so the walk
+/// need not offer it. Found by bisection on the evaluator's own discharge path (its upper factor
+/// turns infinite there); infinite for other forms or without bias currents.
+fn discharge_limit(template: &Stage, s: &Settings, r_max: f64) -> Result<f64, SolveError> {
+    if !s.model.bias_currents || template.form != Form::Astable {
+        return Ok(f64::INFINITY);
+    }
+    let fails = |r: f64| -> Result<bool, SolveError> {
+        let (_, h) = crate::timing::factor_bounds_between(template, &s.family, &s.model, r, r)?;
+        Ok(!h.discharge.is_finite())
     };
     let r0 = crate::timing::evaluate::SCREEN_R_MIN;
-    let (_, h0) = crate::timing::factor_bounds_between(template, &s.family, &free, r0, r0)?;
-    let k0 = match form {
-        Form::Monostable => h0.one_shot,
-        _ => h0.charge + h0.discharge,
-    };
-    let allowed = k0 * (1.0 + s.tol) / (1.0 - s.tol) * 1.05;
-    // The slowest charge over the drains at exactly R, taken a little low (the bounds carry a
-    // small relative margin upward).
-    let slowest = |r: f64| -> Result<f64, SolveError> {
-        let (_, h) = crate::timing::factor_bounds_between(template, &s.family, &s.model, r, r)?;
-        let k = match form {
-            Form::Monostable => h.one_shot,
-            _ => h.charge,
-        };
-        Ok(k / 1.01)
-    };
-    if slowest(r_max)? <= allowed {
-        return Ok(r_max);
+    if !fails(r_max)? || fails(r0)? {
+        return Ok(f64::INFINITY);
     }
     let (mut ok, mut bad) = (r0, r_max);
-    if slowest(ok)? > allowed {
-        return Ok(r_max);
-    }
-    for _ in 0..60 {
+    for _ in 0..80 {
         let mid = (ok * bad).sqrt();
-        if slowest(mid)? <= allowed {
-            ok = mid;
-        } else {
+        if fails(mid)? {
             bad = mid;
+        } else {
+            ok = mid;
         }
-        if bad / ok < 1.001 {
+        if bad / ok < 1.0001 {
             break;
         }
     }
@@ -568,6 +933,7 @@ struct State {
     seq: u64,
     cur_p: usize,
     deadline: Option<Instant>,
+    ticks: u32,
 }
 
 impl State {
@@ -606,7 +972,11 @@ impl State {
     }
 
     fn timed_out(&mut self) -> bool {
-        if !self.stop && self.deadline.is_some_and(|d| Instant::now() >= d) {
+        // The clock is read on the first call and every 64th after: this runs once per network
+        // visited, and reading the clock each time cost about a tenth of the search.
+        self.ticks = self.ticks.wrapping_add(1);
+        if !self.stop && self.ticks % 64 == 1 && self.deadline.is_some_and(|d| Instant::now() >= d)
+        {
             self.stop = true;
         }
         self.stop
@@ -623,6 +993,18 @@ struct Plan {
     cond: Conditions,
     /// The timer's own initial error for this form.
     ie: f64,
+    /// The largest charging resistance (R of a one-shot, R1 + R2 of an astable) at which the
+    /// pin-bias band alone still fits the window ([`acceptable_charge_limit`]); beyond it no
+    /// design is accepted, so the walk skips it (infinite when there is no such limit).
+    r_cap: f64,
+    /// The largest discharge resistance (R2 of an astable) at which the discharge still reaches
+    /// the lower threshold under every pin current ([`discharge_limit`]; infinite otherwise).
+    r2_cap: f64,
+    /// The largest share of its capacitance a capacitor network may lose to DC bias and still
+    /// have its band fit the window ([`max_band_loss`]).
+    max_loss: f64,
+    /// The upper threshold (V): the DC bias a timing capacitor sees at most.
+    vu: f64,
 }
 
 struct Ctx<'a> {
@@ -777,40 +1159,7 @@ impl<'a> Ctx<'a> {
             Goal::Stages(gs) => {
                 let (_, r_max) = Pool::with_pairs(rs.clone(), false).range(s.max_pieces);
                 for g in gs {
-                    // The evaluator takes the diode and output-drop figures from the model and
-                    // the family; the conditions carry only the supply and the control pin.
-                    let cond = s.conditions;
-                    let (_, ie) = stage_factors(g, s)?;
-                    let form = g.form();
-                    let ohms = |v: f64| Ohms::from_si(v.min(1e12)).unwrap_or(Ohms::ZERO);
-                    let template = Stage {
-                        form,
-                        r1: ohms(r_max),
-                        r2: form.has_r2().then(|| ohms(r_max)),
-                        c: Farads::from_si(1e-9).unwrap_or(Farads::ZERO),
-                        cap: None,
-                        conditions: cond,
-                        steering: crate::timing::Steering::default(),
-                    };
-                    // The astable charges through R1 + R2: the bounds must cover both. Above
-                    // `acceptable_charge_limit` no design can be accepted, so the screen need
-                    // not cover it (and must not drop the factors it does cover).
-                    let charging = if form.has_r2() { 2.0 * r_max } else { r_max };
-                    let charging = acceptable_charge_limit(&template, s, charging)?;
-                    let (f, fh) = crate::timing::factor_bounds_between(
-                        &template,
-                        &s.family,
-                        &s.model,
-                        crate::timing::evaluate::SCREEN_R_MIN,
-                        charging,
-                    )?;
-                    stages.push(Plan {
-                        goal: *g,
-                        f,
-                        g: spread(&f, &fh, form),
-                        cond,
-                        ie,
-                    });
+                    stages.push(plan_stage(g, s, r_max)?);
                 }
                 None
             }
@@ -1081,6 +1430,10 @@ impl<'a> Ctx<'a> {
     ) {
         let (rmin, rmax) = self.rpool.range(nr);
         let g = self.stages[si].g;
+        // Beyond the charge limit the band alone outgrows the window: no R there is offered,
+        // and no capacitor too small to reach the time with an R below it.
+        let r_cap = self.stages[si].r_cap;
+        let rmax = rmax.min(r_cap);
         let cw = |e: f64| {
             let (lo, hi) = swin(t, e, g);
             (lo / (k * rmax), hi / (k * rmin))
@@ -1090,6 +1443,10 @@ impl<'a> Ctx<'a> {
         let ok = self
             .cpool
             .walk(nc, clo, chi, used_c, dl, &mut |cc, used_c| {
+                if !self.cap_fits(si, cc) {
+                    let (a, b) = cw(st.bound());
+                    return Step::Go(a, b);
+                }
                 let c = cc.value;
                 Pool::take(cc, used_c, 1);
                 st.picks.push(Pick {
@@ -1100,7 +1457,7 @@ impl<'a> Ctx<'a> {
                 });
                 let rw = |e: f64| {
                     let (lo, hi) = swin(t, e, g);
-                    (lo / (k * c), hi / (k * c))
+                    (lo / (k * c), (hi / (k * c)).min(r_cap))
                 };
                 let (rlo, rhi) = rw(st.bound());
                 let ok = self
@@ -1182,7 +1539,15 @@ impl<'a> Ctx<'a> {
         };
         let (r1min, r1max) = self.rpool.range(n1);
         let (r2min, r2max) = self.rpool.range(n2);
-        let (amin, amax) = (kc * r1min + ks * r2min, kc * r1max + ks * r2max);
+        // R1 + R2 beyond the charge limit, or R2 beyond the discharge limit, is never accepted
+        // (the band alone outgrows the window, or the discharge never ends): the walk skips
+        // both, and the capacitors too small to reach the period below them.
+        let (r_cap, r2_cap) = (self.stages[si].r_cap, self.stages[si].r2_cap);
+        let r2max = r2max.min(r2_cap).min(r_cap);
+        let (amin, amax) = (
+            kc * r1min + ks * r2min,
+            (kc * r1max + ks * r2max).min(ks * r_cap),
+        );
         let cw = |e: f64| {
             let (lo, hi) = swin(period, e, g);
             (lo / amax, hi / amin)
@@ -1192,6 +1557,10 @@ impl<'a> Ctx<'a> {
         let ok = self
             .cpool
             .walk(nc, clo, chi, used_c, dl, &mut |cc, used_c| {
+                if !self.cap_fits(si, cc) {
+                    let (a, b) = cw(st.bound());
+                    return Step::Go(a, b);
+                }
                 let c = cc.value;
                 Pool::take(cc, used_c, 1);
                 st.picks.push(Pick {
@@ -1203,7 +1572,10 @@ impl<'a> Ctx<'a> {
                 let r2w = |e: f64| {
                     let (plo, phi) = swin(period, e, g);
                     let (xlo, xhi) = xwin(e);
-                    (plo / c / (kc * xhi + ks), phi / c / (kc * xlo + ks))
+                    (
+                        plo / c / (kc * xhi + ks),
+                        (phi / c / (kc * xlo + ks)).min(r2max),
+                    )
                 };
                 let (a, b) = r2w(st.bound());
                 let ok = self.rpool.walk(n2, a, b, used_r, dl, &mut |r2c, used_r| {
@@ -1220,7 +1592,7 @@ impl<'a> Ctx<'a> {
                         let (xlo, xhi) = xwin(e);
                         (
                             ((plo / c - ks * r2) / kc).max(xlo * r2),
-                            ((phi / c - ks * r2) / kc).min(xhi * r2),
+                            ((phi / c - ks * r2) / kc).min(xhi * r2).min(r_cap - r2),
                         )
                     };
                     let (a, b) = r1w(st.bound());
@@ -1311,6 +1683,10 @@ impl<'a> Ctx<'a> {
         let ok = self
             .cpool
             .walk(nc, clo, chi, used_c, dl, &mut |cc, used_c| {
+                if !self.cap_fits(si, cc) {
+                    let (a, b) = cw(st.bound());
+                    return Step::Go(a, b);
+                }
                 let c = cc.value;
                 Pool::take(cc, used_c, 1);
                 st.picks.push(Pick {
@@ -1423,9 +1799,22 @@ impl<'a> Ctx<'a> {
         }
     }
 
-    /// The evaluator's answer for stage `si` of `picks` (None when the form cannot run).
-    fn evaluation(&self, picks: &[Pick], si: usize, at: [Corner; 3]) -> Option<Evaluation> {
+    /// The evaluator's numbers for stage `si` of `picks`, without the effects in words (None
+    /// when the form cannot run): what every candidate is judged on.
+    fn times(&self, picks: &[Pick], si: usize, at: [Corner; 3]) -> Option<Evaluation> {
         evaluate_times(&self.stage_at(picks, si, at), self.family, &self.s.model).ok()
+    }
+
+    /// Whether capacitor network `c` can time stage `si` at all: a class-2 ceramic's DC-bias
+    /// loss widens every targeted time's band by itself (see [`max_band_loss`]); a network whose
+    /// loss alone outgrows the window is skipped with every resistor under it.
+    fn cap_fits(&self, si: usize, c: &Cand) -> bool {
+        if !self.s.model.dc_bias {
+            return true;
+        }
+        let plan = &self.stages[si];
+        let facts = self.cap_facts(c);
+        crate::timing::dc_bias_loss(Some(&facts), plan.vu, plan.cond.vcc.si()) <= plan.max_loss
     }
 
     /// The worst case of stage `si` over every corner of its positions' tolerances (the same
@@ -1444,7 +1833,7 @@ impl<'a> Ctx<'a> {
                     Low
                 }
             });
-            evals.push(self.evaluation(picks, si, at)?);
+            evals.push(self.times(picks, si, at)?);
         }
         judge::worst_of(&evals, self.stages[si].ie)
     }
@@ -1452,7 +1841,7 @@ impl<'a> Ctx<'a> {
     /// The evaluator confirms what the screen let through: the stage's error if its band (and
     /// with --guarantee its worst case) lies inside every window, else None.
     fn confirm(&self, picks: &[Pick], si: usize) -> Option<f64> {
-        let ev = self.evaluation(picks, si, [Corner::Nominal; 3])?;
+        let ev = self.times(picks, si, [Corner::Nominal; 3])?;
         let goal = &self.stages[si].goal;
         let tol = self.s.tol;
         // Cheap first: nominal and band; the corners only for a design that passes them.
