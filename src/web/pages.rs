@@ -433,6 +433,9 @@ pub fn import(who: Who<'_>, csv: &str, report: Option<&ImportReport>) -> Markup 
                         tr { td.n { (l.row) } td { (shown(&l.change.part.label())) @if l.change.created { " (new)" } } td { (shown(&l.change.part.bin)) } td.n { (l.change.before) } td.n { (l.change.delta) } }
                     }
                 }
+                @if r.more_lines > 0 {
+                    p #import-more { "… and " (r.more_lines) " more rows (the table shows the first " (r.lines.len()) ")." }
+                }
             }
         }
     };
