@@ -4,7 +4,55 @@
 //! constraint; Warnings, Cautions and Notes travel with the design into the report. This module
 //! only adapts: the checks themselves, and the family figures, live in `timing`.
 
+use crate::model::{Part, Technology};
 pub use crate::timing::{CapFacts, Family, Finding, Form, Severity, Stage, family_by_name};
+
+/// What the checks and the evaluator know of a capacitor network, the one rule the search and
+/// the brute force share: its least suitable dielectric (electrolytic or tantalum, then Y5V and
+/// unknown, then X7R, then C0G and film), its lowest voltage rating (unknown when any piece's is
+/// unknown), and its widest tolerance. `None` for no pieces.
+pub fn network_cap_facts<'a>(pieces: impl IntoIterator<Item = &'a Part>) -> Option<CapFacts> {
+    let rank = |t: Technology| match t {
+        Technology::C0g | Technology::Film => 0,
+        Technology::X7r => 1,
+        Technology::Tantalum | Technology::Electrolytic => 3,
+        _ => 2,
+    };
+    let mut facts: Option<CapFacts> = None;
+    let mut unknown_rating = false;
+    for part in pieces {
+        unknown_rating |= part.voltage_rating.is_none();
+        facts = Some(match facts {
+            None => CapFacts {
+                technology: part.technology,
+                voltage_rating: part.voltage_rating,
+                tolerance: part.tolerance,
+            },
+            Some(f) => CapFacts {
+                technology: if rank(part.technology) > rank(f.technology) {
+                    part.technology
+                } else {
+                    f.technology
+                },
+                voltage_rating: match (f.voltage_rating, part.voltage_rating) {
+                    (Some(a), Some(b)) => Some(a.min(b)),
+                    (a, b) => a.or(b),
+                },
+                tolerance: if part.tolerance.widest() > f.tolerance.widest() {
+                    part.tolerance
+                } else {
+                    f.tolerance
+                },
+            },
+        });
+    }
+    facts.map(|mut f| {
+        if unknown_rating {
+            f.voltage_rating = None;
+        }
+        f
+    })
+}
 
 /// Every remark the timing checks make on a stage.
 pub fn review(stage: &Stage, family: &Family) -> Vec<Finding> {

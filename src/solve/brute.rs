@@ -4,10 +4,10 @@
 //! timing factors and the electrical gate; slow on purpose, for small drawers only. The property
 //! tests and the benchmark compare the search against it.
 
-use super::admit::{self, CapFacts, Stage};
+use super::admit::{self, Stage};
 use super::goal::{Goal, Settings, StageGoal};
 use super::judge;
-use crate::model::{Kind, Part, Technology, Value};
+use crate::model::{Kind, Part, Value};
 use crate::network::{Combine, Net};
 use crate::timing::{Conditions, evaluate_times};
 use crate::units::{Farads, Ohms};
@@ -279,22 +279,8 @@ fn stage_error(parts: &[Part], g: &StageGoal, nets: &[&BNet], s: &Settings) -> O
     };
     let c = nets[nets.len() - 1];
     let cap_rows = &c.rows;
-    // The least suitable dielectric among the pieces decides (electrolytic, then class 2).
-    let tech = cap_rows
-        .iter()
-        .map(|&r| parts[r].technology)
-        .max_by_key(|t| match t {
-            Technology::Tantalum | Technology::Electrolytic => 3,
-            Technology::Y5v | Technology::Other => 2,
-            Technology::X7r => 1,
-            _ => 0,
-        })
-        .unwrap_or(Technology::Film);
-    let facts = CapFacts {
-        technology: tech,
-        voltage_rating: None,
-        tolerance: parts[cap_rows[0]].tolerance,
-    };
+    // The network's dielectric, rating and tolerance by the search's own rule.
+    let facts = admit::network_cap_facts(cap_rows.iter().map(|&r| &parts[r]))?;
     // 0 nominal, 1 lowest, 2 highest, per position.
     let pick = |n: &BNet, at: u8| match at {
         1 => n.lo,

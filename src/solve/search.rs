@@ -1854,54 +1854,18 @@ impl<'a> Ctx<'a> {
 
     /// Facts of a capacitor network: least suitable technology, lowest rating, widest tolerance.
     fn cap_facts(&self, c: &Cand) -> CapFacts {
-        let rank = |t: Technology| match t {
-            Technology::C0g | Technology::Film => 0,
-            Technology::X7r => 1,
-            Technology::Y5v | Technology::Other => 2,
-            Technology::Tantalum | Technology::Electrolytic => 3,
-            _ => 2,
-        };
-        let mut facts: Option<CapFacts> = None;
-        let mut unknown_rating = false;
-        for &i in c.pieces() {
-            let part = &self.parts[self.cclass[self.cpool.items()[i as usize].row][0].0];
-            unknown_rating |= part.voltage_rating.is_none();
-            facts = Some(match facts {
-                None => CapFacts {
-                    technology: part.technology,
-                    voltage_rating: part.voltage_rating,
-                    tolerance: part.tolerance,
-                },
-                Some(f) => CapFacts {
-                    technology: if rank(part.technology) > rank(f.technology) {
-                        part.technology
-                    } else {
-                        f.technology
-                    },
-                    voltage_rating: match (f.voltage_rating, part.voltage_rating) {
-                        (Some(a), Some(b)) => Some(a.min(b)),
-                        (a, b) => a.or(b),
-                    },
-                    tolerance: if part.tolerance.widest() > f.tolerance.widest() {
-                        part.tolerance
-                    } else {
-                        f.tolerance
-                    },
-                },
-            });
-        }
-        let mut f = facts.unwrap_or(CapFacts {
+        let pieces = c
+            .pieces()
+            .iter()
+            .map(|&i| &self.parts[self.cclass[self.cpool.items()[i as usize].row][0].0]);
+        admit::network_cap_facts(pieces).unwrap_or(CapFacts {
             technology: Technology::Other,
             voltage_rating: None,
             tolerance: crate::units::Tolerance {
                 minus: crate::units::Ratio::ZERO,
                 plus: crate::units::Ratio::ZERO,
             },
-        });
-        if unknown_rating {
-            f.voltage_rating = None;
-        }
-        f
+        })
     }
 
     /// Stock rows for the pieces of every pick: within a class, each piece comes from the row
