@@ -360,8 +360,9 @@ proptest! {
     /// Up to four pieces per position under the real-part model, on drawers whose resistors
     /// reach far enough for the bias band to rule designs out and whose capacitors may be X7R
     /// (their DC-bias loss rules them out below about ±16 %): the search's limits (charge limit,
-    /// discharge limit, capacitor loss) cut nothing the brute force accepts. Ratings are left
-    /// unknown, which the brute force and the search both take as the supply.
+    /// discharge limit, capacitor loss) cut nothing the brute force accepts. The drawer's
+    /// capacitors keep their ratings (16 V or unknown): the DC-bias loss depends on them, and
+    /// the search and the brute force read a network's facts by the same rule.
     #[test]
     fn four_piece_real_model_search_matches_brute_force(
         rs in prop::collection::vec(resistor_wide(), 2..4),
@@ -377,7 +378,6 @@ proptest! {
     ) {
         let mut parts = drawer(&rs, &cs);
         for (ci, p) in parts.iter_mut().filter(|p| p.kind == Kind::Capacitor).enumerate() {
-            p.voltage_rating = None;
             if p.technology != Technology::Electrolytic && x7r[ci % 2] {
                 p.technology = Technology::X7r;
             }
