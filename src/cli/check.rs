@@ -41,6 +41,7 @@ Positions (NAME=VALUE; a value may be a network: + series, || or // parallel, pa
 Examples:
   onhand check astable R1=4.7k R2=68k C=10n
   onhand check astable R1=33k+2.2k R2=68k C=10n||2.2n --part-tol R1=1% --part-tol C=5% --vcc 12
+  onhand check monostable 'R=150k[1%]+820k[5%]' 'C=470n[5%]' --cap C=film   each piece its own tolerance
   onhand check monostable R=1M C=10u --cap C=electrolytic --rating C=16V --family cmos
   onhand check steered RA=10k RB=4.7k C=100n --diode 0.6 --one-diode
   onhand check steered RA=10k RB=4.7k C=100n --ideal                  the textbook model
@@ -56,8 +57,8 @@ silicon steering diodes whose drop follows the current, the family's output-high
 square form, discharge saturation, pin bias currents and class-2 ceramic DC-bias loss as a
 one-sided band (figures from memory, listed in the report). --ideal gives the textbook model;
 --diode 0.7 or --diode ideal chooses the diodes; --guarantee uses the family's data-sheet limits.
-Resistors ±5 %, capacitors ±10 % (Y5V −20/+80 %, electrolytics ±20 %) unless --part-tol says
-otherwise (common practice). Timer error = initial error + temperature drift over --temp-span °C + supply drift over
+Resistors ±5 %, capacitors ±10 % (Y5V −20/+80 %, electrolytics ±20 %) unless --part-tol or a
+piece's own bracket (4.7k[1%], as `find --json` writes each position) says otherwise (common practice). Timer error = initial error + temperature drift over --temp-span °C + supply drift over
 --supply-swing. Timer figures (from memory) can be overridden with --set KEY=VALUE; keys:
 supply_min supply_max threshold_current trigger_current discharge_max max_freq error_one_shot
 error_astable drift_temp_one_shot drift_temp_astable drift_supply_one_shot drift_supply_astable
