@@ -659,15 +659,7 @@ fn bench_drawer() -> Vec<Part> {
 fn drawer_settings(k: usize, timing: bool) -> Settings {
     Settings {
         alternatives: 1,
-        cap_techs: timing.then(|| {
-            vec![
-                Technology::C0g,
-                Technology::Film,
-                Technology::X7r,
-                Technology::Y5v,
-                Technology::Other,
-            ]
-        }),
+        cap_techs: timing.then(onhand::solve::plan_file::timing_technologies),
         min_cap_rating: Some(13.5),
         time_limit: Some(std::time::Duration::from_secs(60)),
         ..settings(k)

@@ -25,6 +25,21 @@ use std::cmp::Ordering;
 use std::collections::BTreeMap;
 use std::time::Instant;
 
+/// Values in the reasons the search gives at once, three significant figures.
+fn ohms(x: f64) -> String {
+    crate::units::format_sig(x, 3, "Ω")
+}
+fn farads(x: f64) -> String {
+    crate::units::format_sig(x, 3, "F")
+}
+/// A time in the units people use (`1 h`, not `3.6 ks`).
+fn secs(x: f64) -> String {
+    crate::units::Seconds::from_si(x).map_or_else(
+        || crate::units::format_sig(x, 3, "s"),
+        |t| crate::units::time_text(t, 3),
+    )
+}
+
 /// Why a goal lies beyond what the circuit form or the timer family can do at all, if it does:
 /// no part could meet it, so the search answers at once instead of refusing every candidate.
 pub fn out_of_reach(goal: &Goal, family: &Family, tol: f64) -> Option<String> {
@@ -194,14 +209,6 @@ pub fn stock_out_of_reach(parts: &[Part], goal: &Goal, s: &Settings) -> Option<S
     let (r_max, c_max) = (sum(&top(&rs)), sum(&top(&cs)));
     let c_max_any = sum(&top(&cs_any));
     let (r_min, c_min) = (inv_sum(&bottom(&rs)), inv_sum(&bottom(&cs)));
-    let ohms = |x: f64| crate::units::format_sig(x, 3, "Ω");
-    let farads = |x: f64| crate::units::format_sig(x, 3, "F");
-    let secs = |x: f64| {
-        crate::units::Seconds::from_si(x).map_or_else(
-            || crate::units::format_sig(x, 3, "s"),
-            |t| crate::units::time_text(t, 3),
-        )
-    };
     stages.iter().find_map(|g| {
         let (f, _) = stage_factors(g, s).ok()?;
         // The time targeted and its factor per R×C; the astable's two resistors each lie in
@@ -339,14 +346,6 @@ pub fn model_band_out_of_reach(parts: &[Part], goal: &Goal, s: &Settings) -> Opt
         } else {
             format!("±{:.1e} %", x * 100.0)
         }
-    };
-    let ohms = |x: f64| crate::units::format_sig(x, 3, "Ω");
-    let farads = |x: f64| crate::units::format_sig(x, 3, "F");
-    let secs = |x: f64| {
-        crate::units::Seconds::from_si(x).map_or_else(
-            || crate::units::format_sig(x, 3, "s"),
-            |t| crate::units::time_text(t, 3),
-        )
     };
     stages.iter().find_map(|g| {
         let plan = plan_stage(g, s, r_reach).ok()?;
