@@ -823,3 +823,35 @@ fn guarantee_narrower_than_the_chips_own_error_says_so_at_once() {
         .stdout_has("the bipolar family's own initial error for a one-shot is ±1 %");
     assert!(!r.stdout.contains("Design 1"), "{}", r.stdout);
 }
+
+#[test]
+fn the_ideal_model_leaves_the_square_waves_output_drop_out_everywhere() {
+    // A bipolar output sits about 1.7 V below the supply when high (from memory, the family's
+    // light-load figure), so at 5 V the output-driven square wave never reaches the upper
+    // threshold of 3.33 V and the real model refuses it. `--ideal` is the textbook model: an
+    // output that reaches the rail, 50 % duty. Before, the electrical checks still took the
+    // drop and refused every design even under `--ideal`.
+    let (b, s) = drawer();
+    b.run(&["find", "square", "1kHz", "--vcc", "5", "--stock", &s])
+        .code(2)
+        .stderr_has("this square wave never switches");
+    let j = b
+        .run(&[
+            "--json", "find", "square", "1kHz", "--vcc", "5", "--ideal", "--stock", &s,
+        ])
+        .ok()
+        .json();
+    let quantities = j["designs"][0]["stages"][0]["quantities"]
+        .as_array()
+        .expect("quantities")
+        .clone();
+    let duty = quantities
+        .iter()
+        .find(|q| q["name"] == "duty")
+        .expect("a square wave reports its duty");
+    let nominal = duty["nominal"].as_f64().expect("a number");
+    assert!(
+        (nominal - 0.5).abs() < 1e-9,
+        "textbook duty is 50 %: {nominal}"
+    );
+}

@@ -1021,10 +1021,14 @@ struct Ctx<'a> {
 }
 
 /// The operating conditions of a stage: the settings' conditions, plus the family's output drop
-/// for the output-driven square wave (its resistor is fed from the output).
+/// for the output-driven square wave (its resistor is fed from the output) unless the model
+/// leaves the drop out (`--ideal`): then the checks, the screen and the evaluator all see an
+/// output that reaches the rail.
 pub fn stage_conditions(g: &StageGoal, s: &Settings) -> Conditions {
     let mut cond = s.conditions;
-    if let StageGoal::Square { .. } = g {
+    if let StageGoal::Square { .. } = g
+        && s.model.output_drop
+    {
         cond.output_high_drop =
             Volts::from_si(s.family.output_high_drop.value).unwrap_or(Volts::ZERO);
     }

@@ -332,11 +332,14 @@ impl<R: std::io::Read> std::io::Read for NoBom<R> {
     }
 }
 
+/// The UTF-8 byte-order mark some spreadsheets write at the start of a file.
+const UTF8_BOM: &[u8] = "\u{feff}".as_bytes();
+
 /// The bytes of a CSV source handed on to the CSV reader one checked line at a time: every
 /// line UTF-8, no record longer than
 /// [`MAX_RECORD_BYTES`], and no quoted cell left open at the end (the CSV reader would
-/// silently read every later row into that cell). Only the current line is held. The
-/// byte-order mark is dropped before ([`NoBom`]).
+/// silently read every later row into that cell). Only the current line is held. A leading
+/// byte-order mark is dropped here, and counted in the byte offsets a problem cites.
 struct CsvLines<R> {
     inner: R,
     line: Vec<u8>,
@@ -412,6 +415,12 @@ impl<R: std::io::BufRead> CsvLines<R> {
             if done {
                 break;
             }
+        }
+        if self.offset == 0 && self.line.starts_with(UTF8_BOM) {
+            // A byte-order mark is not part of the first cell, but it is part of the file: the
+            // byte offsets cited below count it.
+            self.line.drain(..UTF8_BOM.len());
+            self.offset = UTF8_BOM.len();
         }
         if self.line.is_empty() {
             return match self.scan.open() {
@@ -495,7 +504,7 @@ pub fn read_csv(data: &str) -> Result<Vec<Record>, StoreError> {
 /// at a problem of the bytes themselves (after the header's, or those), and goes on after a
 /// row's. Holds one record and one line at a time, whatever the size of the source.
 pub fn each_csv_record(reader: impl std::io::Read, mut each: impl FnMut(Result<Record, RowError>)) {
-    let lines = CsvLines::new(std::io::BufReader::new(NoBom::new(reader)));
+    let lines = CsvLines::new(std::io::BufReader::new(reader));
     let mut rdr = csv::ReaderBuilder::new()
         .has_headers(true)
         .trim(csv::Trim::All)
@@ -930,6 +939,28 @@ mod tests {
         };
         assert_eq!((errs[0].row, errs.len()), (2, 1), "{errs:?}");
         assert!(errs[0].message.contains("line 3"), "{errs:?}");
+    }
+
+    #[test]
+    fn a_bad_byte_is_cited_by_its_offset_in_the_file_counting_the_byte_order_mark() {
+        // "value,quantity\n" is 15 bytes, so the bad byte after "4" is byte 17 of the file
+        // without a byte-order mark and byte 20 with one (the mark is 3 bytes).
+        for (head, byte) in [(&b""[..], 17), (UTF8_BOM, 20)] {
+            let mut data = head.to_vec();
+            data.extend_from_slice(b"value,quantity\n4\xffk,1\n");
+            let mut errors = Vec::new();
+            each_csv_record(&data[..], |r| {
+                if let Err(e) = r {
+                    errors.push(e.message);
+                }
+            });
+            assert_eq!(errors.len(), 1, "{errors:?}");
+            assert!(
+                errors[0].contains(&format!("byte {byte} of the file")),
+                "{:?}",
+                errors[0]
+            );
+        }
     }
 
     #[test]

@@ -306,10 +306,7 @@ impl Physics {
             ),
             Form::Square => {
                 if self.voh <= vu {
-                    return Err(FormError::Unreachable(format!(
-                        "the output rises only to {:.3} V when high (supply less the family's output drop), not above the upper threshold {:.3} V: this square wave never switches — use a CMOS timer or a classic astable",
-                        self.voh, vu
-                    )));
+                    return Err(super::forms::output_never_switches(self.voh, vu));
                 }
                 (
                     rc_segment(r1 * c, self.voh - r1 * d, vl, vu, "square-wave high")?,

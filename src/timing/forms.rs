@@ -92,6 +92,9 @@ impl Conditions {
                 )))
             }
         };
+        if self.output_high_drop.si() > 0.0 && voh <= vu {
+            return Err(output_never_switches(voh, vu));
+        }
         Ok(Factors {
             one_shot: ln(vcc, vcc - vu, "one-shot")?,
             charge: ln(vcc - vl, vcc - vu, "astable charge")?,
@@ -102,6 +105,16 @@ impl Conditions {
             square_low: ln(vu, vl, "square-wave low")?,
         })
     }
+}
+
+/// The output-driven square wave whose output, high, stays at or under the upper threshold:
+/// it never switches (the one wording for every command).
+pub(crate) fn output_never_switches(voh: f64, vu: f64) -> FormError {
+    FormError::Unreachable(format!(
+        "the output rises only to {voh:.3} V when high (supply less the family's output drop), \
+         not above the upper threshold {vu:.3} V: this square wave never switches — use a CMOS \
+         timer or a classic astable"
+    ))
 }
 
 /// Time per unit R·C for every form: a time is `R·C·k`.
