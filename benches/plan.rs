@@ -93,6 +93,7 @@ fn stage(name: &str, goal: StageGoal, tol: f64) -> PlanStage {
             min_cap_rating: Some(13.5),
             time_limit: Some(Duration::from_secs(10)),
             rank: Rank::FewestPieces,
+            excursion: onhand::solve::Excursion::default(),
         },
     }
 }

@@ -92,6 +92,7 @@ fn settings(k: usize) -> Settings {
         min_cap_rating: None,
         time_limit: Some(std::time::Duration::from_secs(10)),
         rank: Rank::FewestPieces,
+        excursion: onhand::solve::Excursion::default(),
     }
 }
 

@@ -452,9 +452,8 @@ fn each_position_expression_is_accepted_by_check_with_the_same_numbers() {
     // In every form, the design `find` reports is handed to `check` exactly as `find --json`
     // describes it: each position's expression (every piece with its stocked tolerance in
     // brackets) and the capacitor's dielectric. Both run the one evaluator and the one
-    // worst-case rule, so nominal, model band and worst case agree. `check` adds the timer's
-    // temperature drift over ±25 °C by default; `find` judges at room temperature (its worst
-    // case is the parts' tolerance and the timer's initial error), so `--temp-span 0`.
+    // worst-case rule with the same defaults (the timer's initial error plus its drift over
+    // ±25 °C), so nominal, model band and worst case agree with no option given to either.
     let b = Bench::new();
     let s = crate::util::repo_path("sample-stock/bench-drawer.csv");
     let s = s.to_str().expect("a path in UTF-8");
@@ -473,13 +472,7 @@ fn each_position_expression_is_accepted_by_check_with_the_same_numbers() {
         let design = &j["designs"][0];
         let stage = &design["stages"][0];
         let form = stage["form"].as_str().expect("form");
-        let mut check = vec![
-            "--json".to_string(),
-            "check".into(),
-            form.into(),
-            "--temp-span".into(),
-            "0".into(),
-        ];
+        let mut check = vec!["--json".to_string(), "check".into(), form.into()];
         for p in design["positions"].as_array().expect("positions") {
             let name = match p["name"].as_str().expect("name") {
                 "Ra" => "RA",
@@ -805,8 +798,9 @@ fn a_quarter_second_pulse_from_the_cabinet_keeps_its_band_inside() {
 #[test]
 fn guarantee_narrower_than_the_chips_own_error_says_so_at_once() {
     let (b, s) = drawer();
-    // The bipolar family's one-shot initial error is ±1 % (typical, from memory): no part can
-    // guarantee a width within ±0.5 %.
+    // The bipolar family's one-shot initial error is ±1 % (typical, from memory), and its drift
+    // 50 ppm/°C over ±25 °C adds 0.125 % (from memory): no part can guarantee a width within
+    // ±0.5 %.
     let r = b
         .run(&[
             "find",
@@ -820,7 +814,9 @@ fn guarantee_narrower_than_the_chips_own_error_says_so_at_once() {
         ])
         .code(1)
         .stdout_has("Nothing can meet this target: --guarantee needs the worst case within ±0.50 %")
-        .stdout_has("the bipolar family's own initial error for a one-shot is ±1 %");
+        .stdout_has("the bipolar family's own error for a one-shot is ±1.12 %")
+        .stdout_has("its initial error ±1 % (typical figure, from memory)")
+        .stdout_has("plus ±0.125 % of drift over ±25 °C");
     assert!(!r.stdout.contains("Design 1"), "{}", r.stdout);
 }
 

@@ -68,6 +68,13 @@ struct FindOptions {
     /// error) inside the target window, not just the nominal result.
     #[arg(long, global = true)]
     guarantee: bool,
+    /// Temperature excursion either side of 25 °C for the timer's drift, which the worst case
+    /// adds to the timer's initial error (the same figure and default as `check`).
+    #[arg(long, global = true, default_value_t = crate::solve::Excursion::DEFAULT_TEMP_SPAN_C, value_name = "DEG_C")]
+    temp_span: f64,
+    /// Supply excursion either way for the timer's supply drift (the same as `check`).
+    #[arg(long, global = true, default_value = "0", value_parser = crate::units::parse_voltage, value_name = "VOLTS")]
+    supply_swing: crate::units::Volts,
     /// How many ranked designs to show.
     #[arg(long, global = true, default_value_t = 3, value_name = "N")]
     alternatives: usize,
@@ -201,6 +208,9 @@ pub fn run(args: FindArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status>
         .map_err(|e| anyhow!(e))?
         .widest()
         .si();
+    if !(args.temp_span.is_finite() && args.temp_span >= 0.0) {
+        bail!("--temp-span must be a non-negative number of °C");
+    }
     let family = family_by_name(&args.family)
         .ok_or_else(|| anyhow!("unknown family {:?}: use bipolar or cmos", args.family))?;
     let vcc = parse_voltage(&args.vcc).map_err(|e| anyhow!(e))?;
@@ -259,6 +269,10 @@ pub fn run(args: FindArgs, ctx: &Context, out: &mut dyn Write) -> Result<Status>
         min_cap_rating: Some(vcc.si() * args.voltage_margin),
         time_limit: Some(Duration::from_secs_f64(time_limit.max(0.001))),
         rank: Rank::FewestPieces,
+        excursion: crate::solve::Excursion {
+            temp_span_c: args.temp_span,
+            supply_swing: args.supply_swing,
+        },
     };
     let mut parts = load_stock(ctx, args.stock.as_deref())?;
     if args.include_held {
@@ -387,7 +401,7 @@ mod files {
     use crate::timing::{
         Analysis, Circuit, Piece, Position, Quantity, Spread, StageModel, Steering, Target,
     };
-    use crate::units::{Ratio, Volts};
+    use crate::units::Ratio;
     use anyhow::{Context as _, Result, anyhow};
     use std::io::Write;
     use std::time::Duration;
@@ -491,12 +505,8 @@ mod files {
                 r2,
                 c,
                 conditions: stage_conditions(g, s),
-                // The search's worst case counts the timer's initial error only; so does this.
-                timer_error: s.family.timer_error(
-                    matches!(g, StageGoal::Pulse { .. }),
-                    0.0,
-                    Volts::ZERO,
-                ),
+                // The search's own timer error: initial error plus drift over the excursion.
+                timer_error: crate::units::Ratio::from_si(s.timer_error(g)).unwrap_or_default(),
             };
             let stage = stage_of(&model, None)?;
             out.push(Built {

@@ -206,6 +206,49 @@ pub(crate) fn describe_model(m: &crate::timing::Model) -> String {
     format!("real parts: {}", on.join(", "))
 }
 
+/// What the worst case adds for the timer itself, in words: its own error per stage form (the
+/// initial error, a typical figure or a limit, plus drift over the temperature and supply
+/// excursion), the same figures `check` uses for the same parts.
+pub(crate) fn describe_timer_error(stages: &[StageGoal], s: &Settings) -> String {
+    let mut forms: Vec<(bool, f64)> = Vec::new();
+    for g in stages {
+        let one_shot = matches!(g, StageGoal::Pulse { .. });
+        if !forms.iter().any(|(o, _)| *o == one_shot) {
+            forms.push((one_shot, s.timer_error(g)));
+        }
+    }
+    let e = &s.excursion;
+    let supply = if e.supply_swing.si() > 0.0 {
+        format!(" and ±{} of supply", e.supply_swing)
+    } else {
+        String::new()
+    };
+    let parts: Vec<String> = forms
+        .iter()
+        .map(|&(one_shot, total)| {
+            let initial = if one_shot {
+                &s.family.error_one_shot
+            } else {
+                &s.family.error_astable
+            };
+            format!(
+                "±{} for {} (initial ±{}, {} figure {}, plus ±{} drift over ±{} °C{supply})",
+                crate::units::percent_text(total, 3),
+                if one_shot { "a one-shot" } else { "an astable" },
+                crate::units::percent_text(initial.value, 3),
+                initial.kind.label(),
+                initial.provenance.label(),
+                crate::units::percent_text((total - initial.value).max(0.0), 3),
+                format_sig(e.temp_span_c, 3, "").trim(),
+            )
+        })
+        .collect();
+    format!(
+        "every piece at its tolerance limits, and the timer's own error {}",
+        parts.join("; ")
+    )
+}
+
 /// A network as `onhand check` reads it for a position, each piece with its stocked tolerance
 /// in brackets: `150kΩ[±1%]+820kΩ[±1%]`, `(10nF[±5%]||2.2nF[±5%])+1nF[−20/+80%]`.
 pub(crate) fn expression(parts: &[Part], p: &crate::solve::Position) -> String {
@@ -227,8 +270,13 @@ pub(crate) fn expression(parts: &[Part], p: &crate::solve::Position) -> String {
 pub fn text(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
     let o = v.outcome;
     writeln!(out, "Looking for: {}", describe_goal(v.goal, v.settings))?;
-    if matches!(v.goal, Goal::Stages(_)) {
+    if let Goal::Stages(stages) = v.goal {
         writeln!(out, "Model: {}", describe_model(&v.settings.model))?;
+        writeln!(
+            out,
+            "Worst case: {}",
+            describe_timer_error(stages, v.settings)
+        )?;
     }
     let stages = match v.goal {
         Goal::Stages(s) => s.len(),
@@ -514,6 +562,10 @@ pub fn json(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
         family: &'a str,
         model: &'a crate::timing::Model,
         model_text: String,
+        /// °C either side of 25 °C the timer's drift is counted over (as `check --temp-span`).
+        temp_span: f64,
+        /// Volts either way the timer's supply drift is counted over.
+        supply_swing: f64,
         vcc: f64,
         max_pieces: usize,
         guarantee: bool,
@@ -537,6 +589,8 @@ pub fn json(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
         family: v.settings.family.name,
         model: &v.settings.model,
         model_text: describe_model(&v.settings.model),
+        temp_span: v.settings.excursion.temp_span_c,
+        supply_swing: v.settings.excursion.supply_swing.si(),
         vcc: v.settings.conditions.vcc.si(),
         max_pieces: v.settings.max_pieces,
         guarantee: v.settings.guarantee,

@@ -273,10 +273,7 @@ fn enumerate<'n>(
 /// evaluator's numbers, judged by the same rule as the search (`judge`).
 fn stage_error(parts: &[Part], g: &StageGoal, nets: &[&BNet], s: &Settings) -> Option<f64> {
     let cond: Conditions = s.conditions;
-    let ie = match g {
-        StageGoal::Pulse { .. } => s.family.error_one_shot.value,
-        _ => s.family.error_astable.value,
-    };
+    let ie = s.timer_error(g);
     let c = nets[nets.len() - 1];
     let cap_rows = &c.rows;
     // The network's dielectric, rating and tolerance by the search's own rule.

@@ -53,6 +53,40 @@ pub enum Rank {
     SmallestError,
 }
 
+/// The conditions the timer's own error is judged over: its temperature drift over
+/// `temp_span_c` either side of 25 °C and its supply drift over `supply_swing` either way, on
+/// top of its initial error. `check` takes the same figures (`--temp-span`, `--supply-swing`)
+/// with the same defaults, so both give one worst case for the same parts.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Excursion {
+    /// Temperature either side of 25 °C, °C.
+    pub temp_span_c: f64,
+    /// Supply either way.
+    pub supply_swing: crate::units::Volts,
+}
+
+impl Excursion {
+    /// The default span: ±25 °C (a bench to a warm enclosure, common practice), a steady supply.
+    pub const DEFAULT_TEMP_SPAN_C: f64 = 25.0;
+
+    /// No drift at all: the timer's initial error alone.
+    pub fn none() -> Self {
+        Self {
+            temp_span_c: 0.0,
+            supply_swing: crate::units::Volts::ZERO,
+        }
+    }
+}
+
+impl Default for Excursion {
+    fn default() -> Self {
+        Self {
+            temp_span_c: Self::DEFAULT_TEMP_SPAN_C,
+            supply_swing: crate::units::Volts::ZERO,
+        }
+    }
+}
+
 /// Everything besides the targets.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Settings {
@@ -81,6 +115,23 @@ pub struct Settings {
     pub time_limit: Option<Duration>,
     /// Ranking.
     pub rank: Rank,
+    /// What the timer's own error covers besides its initial error.
+    pub excursion: Excursion,
+}
+
+impl Settings {
+    /// The timer's own error for a stage, as a fraction: the family's initial error for its
+    /// form (a limit under `--guarantee`, where the family holds limits) plus the drift over
+    /// [`Settings::excursion`]. The search, the brute force and the reports share it.
+    pub fn timer_error(&self, g: &StageGoal) -> f64 {
+        self.family
+            .timer_error(
+                matches!(g, StageGoal::Pulse { .. }),
+                self.excursion.temp_span_c,
+                self.excursion.supply_swing,
+            )
+            .si()
+    }
 }
 
 /// One filled position of a design.

@@ -22,7 +22,7 @@ mod proptests;
 
 pub use admit::{Family, admissible, family_by_name};
 pub use goal::{
-    Design, Duty, Goal, Outcome, Position, Quantity, Rank, Settings, SolveError, StageGoal,
-    StageReport,
+    Design, Duty, Excursion, Goal, Outcome, Position, Quantity, Rank, Settings, SolveError,
+    StageGoal, StageReport,
 };
 pub use search::solve;

@@ -894,6 +894,7 @@ mod tests {
                 min_cap_rating: None,
                 time_limit: None,
                 rank: Rank::FewestPieces,
+                excursion: crate::solve::Excursion::default(),
             },
         }
     }

@@ -102,6 +102,7 @@ pub fn stage_plan(spec: &PlanSpec, s: &StageSpec) -> Result<PlanStage, PlanFileE
             min_cap_rating: Some(spec.supply.si() * 1.5),
             time_limit: Some(STAGE_TIME_LIMIT),
             rank: Rank::FewestPieces,
+            excursion: crate::solve::Excursion::default(),
         },
     })
 }

@@ -92,6 +92,7 @@ fn settings(tol_pct: f64, k: usize, alternatives: usize, guarantee: bool) -> Set
         min_cap_rating: Some(9.0),
         time_limit: None,
         rank: Rank::FewestPieces,
+        excursion: crate::solve::Excursion::default(),
     }
 }
 
@@ -741,10 +742,7 @@ fn analysis_of(parts: &[Part], d: &Design, g: &StageGoal, s: &Settings) -> crate
         }
     };
     let names = g.positions();
-    let ie = match g {
-        StageGoal::Pulse { .. } => s.family.error_one_shot.value,
-        _ => s.family.error_astable.value,
-    };
+    let ie = s.timer_error(g);
     let model = StageModel {
         form: g.form(),
         steering: Steering::default(),

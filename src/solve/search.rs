@@ -114,19 +114,36 @@ pub fn guarantee_out_of_reach(parts: &[Part], goal: &Goal, s: &Settings) -> Opti
                 .iter()
                 .map(|g| stage_factors(g, s).map_or(0.0, |(_, ie)| ie))
                 .fold(0.0, f64::max);
-            // The chip's own initial error alone: no part, however tight, narrows it.
+            // The chip's own error alone: no part, however tight, narrows it.
             if (1.0 + chip) / (1.0 - chip) > allowed * (1.0 + super::goal::ROUNDING) {
-                let (figure, form) = if stages.iter().any(|g| {
-                    matches!(g, StageGoal::Pulse { .. }) && s.family.error_one_shot.value >= chip
-                }) {
+                let (figure, form) = if stages
+                    .iter()
+                    .any(|g| matches!(g, StageGoal::Pulse { .. }) && s.timer_error(g) >= chip)
+                {
                     (&s.family.error_one_shot, "a one-shot")
                 } else {
                     (&s.family.error_astable, "an astable")
                 };
+                let drift = chip - figure.value;
+                let drift = if drift > 1e-12 {
+                    let supply = if s.excursion.supply_swing.si() > 0.0 {
+                        format!(" and ±{} of supply", s.excursion.supply_swing)
+                    } else {
+                        String::new()
+                    };
+                    format!(
+                        " plus ±{} of drift over ±{} °C{supply}",
+                        crate::units::percent_text(drift, 3),
+                        crate::units::format_sig(s.excursion.temp_span_c, 3, "").trim(),
+                    )
+                } else {
+                    String::new()
+                };
                 return Some(format!(
-                    "--guarantee needs the worst case within {}, but the {} family's own initial error for {form} is ±{} ({} figure, {}) before any part's tolerance: no stock can guarantee this window; widen --within, or drop --guarantee to design for the model band alone",
+                    "--guarantee needs the worst case within {}, but the {} family's own error for {form} is ±{}: its initial error ±{} ({} figure, {}){drift}, before any part's tolerance. No stock can guarantee this window; widen --within, or drop --guarantee to design for the model band alone",
                     pct(allowed),
                     s.family.name,
+                    crate::units::percent_text(chip, 3),
                     crate::units::percent_text(figure.value, 3),
                     figure.kind.label(),
                     figure.provenance.label()
@@ -1037,11 +1054,7 @@ pub fn stage_conditions(g: &StageGoal, s: &Settings) -> Conditions {
 
 /// The timing factors of a stage and the timer's own initial error for its form.
 pub fn stage_factors(g: &StageGoal, s: &Settings) -> Result<(Factors, f64), SolveError> {
-    let ie = match g {
-        StageGoal::Pulse { .. } => s.family.error_one_shot.value,
-        _ => s.family.error_astable.value,
-    };
-    Ok((stage_conditions(g, s).factors()?, ie))
+    Ok((stage_conditions(g, s).factors()?, s.timer_error(g)))
 }
 
 /// Most distinct classes of one kind a search over networks of two or more pieces takes: the
@@ -2041,6 +2054,7 @@ mod tests {
             min_cap_rating: None,
             time_limit: Some(std::time::Duration::ZERO),
             rank: Rank::FewestPieces,
+            excursion: crate::solve::Excursion::default(),
         };
         let goal = Goal::value_si(Kind::Resistor, 1000.0).expect("goal");
         let out = solve(&parts, &goal, &s).expect("runs");

@@ -211,6 +211,7 @@ pub fn request(f: &DesignForm, time_limit: Duration) -> Result<(Goal, Settings),
         min_cap_rating: Some(vcc.si() * 1.5),
         time_limit: Some(time_limit),
         rank: Rank::FewestPieces,
+        excursion: crate::solve::Excursion::default(),
     };
     Ok((goal, settings))
 }
