@@ -139,7 +139,7 @@ fn median(v: &[f64]) -> f64 {
 }
 
 /// Whether part `n` of the bench runs: all of them, or only those named in
-/// `SEARCH_BENCH_PARTS` (e.g. `SEARCH_BENCH_PARTS=4` or `1,4`).
+/// `SEARCH_BENCH_PARTS` (e.g. `SEARCH_BENCH_PARTS=4`, `2b` or `1,4`).
 fn part_on(n: &str) -> bool {
     std::env::var("SEARCH_BENCH_PARTS")
         .map(|v| v.split(',').any(|p| p.trim() == n))
@@ -147,11 +147,6 @@ fn part_on(n: &str) -> bool {
 }
 
 fn main() {
-    if part_on("4") && !part_on("1") {
-        println!("== 4. k = 4 on sample-stock/makerspace-cabinet.csv (pure solve, in process) ==");
-        cabinet_k4();
-        return;
-    }
     let parts = assortment();
     let nr = parts.iter().filter(|p| p.kind == Kind::Resistor).count();
     println!(
@@ -159,38 +154,48 @@ fn main() {
         parts.len() - nr
     );
     println!();
-    println!("== 1. pure solve (in process) ==");
-    run_set(&parts, &settings(3), "±1 %");
-    let tight = Settings {
-        tol: 0.001,
-        ..settings(3)
-    };
-    run_set(&parts, &tight, "±0.1 % (deeper search)");
-    match peak_kib() {
-        Some(k) => println!(
-            "peak memory of this process (VmHWM): {:.1} MB",
-            k as f64 / 1024.0
-        ),
-        None => println!("peak memory: /proc/self/status not readable"),
+    if part_on("1") {
+        println!("== 1. pure solve (in process) ==");
+        run_set(&parts, &settings(3), "±1 %");
+        let tight = Settings {
+            tol: 0.001,
+            ..settings(3)
+        };
+        run_set(&parts, &tight, "±0.1 % (deeper search)");
+        match peak_kib() {
+            Some(k) => println!(
+                "peak memory of this process (VmHWM): {:.1} MB",
+                k as f64 / 1024.0
+            ),
+            None => println!("peak memory: /proc/self/status not readable"),
+        }
+        println!();
     }
-    println!();
-    println!("== 2. whole process (onhand --db FILE --json find …) ==");
-    whole_process(&parts, &parts);
-    println!();
-    let (rows, dedup) = spread(&parts, 50_000);
-    println!(
-        "== 2b. whole process on a {}-row stock: the same {} values, each in about {} bins ==",
-        rows.len(),
-        parts.len(),
-        rows.len() / parts.len().max(1)
-    );
-    whole_process(&rows, &dedup);
-    println!();
-    println!("== 3. against brute force, sample-stock/bench-drawer.csv ==");
-    brute_comparison();
-    println!();
-    println!("== 4. k = 4 on sample-stock/makerspace-cabinet.csv (pure solve, in process) ==");
-    cabinet_k4();
+    if part_on("2") {
+        println!("== 2. whole process (onhand --db FILE --json find …) ==");
+        whole_process(&parts, &parts);
+        println!();
+    }
+    if part_on("2b") {
+        let (rows, dedup) = spread(&parts, 50_000);
+        println!(
+            "== 2b. whole process on a {}-row stock: the same {} values, each in about {} bins ==",
+            rows.len(),
+            parts.len(),
+            rows.len() / parts.len().max(1)
+        );
+        whole_process(&rows, &dedup);
+        println!();
+    }
+    if part_on("3") {
+        println!("== 3. against brute force, sample-stock/bench-drawer.csv ==");
+        brute_comparison();
+        println!();
+    }
+    if part_on("4") {
+        println!("== 4. k = 4 on sample-stock/makerspace-cabinet.csv (pure solve, in process) ==");
+        cabinet_k4();
+    }
 }
 
 /// The assortment spread over about `rows` stock rows: every value in many bins of one piece

@@ -851,3 +851,89 @@ fn the_ideal_model_leaves_the_square_waves_output_drop_out_everywhere() {
         "textbook duty is 50 %: {nominal}"
     );
 }
+
+/// A value spread over several bins, most of them held or put away, searches like one row with
+/// the free pieces only: the same designs as the de-duplicated drawer, and no piece from a held
+/// or removed bin. Fails if the stock read counted held pieces as free or kept removed rows.
+#[test]
+fn duplicated_rows_with_holds_search_like_their_free_pieces() {
+    let b = Bench::new();
+    let rows = b.write(
+        "rows.csv",
+        "kind,value,tolerance,technology,bin,quantity\n\
+         resistor,10k,1%,metal_film,A1,4\n\
+         resistor,1k,1%,metal_film,A5,5\n\
+         resistor,22k,1%,metal_film,B1,1\n\
+         resistor,22k,1%,metal_film,B2,1\n\
+         resistor,22k,1%,metal_film,B3,1\n\
+         resistor,22k,1%,metal_film,B4,1\n",
+    );
+    b.run(&["import", rows.to_str().expect("utf-8 path")]).ok();
+    let id = |bin: &str| -> String {
+        let j = b.run(&["--json", "list", "--bin", bin]).ok().json();
+        j[0]["id"].as_i64().expect("row id").to_string()
+    };
+    let (b1, b2, b4) = (id("B1"), id("B2"), id("B4"));
+    b.run(&[
+        "hold",
+        "--plan",
+        "other job",
+        &format!("#{b1}=1"),
+        &format!("#{b2}=1"),
+    ])
+    .ok();
+    b.run(&["take", &format!("#{b4}"), "--qty", "1"]).ok();
+    b.run(&["remove", &format!("#{b4}")]).ok();
+    // The same drawer with one row per value and its free count: one 22 kΩ.
+    let dedup = b.write(
+        "dedup.csv",
+        "kind,value,tolerance,technology,bin,quantity\n\
+         resistor,10k,1%,metal_film,A1,4\n\
+         resistor,1k,1%,metal_film,A5,5\n\
+         resistor,22k,1%,metal_film,B3,1\n",
+    );
+    let dedup = dedup.to_str().expect("utf-8 path");
+    let designs = |extra: &[&str]| -> Vec<(u64, String, Vec<String>)> {
+        let mut args = vec!["--json", "find", "value", "11k", "--alternatives", "5"];
+        args.extend_from_slice(extra);
+        let j = b.run(&args).ok().json();
+        j["designs"]
+            .as_array()
+            .expect("designs")
+            .iter()
+            .map(|d| {
+                let p = &d["positions"][0];
+                let bins = p["pieces"]
+                    .as_array()
+                    .expect("pieces")
+                    .iter()
+                    .map(|x| x["bin"].as_str().expect("bin").to_string())
+                    .collect();
+                (
+                    d["pieces"].as_u64().expect("pieces"),
+                    p["network"].as_str().expect("network").to_string(),
+                    bins,
+                )
+            })
+            .collect()
+    };
+    let from_rows = designs(&[]);
+    let from_dedup = designs(&["--stock", dedup]);
+    assert!(!from_rows.is_empty(), "11 kΩ is reachable (10 kΩ + 1 kΩ)");
+    // common practice: 22 kΩ ∥ 22 kΩ = 11 kΩ would need two free 22 kΩ; only B3's is free.
+    assert_eq!(from_rows, from_dedup);
+    for (_, net, bins) in &from_rows {
+        assert!(
+            bins.iter().all(|x| x != "B1" && x != "B2" && x != "B4"),
+            "{net} uses a held or removed bin: {bins:?}"
+        );
+    }
+    // Held pieces come back with --include-held: then 22 kΩ ∥ 22 kΩ is possible.
+    let with_held = designs(&["--include-held"]);
+    assert!(
+        with_held
+            .iter()
+            .any(|(_, _, bins)| bins.iter().filter(|x| x.starts_with('B')).count() == 2),
+        "{with_held:?}"
+    );
+}

@@ -57,21 +57,40 @@ const HELD_JOIN_FOR_PLAN: &str = "LEFT JOIN (SELECT part_id, SUM(quantity) AS he
 pub(crate) const PART_ORDER: &str = "CASE kind WHEN 'resistor' THEN 0 WHEN 'trimmer' THEN 1 \
      WHEN 'capacitor' THEN 2 ELSE 3 END, value, tol_minus_ppb, tol_plus_ppb, technology, package, bin";
 
+/// The order a many-row read asks SQLite for: [`PART_ORDER`] with the kind compared as text.
+/// It is the order of the part table's unique index (kind, value, tolerances, technology,
+/// package, bin), so SQLite walks that index instead of sorting, and no two rows tie. Only the
+/// kinds are then out of place: [`put_kinds_in_order`] moves them, keeping each run's order.
+const INDEX_ORDER: &str = "ORDER BY part.kind, part.value, part.tol_minus_ppb, \
+     part.tol_plus_ppb, part.technology, part.package, part.bin";
+
+/// The kind's place in [`PART_ORDER`].
+fn kind_rank(k: Kind) -> u8 {
+    match k {
+        Kind::Resistor => 0,
+        Kind::Trimmer => 1,
+        Kind::Capacitor => 2,
+        _ => 3,
+    }
+}
+
+/// Parts read in [`INDEX_ORDER`] put in [`PART_ORDER`]: a stable sort on the kind alone, which
+/// finds the few runs (one per kind) already sorted and only merges them. The unique index
+/// makes the text keys distinct, so the row id (the last key of [`sort_in_content_order`]) never
+/// decides and the result is the same as that sort's.
+fn put_kinds_in_order(parts: &mut [Part]) {
+    parts.sort_by_key(|p| kind_rank(p.kind));
+}
+
 /// Put parts in [`PART_ORDER`], in Rust: the same keys compared the same way (SQLite compares
 /// text byte by byte, as `str` does), with the row id last so that equal keys keep one order.
-/// Sorting here is several times faster than SQLite's sorter on the computed kind order.
+/// The reference the many-row reads ([`INDEX_ORDER`] and [`put_kinds_in_order`]) are tested
+/// against.
+#[cfg(test)]
 pub(crate) fn sort_in_content_order(parts: &mut [Part]) {
-    fn rank(k: Kind) -> u8 {
-        match k {
-            Kind::Resistor => 0,
-            Kind::Trimmer => 1,
-            Kind::Capacitor => 2,
-            _ => 3,
-        }
-    }
     parts.sort_unstable_by(|a, b| {
-        (rank(a.kind), a.value.base())
-            .cmp(&(rank(b.kind), b.value.base()))
+        (kind_rank(a.kind), a.value.base())
+            .cmp(&(kind_rank(b.kind), b.value.base()))
             .then_with(|| a.tolerance.minus.base().cmp(&b.tolerance.minus.base()))
             .then_with(|| a.tolerance.plus.base().cmp(&b.tolerance.plus.base()))
             .then_with(|| a.technology.as_str().cmp(b.technology.as_str()))
@@ -84,14 +103,24 @@ pub(crate) fn sort_in_content_order(parts: &mut [Part]) {
 /// Map one row (selected with [`PART_COLUMNS`]) to a part.
 pub(crate) fn part_from_row(row: &Row<'_>) -> rusqlite::Result<Result<Part, StoreError>> {
     let id: i64 = row.get(0)?;
-    let kind: String = row.get(1)?;
-    let tech: String = row.get(5)?;
     let corrupt = |reason: String| Err(StoreError::Corrupt { id, reason });
-    let Ok(kind) = kind.parse::<Kind>() else {
-        return Ok(corrupt(format!("unknown kind {kind:?}")));
+    // The store writes only the `as_str` names, so they are looked up among those few first,
+    // without a copy; any other text goes through the full parser (and its error).
+    let kind_text = row.get_ref(1)?.as_str()?;
+    let Some(kind) = Kind::ALL
+        .into_iter()
+        .find(|k| k.as_str() == kind_text)
+        .or_else(|| kind_text.parse::<Kind>().ok())
+    else {
+        return Ok(corrupt(format!("unknown kind {kind_text:?}")));
     };
-    let Ok(technology) = tech.parse::<Technology>() else {
-        return Ok(corrupt(format!("unknown technology {tech:?}")));
+    let tech_text = row.get_ref(5)?.as_str()?;
+    let Some(technology) = Technology::ALL
+        .into_iter()
+        .find(|t| t.as_str() == tech_text)
+        .or_else(|| tech_text.parse::<Technology>().ok())
+    else {
+        return Ok(corrupt(format!("unknown technology {tech_text:?}")));
     };
     Ok(Ok(Part {
         id,
@@ -219,9 +248,9 @@ impl Store {
     /// The parts matching `filter`, in stable content order (kind, value, tolerance, …).
     pub fn parts(&self, filter: &PartFilter) -> Result<Vec<Part>, StoreError> {
         let (clause, params) = filter.sql();
-        let sql = format!("SELECT {JOINED_COLUMNS} FROM part {HELD_JOIN} {clause}");
+        let sql = format!("SELECT {JOINED_COLUMNS} FROM part {HELD_JOIN} {clause} {INDEX_ORDER}");
         let mut parts = query_parts(&self.conn, &sql, &params)?;
-        sort_in_content_order(&mut parts);
+        put_kinds_in_order(&mut parts);
         Ok(parts)
     }
 
@@ -238,14 +267,14 @@ impl Store {
     pub fn available_parts_including(&self, plan: Option<&str>) -> Result<Vec<Part>, StoreError> {
         let sql = format!(
             "SELECT {JOINED_COLUMNS} FROM part {HELD_JOIN_FOR_PLAN} WHERE retired_at IS NULL \
-             AND part.quantity > COALESCE(h.held, 0)"
+             AND part.quantity > COALESCE(h.held, 0) {INDEX_ORDER}"
         );
         let mut parts = query_parts(
             &self.conn,
             &sql,
             &[plan.map_or(SqlValue::Null, |p| SqlValue::Text(p.to_string()))],
         )?;
-        sort_in_content_order(&mut parts);
+        put_kinds_in_order(&mut parts);
         Ok(parts)
     }
 
@@ -269,6 +298,86 @@ mod tests {
         .resolve()
         .expect("spec");
         s.add(&spec, qty, "t", "seed").expect("add");
+    }
+
+    /// The many-row reads (SQLite walking the unique index, then the kinds moved) give exactly
+    /// the order of the reference sort, on rows added out of order across every kind, several
+    /// technologies, packages and bins (text compared byte by byte: "B10" before "B2"), and an
+    /// emptied row. Fails if the kinds are left in text order or the SQL order is dropped.
+    #[test]
+    fn many_row_reads_keep_the_content_order() {
+        let dir = tempfile::tempdir().expect("tmp");
+        let mut s = Store::open(&dir.path().join("s.db")).expect("open");
+        let rows: [(&str, &str, &str, &str, &str, i64); 16] = [
+            ("capacitor", "100n", "x7r", "0805", "B2", 4),
+            ("resistor", "10k", "metal_film", "", "B10", 3),
+            ("diode", "1N4148", "other", "", "D1", 5),
+            ("trimmer", "10k", "other", "", "T1", 2),
+            ("resistor", "10k", "carbon_film", "", "B2", 3),
+            ("resistor", "10k", "metal_film", "", "B2", 3),
+            ("capacitor", "100n", "film", "", "B1", 2),
+            ("resistor", "1k", "metal_film", "0603", "A1", 1),
+            ("resistor", "1k", "metal_film", "", "A1", 0),
+            ("capacitor", "100n", "x7r", "0603", "B2", 4),
+            ("resistor", "10k", "metal_film", "", "B1", 3),
+            ("capacitor", "10n", "c0g", "", "Z9", 6),
+            ("trimmer", "1k", "other", "", "T2", 2),
+            ("resistor", "10k", "metal_film", "", "b1", 3),
+            ("capacitor", "100n", "film", "", "A1", 2),
+            ("resistor", "10k", "thick_film", "", "B1", 3),
+        ];
+        for (kind, value, tech, package, bin, qty) in rows {
+            let spec = PartText {
+                kind: Some(kind.into()),
+                value: value.into(),
+                technology: Some(tech.into()),
+                package: Some(package.into()),
+                bin: Some(bin.into()),
+                ..Default::default()
+            }
+            .resolve()
+            .expect("spec");
+            s.add(&spec, qty, "t", "seed").expect("add");
+        }
+        let mut reference = s.parts(&PartFilter::default()).expect("parts");
+        assert_eq!(reference.len(), rows.len());
+        // Shuffle by id (rows were added out of order), then sort with the reference.
+        reference.sort_by_key(|p| std::cmp::Reverse(p.id));
+        sort_in_content_order(&mut reference);
+        let ids = |ps: &[Part]| ps.iter().map(|p| p.id).collect::<Vec<_>>();
+        assert_eq!(
+            ids(&s.parts(&PartFilter::default()).expect("parts")),
+            ids(&reference)
+        );
+        // The kinds come resistor, trimmer, capacitor, diode (not in text order).
+        let kinds: Vec<Kind> = reference.iter().map(|p| p.kind).collect();
+        let first = |k: Kind| kinds.iter().position(|x| *x == k).expect("kind present");
+        assert!(first(Kind::Resistor) < first(Kind::Trimmer));
+        assert!(first(Kind::Trimmer) < first(Kind::Capacitor));
+        assert!(first(Kind::Capacitor) < first(Kind::Diode));
+        // The snapshot keeps the same order over the rows it keeps.
+        let avail = s.available_parts().expect("snapshot");
+        let mut expect: Vec<Part> = reference
+            .iter()
+            .filter(|p| p.available() > 0)
+            .cloned()
+            .collect();
+        sort_in_content_order(&mut expect);
+        assert_eq!(ids(&avail), ids(&expect));
+        assert_eq!(avail.len(), rows.len() - 1, "the emptied row is left out");
+        // A filtered read too.
+        let tens = PartFilter {
+            value: Some(Value::from_base(Kind::Resistor, 10_000_000)),
+            ..Default::default()
+        };
+        let mut expect: Vec<Part> = reference
+            .iter()
+            .filter(|p| p.value == Value::from_base(Kind::Resistor, 10_000_000))
+            .cloned()
+            .collect();
+        sort_in_content_order(&mut expect);
+        assert_eq!(ids(&s.parts(&tens).expect("tens")), ids(&expect));
+        assert_eq!(expect.len(), 7, "six 10 k resistors and the 10 k trimmer");
     }
 
     #[test]
