@@ -1060,7 +1060,7 @@ impl<'a> Prep<'a> {
                     ohms(x.r1),
                     ohms(x.r2),
                     format_sig(cap.value, 3, "F"),
-                    f.message
+                    f.sentence()
                 )));
             }
         }

@@ -1367,8 +1367,8 @@ impl<'a> Ctx<'a> {
     fn refuse(&self, st: &mut State, si: usize) -> bool {
         let stage = self.stage_of(&st.picks, si);
         match admit::blocking(&stage, self.family) {
-            Some(f) => {
-                *st.refused.entry(f.code).or_insert(0) += 1;
+            Some(b) => {
+                *st.refused.entry(b.code()).or_insert(0) += 1;
                 true
             }
             None => false,

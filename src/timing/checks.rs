@@ -45,12 +45,21 @@
 //!   polarised capacitor of 100 µF or more at 35 V or more, a resistor dissipating over 1 W.
 //!
 //! Error findings make a design infeasible; the search treats them as hard constraints.
+//!
+//! **Deciding and wording are apart.** Every rule above is a predicate on numbers that returns a
+//! typed [`Breach`] carrying the figures that triggered it; its [`code`](Breach::code) and
+//! [`severity`](Breach::severity) follow from the value alone. No deciding function formats text:
+//! the sentences live in `wording.rs`, and a [`Finding`] is built from a breach only where a report
+//! needs one ([`check_stage_with`], [`check_pair`], [`check_dual`]). The search's gate,
+//! [`first_error`], runs the predicates only and stops at the first refusal.
 
 use super::design::{Form, Stage, Steering};
-use super::family::Family;
+use super::family::{Family, Provenance};
+use super::forms::FormError;
 use crate::model::Technology;
-use crate::units::{Amps, Engineering, Farads, Seconds, Volts, Watts, format_sig};
+use crate::units::{Farads, Hertz, Ohms, Seconds, Volts};
 use serde::Serialize;
+use std::ops::ControlFlow;
 
 /// How serious a finding is.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
@@ -78,7 +87,7 @@ impl Severity {
     }
 }
 
-/// One result of a check.
+/// One result of a check, worded for a report (built from a [`Breach`] by `wording.rs`).
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Finding {
     /// How serious.
@@ -93,7 +102,7 @@ pub struct Finding {
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct Limits {
     /// Power rating of the resistor between supply and discharge pin.
-    pub resistor_power: Watts,
+    pub resistor_power: crate::units::Watts,
     /// Length of the trigger pulse driving a monostable, if known.
     pub trigger: Option<Seconds>,
 }
@@ -102,7 +111,7 @@ impl Default for Limits {
     fn default() -> Self {
         Self {
             // common practice: the usual small through-hole resistor is rated 0.25 W.
-            resistor_power: Watts::from_base(250_000),
+            resistor_power: crate::units::Watts::from_base(250_000),
             trigger: None,
         }
     }
@@ -121,168 +130,588 @@ pub const STRAY_TYPICAL_F: f64 = 5e-12;
 /// Voltage-rating margin over the supply (common practice).
 pub const RATING_MARGIN: f64 = 1.5;
 
-const CODES_NOTE: &str = "Follow local codes and licensed practice.";
+/// How far a figure went: past the limit (the design is refused) or into the margin below it
+/// that common practice keeps free (a warning).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Degree {
+    /// Past the limit: an Error.
+    Over,
+    /// Inside the margin: a Warning.
+    Near,
+}
 
-fn f(e: Error3) -> Finding {
-    Finding {
-        severity: e.0,
-        code: e.1,
-        message: e.2,
+impl Degree {
+    fn severity(self) -> Severity {
+        match self {
+            Degree::Over => Severity::Error,
+            Degree::Near => Severity::Warning,
+        }
     }
 }
-type Error3 = (Severity, &'static str, String);
 
-fn amps(a: f64) -> String {
-    Amps::from_si(a).map_or_else(|| format!("{a} A"), |x| x.eng(3))
-}
-fn volts(v: f64) -> String {
-    Volts::from_si(v).map_or_else(|| format!("{v} V"), |x| x.eng(3))
-}
-
-/// Check one stage with default build limits.
-pub fn check_stage(stage: &Stage, family: &Family) -> Vec<Finding> {
-    check_stage_with(stage, family, &Limits::default())
+/// The timer input whose bias current a breach concerns.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Pin {
+    /// The threshold pin, against the charging current at the upper threshold.
+    Threshold,
+    /// The trigger pin, against the discharge-path current at the lower threshold.
+    Trigger,
 }
 
-/// Check one stage against the family and the build limits.
-pub fn check_stage_with(stage: &Stage, family: &Family, limits: &Limits) -> Vec<Finding> {
-    let mut out = Vec::new();
+/// One rule a design breaks, with the figures that decided it (SI units unless typed). The
+/// code and severity follow from the value alone; the sentence is `wording.rs`'s.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Breach {
+    /// The supply lies outside the family's range.
+    SupplyRange {
+        /// Supply, V.
+        vcc: f64,
+        /// The family's range, V.
+        min: f64,
+        /// The family's range, V.
+        max: f64,
+        /// The family.
+        family: &'static str,
+        /// Where the upper figure comes from.
+        provenance: Provenance,
+    },
+    /// The supply is above 50 V.
+    HighVoltage {
+        /// Supply, V.
+        vcc: f64,
+    },
+    /// The form cannot run under these conditions.
+    Form(FormError),
+    /// The output-driven form with no resistance between output and capacitor.
+    NoOutputResistor,
+    /// R1 is zero: the discharge pin would short the supply.
+    R1Zero,
+    /// The discharge pin's current against the family's limit.
+    DischargeCurrent {
+        /// Over the limit or over half of it.
+        degree: Degree,
+        /// Vcc/R1, A.
+        from_supply: f64,
+        /// The capacitor's own discharge current, A.
+        from_cap: f64,
+        /// Supply, V.
+        vcc: f64,
+        /// R1.
+        r1: Ohms,
+        /// The family's limit, A.
+        limit: f64,
+        /// The family.
+        family: &'static str,
+        /// Where the limit comes from.
+        provenance: Provenance,
+    },
+    /// R1's dissipation while discharging against its rating.
+    ResistorPower {
+        /// Over the rating or over half of it.
+        degree: Degree,
+        /// Vcc²/R1, W.
+        power: f64,
+        /// Supply, V.
+        vcc: f64,
+        /// R1.
+        r1: Ohms,
+        /// The rating, W.
+        rating: f64,
+    },
+    /// R1 dissipates over 1 W.
+    HotResistor {
+        /// Vcc²/R1, W.
+        power: f64,
+    },
+    /// The frequency is above the family's maximum.
+    MaxFrequency {
+        /// The stage's frequency.
+        frequency: Hertz,
+        /// The family's maximum, Hz.
+        max: f64,
+        /// The family.
+        family: &'static str,
+        /// Where the maximum comes from.
+        provenance: Provenance,
+    },
+    /// The frequency is above half the family's maximum.
+    NearMaxFrequency {
+        /// The stage's frequency.
+        frequency: Hertz,
+        /// The family's maximum, Hz.
+        max: f64,
+        /// The family.
+        family: &'static str,
+    },
+    /// A one-shot pulse shorter than one period of the family's maximum frequency.
+    ShortPulse {
+        /// The pulse.
+        pulse: Seconds,
+        /// The family's maximum frequency, Hz.
+        max: f64,
+        /// The family.
+        family: &'static str,
+    },
+    /// The trigger pulse is not shorter than the output pulse.
+    TriggerNotShorter {
+        /// The trigger pulse.
+        trigger: Seconds,
+        /// The output pulse.
+        pulse: Seconds,
+    },
+    /// The trigger pulse is shorter than [`MIN_TRIGGER_PULSE`].
+    TriggerTooBrief {
+        /// The trigger pulse.
+        trigger: Seconds,
+    },
+    /// The output-driven square wave on a family whose output does not reach the rail.
+    SquareOutput {
+        /// The family.
+        family: &'static str,
+        /// Its output-high drop, V.
+        drop: f64,
+        /// Where the drop comes from.
+        provenance: Provenance,
+    },
+    /// The output-driven form's current into its timing resistor.
+    OutputCurrent {
+        /// Largest current at an edge, A.
+        peak: f64,
+        /// The light load the output-drop figure holds for, A.
+        light: f64,
+        /// The family's output rating, A.
+        rating: f64,
+        /// Whether the peak is above the rating (not just above the light load).
+        over_rating: bool,
+        /// The family.
+        family: &'static str,
+    },
+    /// A one-shot's capacitor dumps a large charge into the discharge pin.
+    DischargeDump {
+        /// The capacitor.
+        c: Farads,
+        /// Its charge at the upper threshold, C.
+        charge: f64,
+        /// The upper threshold, V.
+        vu: f64,
+    },
+    /// A pin's bias current against the current that sets the timing there.
+    BiasCurrent {
+        /// Below 10× or below the wanted ratio.
+        degree: Degree,
+        /// Which pin.
+        pin: Pin,
+        /// The timing current at that pin's threshold, A.
+        current: f64,
+        /// The resistance it flows through, Ω.
+        through: f64,
+        /// current / bias.
+        ratio: f64,
+        /// The family's pin current, A.
+        bias: f64,
+        /// The ratio common practice wants.
+        want: f64,
+        /// The family.
+        family: &'static str,
+        /// Where the pin current comes from.
+        provenance: Provenance,
+    },
+    /// An electrolytic's leakage against the charging current at the threshold.
+    Leakage {
+        /// Over half the charging current, or over 1 % of it.
+        degree: Degree,
+        /// Estimated leakage, A ([`leakage_estimate`]).
+        leak: f64,
+        /// The capacitor's rating, if known.
+        rating: Option<Volts>,
+        /// Supply, V (stands in for an unknown rating).
+        vcc: f64,
+        /// Aluminium (the 3 µA floor applies) rather than tantalum.
+        aluminium: bool,
+        /// Charging current at the threshold, A.
+        charging: f64,
+        /// leak / charging.
+        share: f64,
+    },
+    /// Timing capacitance under [`STRAY_LIMIT_F`].
+    StrayCapacitance {
+        /// The capacitance.
+        c: Farads,
+    },
+    /// The timing capacitor stores over 1 J.
+    StoredEnergy {
+        /// ½·C·V², J.
+        energy: f64,
+        /// Supply, V.
+        vcc: f64,
+    },
+    /// An electrolytic or tantalum timing capacitor.
+    ElectrolyticTiming,
+    /// A Y5V/Z5U ceramic timing capacitor.
+    LossyCeramic,
+    /// An X7R ceramic timing capacitor.
+    DriftingCeramic,
+    /// A polarised capacitor: mind its orientation.
+    Polarity,
+    /// A large polarised capacitor at a high supply.
+    BigElectrolytic {
+        /// Capacitance, F.
+        c: f64,
+        /// Supply, V.
+        vcc: f64,
+    },
+    /// The capacitor's rating is below the supply.
+    RatingBelowSupply {
+        /// The rating.
+        rating: Volts,
+        /// Supply, V.
+        vcc: f64,
+    },
+    /// The capacitor's rating is under [`RATING_MARGIN`] × the supply.
+    RatingMargin {
+        /// The rating.
+        rating: Volts,
+        /// Supply, V.
+        vcc: f64,
+    },
+    /// A polarised capacitor of unknown rating.
+    RatingUnknown {
+        /// Supply, V.
+        vcc: f64,
+    },
+    /// The pair's pace output cannot pull the width stage's trigger below its threshold.
+    TriggerNotReached {
+        /// The lowest the trigger goes, V.
+        lowest: f64,
+        /// The trigger threshold, V.
+        threshold: f64,
+    },
+    /// The pair's coupling holds the trigger low for at least the pulse.
+    CouplingStretches {
+        /// The coupling.
+        coupling: Coupling,
+        /// How long the trigger stays low, s.
+        held: f64,
+        /// The pulse, s.
+        width: f64,
+    },
+    /// The pair's coupling dip is shorter than [`MIN_TRIGGER_PULSE`].
+    CouplingDipBrief {
+        /// The dip, s.
+        dip: f64,
+    },
+    /// The pair's clamp diode is fitted: keep it.
+    ClampKept {
+        /// How high the trigger would rise without it, V.
+        peak: f64,
+        /// Supply, V.
+        vcc: f64,
+    },
+    /// The pair's trigger has no clamp diode.
+    ClampMissing {
+        /// How high the trigger rises, V.
+        peak: f64,
+        /// Supply, V.
+        vcc: f64,
+    },
+    /// The pair's pace stage fires once instead of running free.
+    PaceNotPeriodic,
+    /// The pair's width stage is not a monostable.
+    WidthNotMonostable,
+    /// The pair's width is not below its period.
+    WidthOverPeriod {
+        /// The width.
+        width: Seconds,
+        /// The period.
+        period: Seconds,
+    },
+    /// The pair's width is over 90 % of its period.
+    WidthNearPeriod {
+        /// The width.
+        width: Seconds,
+        /// The period.
+        period: Seconds,
+    },
+    /// Driven directly, the pace output's low time would stretch the pulse.
+    DirectTriggerStretches {
+        /// The pace stage's low time.
+        low: Seconds,
+        /// The pulse.
+        width: Seconds,
+    },
+    /// Within the tolerances the width can reach the period.
+    WidthMayReachPeriod {
+        /// Worst-case largest width/period.
+        max_duty: f64,
+    },
+    /// The two halves of a dual package on different supplies.
+    DualSupply,
+}
+
+impl Breach {
+    /// The stable short code of the rule.
+    pub fn code(&self) -> &'static str {
+        match self {
+            Breach::SupplyRange { .. } => "supply-range",
+            Breach::HighVoltage { .. } => "high-voltage",
+            Breach::Form(_) => "form",
+            Breach::NoOutputResistor => "zero-resistance",
+            Breach::R1Zero => "r1-zero",
+            Breach::DischargeCurrent { .. } => "discharge-current",
+            Breach::ResistorPower { .. } => "resistor-power",
+            Breach::HotResistor { .. } => "hot-resistor",
+            Breach::MaxFrequency { .. } => "max-frequency",
+            Breach::NearMaxFrequency { .. } => "near-max-frequency",
+            Breach::ShortPulse { .. } => "short-pulse",
+            Breach::TriggerNotShorter { .. } | Breach::DirectTriggerStretches { .. } => {
+                "trigger-width"
+            }
+            Breach::TriggerTooBrief { .. } | Breach::CouplingDipBrief { .. } => {
+                "trigger-pulse-width"
+            }
+            Breach::SquareOutput { .. } => "square-output",
+            Breach::OutputCurrent { .. } => "output-current",
+            Breach::DischargeDump { .. } => "discharge-dump",
+            Breach::BiasCurrent { .. } => "bias-current",
+            Breach::Leakage { .. } => "leakage",
+            Breach::StrayCapacitance { .. } => "stray-capacitance",
+            Breach::StoredEnergy { .. } => "stored-energy",
+            Breach::ElectrolyticTiming => "electrolytic-timing",
+            Breach::LossyCeramic | Breach::DriftingCeramic => "dielectric",
+            Breach::Polarity => "polarity",
+            Breach::BigElectrolytic { .. } => "big-electrolytic",
+            Breach::RatingBelowSupply { .. }
+            | Breach::RatingMargin { .. }
+            | Breach::RatingUnknown { .. } => "voltage-rating",
+            Breach::TriggerNotReached { .. } | Breach::CouplingStretches { .. } => {
+                "trigger-coupling"
+            }
+            Breach::ClampKept { .. } | Breach::ClampMissing { .. } => "trigger-clamp",
+            Breach::PaceNotPeriodic | Breach::WidthNotMonostable => "pair-form",
+            Breach::WidthOverPeriod { .. } => "width-exceeds-period",
+            Breach::WidthNearPeriod { .. } => "width-near-period",
+            Breach::WidthMayReachPeriod { .. } => "width-may-exceed-period",
+            Breach::DualSupply => "dual-supply",
+        }
+    }
+
+    /// How serious the breach is.
+    pub fn severity(&self) -> Severity {
+        match self {
+            Breach::DischargeCurrent { degree, .. }
+            | Breach::ResistorPower { degree, .. }
+            | Breach::BiasCurrent { degree, .. }
+            | Breach::Leakage { degree, .. } => degree.severity(),
+            Breach::SupplyRange { .. }
+            | Breach::Form(_)
+            | Breach::NoOutputResistor
+            | Breach::R1Zero
+            | Breach::MaxFrequency { .. }
+            | Breach::TriggerNotShorter { .. }
+            | Breach::RatingBelowSupply { .. }
+            | Breach::CouplingStretches { .. }
+            | Breach::PaceNotPeriodic
+            | Breach::WidthNotMonostable
+            | Breach::WidthOverPeriod { .. }
+            | Breach::DualSupply => Severity::Error,
+            Breach::NearMaxFrequency { .. }
+            | Breach::ShortPulse { .. }
+            | Breach::TriggerTooBrief { .. }
+            | Breach::SquareOutput { .. }
+            | Breach::OutputCurrent { .. }
+            | Breach::DischargeDump { .. }
+            | Breach::StrayCapacitance { .. }
+            | Breach::ElectrolyticTiming
+            | Breach::LossyCeramic
+            | Breach::RatingMargin { .. }
+            | Breach::TriggerNotReached { .. }
+            | Breach::CouplingDipBrief { .. }
+            | Breach::ClampMissing { .. }
+            | Breach::WidthNearPeriod { .. }
+            | Breach::DirectTriggerStretches { .. }
+            | Breach::WidthMayReachPeriod { .. } => Severity::Warning,
+            Breach::HighVoltage { .. }
+            | Breach::HotResistor { .. }
+            | Breach::StoredEnergy { .. }
+            | Breach::BigElectrolytic { .. } => Severity::Caution,
+            Breach::DriftingCeramic
+            | Breach::Polarity
+            | Breach::RatingUnknown { .. }
+            | Breach::ClampKept { .. } => Severity::Note,
+        }
+    }
+}
+
+/// Where in a pair or dual package a stage's breach arose.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Place {
+    /// The pair's free-running stage.
+    PaceStage,
+    /// The pair's one-shot.
+    WidthStage,
+    /// The first half of a dual package.
+    TimerA,
+    /// The second half of a dual package.
+    TimerB,
+}
+
+/// A breach and, for a stage of a pair or dual package, the stage it belongs to.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Placed {
+    /// The stage, `None` for a breach of the whole.
+    pub place: Option<Place>,
+    /// What was broken.
+    pub breach: Breach,
+}
+
+/// Where the predicates put their breaches: every one (for a report), or only the first Error
+/// (the search's gate, which then stops and skips the rules that never refuse).
+enum Out {
+    All(Vec<Breach>),
+    FirstError(Option<Breach>),
+}
+
+impl Out {
+    /// Take one breach; `Break` once the gate has its Error.
+    fn push(&mut self, b: Breach) -> ControlFlow<()> {
+        match self {
+            Out::All(v) => {
+                v.push(b);
+                ControlFlow::Continue(())
+            }
+            Out::FirstError(slot) => {
+                if b.severity() == Severity::Error {
+                    *slot = Some(b);
+                    ControlFlow::Break(())
+                } else {
+                    ControlFlow::Continue(())
+                }
+            }
+        }
+    }
+
+    /// Whether the rules that can only warn, caution or note are wanted.
+    fn all(&self) -> bool {
+        matches!(self, Out::All(_))
+    }
+}
+
+/// Every breach of one stage against the family and the build limits, in report order.
+pub fn stage_breaches(stage: &Stage, family: &Family, limits: &Limits) -> Vec<Breach> {
+    let mut out = Out::All(Vec::new());
+    let _ = decide(stage, family, limits, &mut out);
+    match out {
+        Out::All(v) => v,
+        Out::FirstError(b) => b.into_iter().collect(),
+    }
+}
+
+/// The first Error breach of one stage (default build limits), deciding on numbers only: the
+/// search's gate. It equals the first Error of [`stage_breaches`].
+pub fn first_error(stage: &Stage, family: &Family) -> Option<Breach> {
+    let mut out = Out::FirstError(None);
+    let _ = decide(stage, family, &Limits::default(), &mut out);
+    match out {
+        Out::FirstError(b) => b,
+        Out::All(v) => v.into_iter().find(|b| b.severity() == Severity::Error),
+    }
+}
+
+/// The rules of one stage, in report order.
+fn decide(stage: &Stage, family: &Family, limits: &Limits, out: &mut Out) -> ControlFlow<()> {
     let vcc = stage.conditions.vcc.si();
     let (smin, smax) = (family.supply_min.value, family.supply_max.value);
     if vcc < smin || vcc > smax {
-        out.push(f((
-            Severity::Error,
-            "supply-range",
-            format!(
-                "supply {} is outside the {} family's range {} to {} ({})",
-                volts(vcc),
-                family.name,
-                volts(smin),
-                volts(smax),
-                family.supply_max.provenance.label()
-            ),
-        )));
+        out.push(Breach::SupplyRange {
+            vcc,
+            min: smin,
+            max: smax,
+            family: family.name,
+            provenance: family.supply_max.provenance,
+        })?;
     }
-    if vcc > 50.0 {
-        out.push(f((
-            Severity::Caution,
-            "high-voltage",
-            format!(
-                "supply {} is above 50 V: shock hazard; insulate, fuse and discharge before touching. {CODES_NOTE}",
-                volts(vcc)
-            ),
-        )));
+    if vcc > 50.0 && out.all() {
+        out.push(Breach::HighVoltage { vcc })?;
     }
     let times = match stage.times() {
         Ok(t) => t,
         Err(e) => {
-            out.push(f((Severity::Error, "form", e.to_string())));
+            out.push(Breach::Form(e))?;
             // Still check what does not need times.
-            check_r1(stage, family, limits, &mut out);
-            return out;
+            return decide_r1(stage, family, limits, out);
         }
     };
-    check_r1(stage, family, limits, &mut out);
-    check_bias(stage, family, &mut out);
-    check_capacitor(stage, &mut out);
-    check_output_current(stage, family, &mut out);
-    check_discharge_dump(stage, &mut out);
+    decide_r1(stage, family, limits, out)?;
+    decide_bias(stage, family, out)?;
+    decide_capacitor(stage, out)?;
+    if out.all() {
+        // These only ever warn.
+        decide_output_current(stage, family, out)?;
+        decide_discharge_dump(stage, out)?;
+    }
 
     let fmax = family.max_freq.value;
-    if let Some(freq) = times.frequency {
-        let fr = freq.si();
+    if let Some(frequency) = times.frequency {
+        let fr = frequency.si();
         if fr > fmax {
-            out.push(f((
-                Severity::Error,
-                "max-frequency",
-                format!(
-                    "frequency {} is above the {} family's practical maximum {} ({})",
-                    freq.eng(4),
-                    family.name,
-                    format_sig(fmax, 3, "Hz"),
-                    family.max_freq.provenance.label()
-                ),
-            )));
-        } else if fr > fmax / 2.0 {
-            out.push(f((
-                Severity::Warning,
-                "near-max-frequency",
-                format!(
-                    "frequency {} is above half the {} family's practical maximum {}: edges and thresholds lag, expect the period to run long",
-                    freq.eng(4),
-                    family.name,
-                    format_sig(fmax, 3, "Hz")
-                ),
-            )));
+            out.push(Breach::MaxFrequency {
+                frequency,
+                max: fmax,
+                family: family.name,
+                provenance: family.max_freq.provenance,
+            })?;
+        } else if fr > fmax / 2.0 && out.all() {
+            out.push(Breach::NearMaxFrequency {
+                frequency,
+                max: fmax,
+                family: family.name,
+            })?;
         }
-    } else if times.high.si() < 1.0 / fmax {
-        out.push(f((
-            Severity::Warning,
-            "short-pulse",
-            format!(
-                "pulse {} is shorter than one period of the {} family's maximum frequency {}; the chip's own delays become a large part of it",
-                times.high.eng(3),
-                family.name,
-                format_sig(fmax, 3, "Hz")
-            ),
-        )));
+    } else if times.high.si() < 1.0 / fmax && out.all() {
+        out.push(Breach::ShortPulse {
+            pulse: times.high,
+            max: fmax,
+            family: family.name,
+        })?;
     }
     if stage.form == Form::Monostable
-        && let Some(trig) = limits.trigger
-        && trig >= times.high
+        && let Some(trigger) = limits.trigger
+        && trigger >= times.high
     {
-        out.push(f((
-            Severity::Error,
-            "trigger-width",
-            format!(
-                "trigger pulse {} is not shorter than the output pulse {}: the output stays high as long as the trigger is held low; shorten the trigger (e.g. couple it through a small capacitor)",
-                trig.eng(3),
-                times.high.eng(3)
-            ),
-        )));
+        out.push(Breach::TriggerNotShorter {
+            trigger,
+            pulse: times.high,
+        })?;
     }
     if stage.form == Form::Monostable
-        && let Some(trig) = limits.trigger
-        && let Some(finding) = check_trigger_minimum(trig)
+        && let Some(trigger) = limits.trigger
+        && trigger.si() < MIN_TRIGGER_PULSE
+        && out.all()
     {
-        out.push(finding);
+        out.push(Breach::TriggerTooBrief { trigger })?;
     }
-    if stage.form == Form::Square && !family.rail_to_rail() {
-        out.push(f((
-            Severity::Warning,
-            "square-output",
-            format!(
-                "the {} family's output sits about {} below the supply when high ({}), so the output-driven square wave charges toward less than Vcc: the high time runs long and the duty is above 50 %. Use a CMOS timer, or model it with the output-drop refinement",
-                family.name,
-                volts(family.output_high_drop.value),
-                family.output_high_drop.provenance.label()
-            ),
-        )));
+    if stage.form == Form::Square && !family.rail_to_rail() && out.all() {
+        out.push(Breach::SquareOutput {
+            family: family.name,
+            drop: family.output_high_drop.value,
+            provenance: family.output_high_drop.provenance,
+        })?;
     }
-    out
+    ControlFlow::Continue(())
 }
 
-/// Discharge-pin current and resistor dissipation: the checks on R1.
-fn check_r1(stage: &Stage, family: &Family, limits: &Limits, out: &mut Vec<Finding>) {
+/// Discharge-pin current and resistor dissipation: the rules on R1.
+fn decide_r1(stage: &Stage, family: &Family, limits: &Limits, out: &mut Out) -> ControlFlow<()> {
     let vcc = stage.conditions.vcc.si();
     let r1 = stage.r1.si();
     if !stage.form.r1_feeds_discharge() {
         if r1 <= 0.0 {
-            out.push(f((
-                Severity::Error,
-                "zero-resistance",
-                "the resistor from the output to the capacitor is zero: the output would drive the capacitor directly".to_string(),
-            )));
+            out.push(Breach::NoOutputResistor)?;
         }
-        return;
+        return ControlFlow::Continue(());
     }
     if r1 <= 0.0 {
-        out.push(f((
-            Severity::Error,
-            "r1-zero",
-            "R1 is zero: while discharging, the discharge pin would short the supply to ground through the chip".to_string(),
-        )));
-        return;
+        return out.push(Breach::R1Zero);
     }
     let from_supply = vcc / r1;
     let vu = stage
@@ -301,83 +730,47 @@ fn check_r1(stage: &Stage, family: &Family, limits: &Limits, out: &mut Vec<Findi
     };
     let total = from_supply + from_cap;
     let limit = family.discharge_max.value;
-    let detail = if from_cap > 0.0 {
-        format!(
-            "{} from the supply through R1 (Vcc/R1 = {} / {}) plus {} from the capacitor",
-            amps(from_supply),
-            volts(vcc),
-            stage.r1.eng(4),
-            amps(from_cap)
-        )
-    } else {
-        format!(
-            "{} (Vcc/R1 = {} / {})",
-            amps(from_supply),
-            volts(vcc),
-            stage.r1.eng(4)
-        )
-    };
-    if total > limit {
-        out.push(f((
-            Severity::Error,
-            "discharge-current",
-            format!(
-                "discharge pin would sink {} = {detail}, above the {} family's limit {} ({}); raise R1",
-                amps(total),
-                family.name,
-                amps(limit),
-                family.discharge_max.provenance.label()
-            ),
-        )));
+    let degree = if total > limit {
+        Some(Degree::Over)
     } else if total > limit / 2.0 {
-        out.push(f((
-            Severity::Warning,
-            "discharge-current",
-            format!(
-                "discharge pin sinks {} = {detail}, over half the {} family's limit {} ({}); the discharge transistor's drop shifts the timing",
-                amps(total),
-                family.name,
-                amps(limit),
-                family.discharge_max.provenance.label()
-            ),
-        )));
+        Some(Degree::Near)
+    } else {
+        None
+    };
+    if let Some(degree) = degree {
+        out.push(Breach::DischargeCurrent {
+            degree,
+            from_supply,
+            from_cap,
+            vcc,
+            r1: stage.r1,
+            limit,
+            family: family.name,
+            provenance: family.discharge_max.provenance,
+        })?;
     }
-    let p = vcc * vcc / r1;
+    let power = vcc * vcc / r1;
     let rating = limits.resistor_power.si();
-    let pw = |x: f64| Watts::from_si(x).map_or_else(|| format!("{x} W"), |w| w.eng(3));
-    if p > rating {
-        out.push(f((
-            Severity::Error,
-            "resistor-power",
-            format!(
-                "R1 dissipates {} while the capacitor discharges (Vcc²/R1 = {}² / {}), above its {} rating",
-                pw(p),
-                volts(vcc),
-                stage.r1.eng(4),
-                pw(rating)
-            ),
-        )));
-    } else if p > rating / 2.0 {
-        out.push(f((
-            Severity::Warning,
-            "resistor-power",
-            format!(
-                "R1 dissipates {} while discharging (Vcc²/R1), over half its {} rating (common practice derating)",
-                pw(p),
-                pw(rating)
-            ),
-        )));
+    let degree = if power > rating {
+        Some(Degree::Over)
+    } else if power > rating / 2.0 {
+        Some(Degree::Near)
+    } else {
+        None
+    };
+    if let Some(degree) = degree {
+        out.push(Breach::ResistorPower {
+            degree,
+            power,
+            vcc,
+            r1: stage.r1,
+            rating,
+        })?;
     }
-    if p > 1.0 {
-        out.push(f((
-            Severity::Caution,
-            "hot-resistor",
-            format!(
-                "R1 dissipates {}: it gets hot enough to burn skin and scorch the board; mount it clear of other parts. {CODES_NOTE}",
-                pw(p)
-            ),
-        )));
+    if power > 1.0 && out.all() {
+        out.push(Breach::HotResistor { power })?;
     }
+    ControlFlow::Continue(())
 }
 
 /// Output current above which the light-load output-high drop no longer holds: about 1 mA for
@@ -393,47 +786,33 @@ pub fn output_rating(family: &Family) -> f64 {
 
 /// The output-driven form: the output feeds the timing resistor, so its current at the moment
 /// of switching, `(Voh − Vl)/R` sourced and `Vu/R` sunk, must stay inside the light-load range
-/// the output-drop figure holds for (Warning) and inside the output rating (Error).
-fn check_output_current(stage: &Stage, family: &Family, out: &mut Vec<Finding>) {
+/// the output-drop figure holds for and inside the output rating (a Warning either way).
+fn decide_output_current(stage: &Stage, family: &Family, out: &mut Out) -> ControlFlow<()> {
     if stage.form != Form::Square {
-        return;
+        return ControlFlow::Continue(());
     }
     let c = &stage.conditions;
     let Ok((vu, vl)) = c.thresholds() else {
-        return;
+        return ControlFlow::Continue(());
     };
     let r = stage.r1.si();
     if r <= 0.0 {
-        return;
+        return ControlFlow::Continue(());
     }
     let voh = c.vcc.si() - c.output_high_drop.si();
     let peak = ((voh - vl) / r).max(vu / r);
     let (light, rating) = (light_load_limit(family), output_rating(family));
     // A Warning either way: the search's closed-form limits (solve/reach) mirror every Error.
     if peak <= light {
-        return;
+        return ControlFlow::Continue(());
     }
-    let over_rating = peak > rating;
-    out.push(f((
-        Severity::Warning,
-        "output-current",
-        format!(
-            "the output drives the timing resistor with up to {} at each edge (plus any load); {} — use a larger resistance and a smaller capacitor",
-            amps(peak),
-            if over_rating {
-                format!(
-                    "above the {} family's output rating of about {} (from memory)",
-                    family.name,
-                    amps(rating)
-                )
-            } else {
-                format!(
-                    "above the light load (about {}, from memory) its output-high drop figure holds for, so the high time runs longer than predicted",
-                    amps(light)
-                )
-            }
-        ),
-    )));
+    out.push(Breach::OutputCurrent {
+        peak,
+        light,
+        rating,
+        over_rating: peak > rating,
+        family: family.name,
+    })
 }
 
 /// Charge above which a one-shot's capacitor, dumped straight into the discharge pin at the end
@@ -442,33 +821,29 @@ fn check_output_current(stage: &Stage, family: &Family, out: &mut Vec<Finding>) 
 pub const DUMP_CHARGE_WARN: f64 = 10e-6;
 
 /// A monostable's capacitor discharges through nothing but the discharge transistor.
-fn check_discharge_dump(stage: &Stage, out: &mut Vec<Finding>) {
+fn decide_discharge_dump(stage: &Stage, out: &mut Out) -> ControlFlow<()> {
     if stage.form != Form::Monostable {
-        return;
+        return ControlFlow::Continue(());
     }
     let Ok((vu, _)) = stage.conditions.thresholds() else {
-        return;
+        return ControlFlow::Continue(());
     };
-    let q = stage.c.si() * vu;
-    if q > DUMP_CHARGE_WARN {
-        out.push(f((
-            Severity::Warning,
-            "discharge-dump",
-            format!(
-                "at the end of each pulse the {} capacitor dumps {:.0} µC from {} straight into the discharge pin, limited only by the transistor; put about 100 Ω in series with the discharge pin (common practice) — it adds about 100 Ω·C to the recovery time, not to the pulse",
-                stage.c.eng(3),
-                q * 1e6,
-                volts(vu)
-            ),
-        )));
+    let charge = stage.c.si() * vu;
+    if charge > DUMP_CHARGE_WARN {
+        out.push(Breach::DischargeDump {
+            c: stage.c,
+            charge,
+            vu,
+        })?;
     }
+    ControlFlow::Continue(())
 }
 
-/// Pin bias currents against the currents that set the timing.
-fn check_bias(stage: &Stage, family: &Family, out: &mut Vec<Finding>) {
+/// Pin bias currents (and an electrolytic's leakage) against the currents that set the timing.
+fn decide_bias(stage: &Stage, family: &Family, out: &mut Out) -> ControlFlow<()> {
     let c = &stage.conditions;
     let Ok((vu, vl)) = c.thresholds() else {
-        return;
+        return ControlFlow::Continue(());
     };
     let vcc = c.vcc.si();
     let vf = c.diode_drop.si();
@@ -490,52 +865,50 @@ fn check_bias(stage: &Stage, family: &Family, out: &mut Vec<Finding>) {
         },
         Form::Square => Some((r1, vl / r1)),
     };
-    let mut one = |what: &str, pin: &str, r: f64, i: f64, bias: f64, prov: &str, want: f64| {
-        if !(i.is_finite() && i > 0.0 && bias > 0.0) {
-            return;
+    let one = |pin: Pin, through: f64, current: f64, figure: &super::family::Figure, want: f64| {
+        let bias = figure.value;
+        if !(current.is_finite() && current > 0.0 && bias > 0.0) {
+            return None;
         }
-        let ratio = i / bias;
-        let sev = if ratio < BIAS_RATIO_ERROR {
-            Severity::Error
+        let ratio = current / bias;
+        let degree = if ratio < BIAS_RATIO_ERROR {
+            Degree::Over
         } else if ratio < want {
-            Severity::Warning
+            Degree::Near
         } else {
-            return;
+            return None;
         };
-        let rname = crate::units::Ohms::from_si(r).map_or_else(|| format!("{r} Ω"), |x| x.eng(4));
-        out.push(f((
-            sev,
-            "bias-current",
-            format!(
-                "{what} current at the {pin} is {} through {rname}, only {:.0}× the {} family's {pin}-pin current {} ({prov}); common practice wants at least {:.0}×, so the timing runs long by roughly {:.1} % — use a smaller resistance and a larger capacitor, or a CMOS timer",
-                amps(i),
-                ratio,
-                family.name,
-                amps(bias),
-                want,
-                100.0 / ratio
-            ),
-        )));
+        Some(Breach::BiasCurrent {
+            degree,
+            pin,
+            current,
+            through,
+            ratio,
+            bias,
+            want,
+            family: family.name,
+            provenance: figure.provenance,
+        })
     };
-    one(
-        "charging",
-        "threshold",
+    if let Some(b) = one(
+        Pin::Threshold,
         charge_r,
         charge_i,
-        family.threshold_current.value,
-        family.threshold_current.provenance.label(),
+        &family.threshold_current,
         BIAS_RATIO_WARN,
-    );
-    if let Some((r, i)) = discharge {
-        one(
-            "discharging",
-            "trigger",
+    ) {
+        out.push(b)?;
+    }
+    if let Some((r, i)) = discharge
+        && let Some(b) = one(
+            Pin::Trigger,
             r,
             i,
-            family.trigger_current.value,
-            family.trigger_current.provenance.label(),
+            &family.trigger_current,
             TRIGGER_RATIO_WARN,
-        );
+        )
+    {
+        out.push(b)?;
     }
     // Leakage against the same charging current.
     if let Some(cap) = stage.cap
@@ -549,130 +922,66 @@ fn check_bias(stage: &Stage, family: &Family, out: &mut Vec<Finding>) {
             vcc,
         );
         let share = leak / charge_i;
-        let sev = if share > 0.5 {
-            Some(Severity::Error)
+        let degree = if share > 0.5 {
+            Some(Degree::Over)
         } else if share > 0.01 {
-            Some(Severity::Warning)
+            Some(Degree::Near)
         } else {
             None
         };
-        if let Some(sev) = sev {
-            out.push(f((
-                sev,
-                "leakage",
-                format!(
-                    "the electrolytic may leak up to {} (0.01·C·V µA at its rating {}{}, from memory: the datasheet maximum) against a charging current of {} at the threshold ({:.0} % of it){}",
-                    amps(leak),
-                    cap.voltage_rating.map_or_else(|| format!("unknown, taken as the supply {}", volts(vcc)), |v| v.eng(3)),
-                    if cap.technology == Technology::Electrolytic { ", at least 3 µA" } else { "" },
-                    amps(charge_i),
-                    share * 100.0,
-                    if sev == Severity::Error {
-                        ": the capacitor may never reach the threshold"
-                    } else {
-                        ": the timing runs long and varies from part to part"
-                    }
-                ),
-            )));
+        if let Some(degree) = degree {
+            out.push(Breach::Leakage {
+                degree,
+                leak,
+                rating: cap.voltage_rating,
+                vcc,
+                aluminium: cap.technology == Technology::Electrolytic,
+                charging: charge_i,
+                share,
+            })?;
         }
     }
+    ControlFlow::Continue(())
 }
 
 /// Dielectric, rating, polarity, strays, stored energy.
-fn check_capacitor(stage: &Stage, out: &mut Vec<Finding>) {
+fn decide_capacitor(stage: &Stage, out: &mut Out) -> ControlFlow<()> {
     let c = stage.c.si();
     let vcc = stage.conditions.vcc.si();
-    if c < STRAY_LIMIT_F {
-        out.push(f((
-            Severity::Warning,
-            "stray-capacitance",
-            format!(
-                "timing capacitance {} is under 100 pF: about 5 pF of pin and board strays (from memory) add {:.0} % or more",
-                stage.c.eng(3),
-                STRAY_TYPICAL_F / c * 100.0
-            ),
-        )));
+    let all = out.all();
+    if c < STRAY_LIMIT_F && all {
+        out.push(Breach::StrayCapacitance { c: stage.c })?;
     }
     let energy = 0.5 * c * vcc * vcc;
-    if energy > 1.0 {
-        out.push(f((
-            Severity::Caution,
-            "stored-energy",
-            format!(
-                "the timing capacitor stores {:.1} J at {}: it can burn, shock and weld tools; discharge it through a resistor before handling. {CODES_NOTE}",
-                energy,
-                volts(vcc)
-            ),
-        )));
+    if energy > 1.0 && all {
+        out.push(Breach::StoredEnergy { energy, vcc })?;
     }
     let Some(cap) = stage.cap else {
-        return;
+        return ControlFlow::Continue(());
     };
-    match cap.technology {
-        Technology::Electrolytic | Technology::Tantalum => out.push(f((
-            Severity::Warning,
-            "electrolytic-timing",
-            "an electrolytic timing capacitor has a wide tolerance, leaks and drifts with age and temperature; prefer film or C0G ceramic where the value allows".to_string(),
-        ))),
-        Technology::Y5v => out.push(f((
-            Severity::Warning,
-            "dielectric",
-            "Y5V/Z5U ceramic loses much of its capacitance with voltage and temperature; poor for timing — prefer film or C0G".to_string(),
-        ))),
-        Technology::X7r => out.push(f((
-            Severity::Note,
-            "dielectric",
-            "X7R ceramic drifts with voltage and temperature by several percent; C0G or film is steadier for timing".to_string(),
-        ))),
-        _ => {}
-    }
-    if cap.technology.is_polarised() {
-        out.push(f((
-            Severity::Note,
-            "polarity",
-            "polarised capacitor: fit its + lead to the threshold/trigger node and its − lead to ground".to_string(),
-        )));
-        if c >= 100e-6 && vcc >= 35.0 {
-            out.push(f((
-                Severity::Caution,
-                "big-electrolytic",
-                format!(
-                    "a {} electrolytic at {} holds a dangerous charge and can vent if reversed or over-volted. {CODES_NOTE}",
-                    Farads::from_si(c).map_or_else(String::new, |x| x.eng(3)),
-                    volts(vcc)
-                ),
-            )));
+    if all {
+        match cap.technology {
+            Technology::Electrolytic | Technology::Tantalum => {
+                out.push(Breach::ElectrolyticTiming)?;
+            }
+            Technology::Y5v => out.push(Breach::LossyCeramic)?,
+            Technology::X7r => out.push(Breach::DriftingCeramic)?,
+            _ => {}
+        }
+        if cap.technology.is_polarised() {
+            out.push(Breach::Polarity)?;
+            if c >= 100e-6 && vcc >= 35.0 {
+                out.push(Breach::BigElectrolytic { c, vcc })?;
+            }
         }
     }
     match cap.voltage_rating {
-        Some(rating) if rating.si() < vcc => out.push(f((
-            Severity::Error,
-            "voltage-rating",
-            format!(
-                "capacitor rated {} is below the supply {}",
-                rating.eng(3),
-                volts(vcc)
-            ),
-        ))),
-        Some(rating) if rating.si() < RATING_MARGIN * vcc => out.push(f((
-            Severity::Warning,
-            "voltage-rating",
-            format!(
-                "capacitor rated {} has less than the 1.5× margin over the supply {} (common practice: at least {})",
-                rating.eng(3),
-                volts(vcc),
-                volts(RATING_MARGIN * vcc)
-            ),
-        ))),
-        None if cap.technology.is_polarised() => out.push(f((
-            Severity::Note,
-            "voltage-rating",
-            format!(
-                "voltage rating unknown: use at least {} (1.5× the supply, common practice)",
-                volts(RATING_MARGIN * vcc)
-            ),
-        ))),
-        _ => {}
+        Some(rating) if rating.si() < vcc => out.push(Breach::RatingBelowSupply { rating, vcc }),
+        Some(rating) if rating.si() < RATING_MARGIN * vcc && all => {
+            out.push(Breach::RatingMargin { rating, vcc })
+        }
+        None if cap.technology.is_polarised() && all => out.push(Breach::RatingUnknown { vcc }),
+        _ => ControlFlow::Continue(()),
     }
 }
 
@@ -749,145 +1058,74 @@ pub fn trigger_dip(k: &Coupling, vcc: f64, voh: f64, vtrig: f64) -> TriggerDip {
     }
 }
 
-/// The findings on a pair's trigger coupling for a pulse of `width` seconds.
-fn coupling_findings(dip: &TriggerDip, k: &Coupling, width: f64, vcc: f64) -> Vec<Finding> {
+/// The breaches of a pair's trigger coupling for a pulse of `width` seconds.
+fn coupling_breaches(dip: &TriggerDip, k: &Coupling, width: f64, vcc: f64) -> Vec<Breach> {
     let mut out = Vec::new();
     match dip.below {
-        None => out.push(f((
-            // A Warning: the output-high drop is a typical light-load figure, so the margin
-            // either way is within its spread.
-            Severity::Warning,
-            "trigger-coupling",
-            format!(
-                "with the family's output-high drop the pace output's falling edge pulls the width stage's trigger only down to {}, not below its threshold {}: the one-shot may never fire; use a CMOS timer, which swings closer to the supply",
-                volts(dip.lowest),
-                volts(dip.threshold)
-            ),
-        ))),
-        Some(t) if t >= width => out.push(f((
-            Severity::Error,
-            "trigger-coupling",
-            format!(
-                "the coupling ({} nF, {} kΩ pull-up) holds the trigger low for {}, not shorter than the pulse {}: the pulse is stretched; use a smaller coupling capacitor",
-                k.capacitor * 1e9,
-                k.pull_up / 1e3,
-                Seconds::from_si(t).map_or_else(|| format!("{t} s"), |x| x.eng(3)),
-                Seconds::from_si(width).map_or_else(|| format!("{width} s"), |x| x.eng(3)),
-            ),
-        ))),
-        Some(t) if t < MIN_TRIGGER_PULSE => out.push(f((
-            Severity::Warning,
-            "trigger-pulse-width",
-            format!(
-                "the coupling makes a trigger dip of only {}, under the {} the latch needs to set reliably (from memory); use a larger coupling capacitor",
-                Seconds::from_si(t).map_or_else(|| format!("{t} s"), |x| x.eng(3)),
-                Seconds::from_si(MIN_TRIGGER_PULSE).map_or_else(String::new, |x| x.eng(3)),
-            ),
-        ))),
+        // A Warning: the output-high drop is a typical light-load figure, so the margin either
+        // way is within its spread.
+        None => out.push(Breach::TriggerNotReached {
+            lowest: dip.lowest,
+            threshold: dip.threshold,
+        }),
+        Some(held) if held >= width => out.push(Breach::CouplingStretches {
+            coupling: *k,
+            held,
+            width,
+        }),
+        Some(dip) if dip < MIN_TRIGGER_PULSE => out.push(Breach::CouplingDipBrief { dip }),
         Some(_) => {}
     }
-    if k.clamp {
-        out.push(f((
-            Severity::Note,
-            "trigger-clamp",
-            format!(
-                "keep the clamp diode from the width stage's trigger to the supply: on each rising edge of the pace output the coupling capacitor would lift the trigger to about {}, above the supply {} (common practice)",
-                volts(dip.unclamped_peak),
-                volts(vcc)
-            ),
-        )));
+    let peak = dip.unclamped_peak;
+    out.push(if k.clamp {
+        Breach::ClampKept { peak, vcc }
     } else {
-        out.push(f((
-            Severity::Warning,
-            "trigger-clamp",
-            format!(
-                "no clamp diode on the width stage's trigger: each rising edge of the pace output lifts it to about {}, above the supply {}; add a small-signal diode from the trigger to the supply",
-                volts(dip.unclamped_peak),
-                volts(vcc)
-            ),
-        )));
-    }
+        Breach::ClampMissing { peak, vcc }
+    });
     out
 }
 
-/// A trigger pulse given for a one-shot that is too short to set the latch.
-fn check_trigger_minimum(trig: Seconds) -> Option<Finding> {
-    (trig.si() < MIN_TRIGGER_PULSE).then(|| {
-        f((
-            Severity::Warning,
-            "trigger-pulse-width",
-            format!(
-                "trigger pulse {} is shorter than the {} the latch needs to set reliably (from memory): the one-shot may miss it",
-                trig.eng(3),
-                Seconds::from_si(MIN_TRIGGER_PULSE).map_or_else(String::new, |x| x.eng(3)),
-            ),
-        ))
-    })
+fn placed(place: Option<Place>, v: Vec<Breach>) -> impl Iterator<Item = Placed> {
+    v.into_iter().map(move |breach| Placed { place, breach })
 }
 
-fn prefixed(label: &str, mut v: Vec<Finding>) -> Vec<Finding> {
-    for x in &mut v {
-        x.message = format!("{label}: {}", x.message);
-    }
-    v
-}
-
-/// Fixed frequency with adjustable width: a periodic `pace` stage triggers the monostable
-/// `width`. Both stages are checked; the width must stay below the period (Error otherwise).
-pub fn check_pair(pace: &Stage, width: &Stage, family: &Family, limits: &Limits) -> Vec<Finding> {
-    let mut out = prefixed(
-        "pace stage",
-        check_stage_with(
-            pace,
-            family,
-            &Limits {
-                trigger: None,
-                ..*limits
-            },
-        ),
-    );
-    out.extend(prefixed(
-        "width stage",
-        check_stage_with(width, family, limits),
-    ));
+/// Every breach of a pair: a periodic `pace` stage triggering the monostable `width`. Both
+/// stages are checked; the width must stay below the period (Error otherwise).
+pub fn pair_breaches(pace: &Stage, width: &Stage, family: &Family, limits: &Limits) -> Vec<Placed> {
+    let pace_limits = Limits {
+        trigger: None,
+        ..*limits
+    };
+    let mut out: Vec<Placed> = placed(
+        Some(Place::PaceStage),
+        stage_breaches(pace, family, &pace_limits),
+    )
+    .chain(placed(
+        Some(Place::WidthStage),
+        stage_breaches(width, family, limits),
+    ))
+    .collect();
+    let mut whole = Vec::new();
     if !pace.form.is_periodic() {
-        out.push(f((
-            Severity::Error,
-            "pair-form",
-            "the pace stage must run free (astable, steered or square), not fire once".to_string(),
-        )));
+        whole.push(Breach::PaceNotPeriodic);
     }
     if width.form != Form::Monostable {
-        out.push(f((
-            Severity::Error,
-            "pair-form",
-            "the width stage must be a monostable".to_string(),
-        )));
+        whole.push(Breach::WidthNotMonostable);
     }
     if let (Ok(p), Ok(w)) = (pace.times(), width.times())
         && let (Some(period), Some(low)) = (p.period, p.low)
     {
         let wd = w.high.si();
         if wd >= period.si() {
-            out.push(f((
-                Severity::Error,
-                "width-exceeds-period",
-                format!(
-                    "pulse width {} is not below the period {}: the one-shot would still be high when the next trigger comes, so the width is not controlled",
-                    w.high.eng(4),
-                    period.eng(4)
-                ),
-            )));
+            whole.push(Breach::WidthOverPeriod {
+                width: w.high,
+                period,
+            });
         } else if wd > 0.9 * period.si() {
-            out.push(f((
-                Severity::Warning,
-                "width-near-period",
-                format!(
-                    "pulse width {} is over 90 % of the period {}: the timing capacitor has little time to empty before the next trigger (common practice: keep 10 % spare)",
-                    w.high.eng(4),
-                    period.eng(4)
-                ),
-            )));
+            whole.push(Breach::WidthNearPeriod {
+                width: w.high,
+                period,
+            });
         }
         if limits.trigger.is_none() {
             let vcc = width.conditions.vcc.si();
@@ -899,51 +1137,73 @@ pub fn check_pair(pace: &Stage, width: &Stage, family: &Family, limits: &Limits)
                     .max(family.output_high_drop.value);
             let vtrig = width.conditions.thresholds().map_or(vcc / 3.0, |(_, l)| l);
             let dip = trigger_dip(&PAIR_COUPLING, vcc, voh, vtrig);
-            out.extend(coupling_findings(&dip, &PAIR_COUPLING, wd, vcc));
+            whole.extend(coupling_breaches(&dip, &PAIR_COUPLING, wd, vcc));
         }
         if low.si() >= wd && limits.trigger.is_none() {
-            out.push(f((
-                Severity::Warning,
-                "trigger-width",
-                format!(
-                    "if the pace output drives the trigger directly, its low time {} is not shorter than the pulse {} and would stretch it; couple the trigger through a small capacitor (a differentiator)",
-                    low.eng(4),
-                    w.high.eng(4)
-                ),
-            )));
+            whole.push(Breach::DirectTriggerStretches { low, width: w.high });
         }
     }
+    out.extend(placed(None, whole));
     out
 }
 
 /// A pair whose width can reach its period somewhere inside the tolerances: `max_duty` is the
 /// exact worst-case maximum of width/period (from the corner search). A Warning: the nominal
 /// design works, but some builds from these parts will not.
-pub fn check_pair_worst_case(max_duty: f64) -> Option<Finding> {
-    (max_duty >= 1.0).then(|| {
-        f((
-            Severity::Warning,
-            "width-may-exceed-period",
-            format!(
-                "within the tolerances the pulse width can reach {:.0} % of the period: some builds from these parts will not control the width; use tighter parts or more margin",
-                max_duty * 100.0
-            ),
-        ))
-    })
+pub fn pair_worst_case_breach(max_duty: f64) -> Option<Breach> {
+    (max_duty >= 1.0).then_some(Breach::WidthMayReachPeriod { max_duty })
 }
 
-/// Two stages in one dual package: each is checked on its own, with the shared supply.
-pub fn check_dual(a: &Stage, b: &Stage, family: &Family, limits: &Limits) -> Vec<Finding> {
-    let mut out = prefixed("timer A", check_stage_with(a, family, limits));
-    out.extend(prefixed("timer B", check_stage_with(b, family, limits)));
+/// Every breach of two stages in one dual package: each is checked on its own, with the shared
+/// supply.
+pub fn dual_breaches(a: &Stage, b: &Stage, family: &Family, limits: &Limits) -> Vec<Placed> {
+    let mut out: Vec<Placed> = placed(Some(Place::TimerA), stage_breaches(a, family, limits))
+        .chain(placed(
+            Some(Place::TimerB),
+            stage_breaches(b, family, limits),
+        ))
+        .collect();
     if a.conditions.vcc != b.conditions.vcc {
-        out.push(f((
-            Severity::Error,
-            "dual-supply",
-            "both halves of a dual package run from one supply pin".to_string(),
-        )));
+        out.push(Placed {
+            place: None,
+            breach: Breach::DualSupply,
+        });
     }
     out
+}
+
+/// Check one stage with default build limits: every breach, worded.
+pub fn check_stage(stage: &Stage, family: &Family) -> Vec<Finding> {
+    check_stage_with(stage, family, &Limits::default())
+}
+
+/// Check one stage against the family and the build limits: every breach, worded.
+pub fn check_stage_with(stage: &Stage, family: &Family, limits: &Limits) -> Vec<Finding> {
+    stage_breaches(stage, family, limits)
+        .iter()
+        .map(Breach::finding)
+        .collect()
+}
+
+/// Check a pair (see [`pair_breaches`]): every breach, worded.
+pub fn check_pair(pace: &Stage, width: &Stage, family: &Family, limits: &Limits) -> Vec<Finding> {
+    pair_breaches(pace, width, family, limits)
+        .iter()
+        .map(Placed::finding)
+        .collect()
+}
+
+/// The pair's worst-case overlap (see [`pair_worst_case_breach`]), worded.
+pub fn check_pair_worst_case(max_duty: f64) -> Option<Finding> {
+    pair_worst_case_breach(max_duty).map(|b| b.finding())
+}
+
+/// Check a dual package (see [`dual_breaches`]): every breach, worded.
+pub fn check_dual(a: &Stage, b: &Stage, family: &Family, limits: &Limits) -> Vec<Finding> {
+    dual_breaches(a, b, family, limits)
+        .iter()
+        .map(Placed::finding)
+        .collect()
 }
 
 /// Whether any finding is an Error.
@@ -955,7 +1215,7 @@ pub fn has_error(findings: &[Finding]) -> bool {
 mod tests {
     use super::*;
     use crate::timing::{CapFacts, Conditions};
-    use crate::units::{Ohms, Tolerance};
+    use crate::units::Tolerance;
 
     fn v(x: f64) -> Volts {
         Volts::from_si(x).expect("volts")
@@ -1381,11 +1641,326 @@ mod tests {
             ..PAIR_COUPLING
         };
         let dip = trigger_dip(&k, 9.0, 9.0, 3.0);
-        let fs = coupling_findings(&dip, &k, 1e-3, 9.0);
+        let fs: Vec<Finding> = coupling_breaches(&dip, &k, 1e-3, 9.0)
+            .iter()
+            .map(Breach::finding)
+            .collect();
         assert!(
             codes(&fs, Severity::Error).contains(&"trigger-coupling"),
             "{fs:?}"
         );
         assert!(codes(&fs, Severity::Warning).contains(&"trigger-clamp"));
+    }
+
+    /// Every rule's code and severity come from its typed value alone (the old codes and
+    /// severities, unchanged), and its finding carries exactly those: the wording adds only
+    /// the sentence.
+    #[test]
+    fn every_rule_has_its_code_and_severity_from_the_value() {
+        use Severity::{Caution, Error, Note, Warning};
+        let p = Provenance::FromMemory;
+        let (hz, s) = (
+            Hertz::from_si(1e3).expect("hz"),
+            Seconds::from_si(1e-3).expect("s"),
+        );
+        let bias = |degree| Breach::BiasCurrent {
+            degree,
+            pin: Pin::Trigger,
+            current: 1e-6,
+            through: 1e6,
+            ratio: 2.0,
+            bias: 5e-7,
+            want: 50.0,
+            family: "bipolar",
+            provenance: p,
+        };
+        let leak = |degree| Breach::Leakage {
+            degree,
+            leak: 1e-5,
+            rating: None,
+            vcc: 9.0,
+            aluminium: true,
+            charging: 1e-5,
+            share: 1.0,
+        };
+        let discharge = |degree| Breach::DischargeCurrent {
+            degree,
+            from_supply: 1e-2,
+            from_cap: 0.0,
+            vcc: 9.0,
+            r1: r(900.0),
+            limit: 1e-2,
+            family: "cmos",
+            provenance: p,
+        };
+        let power = |degree| Breach::ResistorPower {
+            degree,
+            power: 0.2,
+            vcc: 9.0,
+            r1: r(400.0),
+            rating: 0.25,
+        };
+        let table: Vec<(Breach, &str, Severity)> = vec![
+            (
+                Breach::SupplyRange {
+                    vcc: 3.0,
+                    min: 4.5,
+                    max: 16.0,
+                    family: "bipolar",
+                    provenance: p,
+                },
+                "supply-range",
+                Error,
+            ),
+            (Breach::HighVoltage { vcc: 60.0 }, "high-voltage", Caution),
+            (
+                Breach::Form(FormError::NoSupply(Volts::ZERO)),
+                "form",
+                Error,
+            ),
+            (Breach::NoOutputResistor, "zero-resistance", Error),
+            (Breach::R1Zero, "r1-zero", Error),
+            (discharge(Degree::Over), "discharge-current", Error),
+            (discharge(Degree::Near), "discharge-current", Warning),
+            (power(Degree::Over), "resistor-power", Error),
+            (power(Degree::Near), "resistor-power", Warning),
+            (Breach::HotResistor { power: 2.0 }, "hot-resistor", Caution),
+            (
+                Breach::MaxFrequency {
+                    frequency: hz,
+                    max: 1e5,
+                    family: "bipolar",
+                    provenance: p,
+                },
+                "max-frequency",
+                Error,
+            ),
+            (
+                Breach::NearMaxFrequency {
+                    frequency: hz,
+                    max: 1e5,
+                    family: "bipolar",
+                },
+                "near-max-frequency",
+                Warning,
+            ),
+            (
+                Breach::ShortPulse {
+                    pulse: s,
+                    max: 1e5,
+                    family: "bipolar",
+                },
+                "short-pulse",
+                Warning,
+            ),
+            (
+                Breach::TriggerNotShorter {
+                    trigger: s,
+                    pulse: s,
+                },
+                "trigger-width",
+                Error,
+            ),
+            (
+                Breach::TriggerTooBrief { trigger: s },
+                "trigger-pulse-width",
+                Warning,
+            ),
+            (
+                Breach::SquareOutput {
+                    family: "bipolar",
+                    drop: 1.7,
+                    provenance: p,
+                },
+                "square-output",
+                Warning,
+            ),
+            (
+                Breach::OutputCurrent {
+                    peak: 1.0,
+                    light: 1e-3,
+                    rating: 1e-2,
+                    over_rating: true,
+                    family: "cmos",
+                },
+                "output-current",
+                Warning,
+            ),
+            (
+                Breach::DischargeDump {
+                    c: c(1e-4),
+                    charge: 6e-4,
+                    vu: 6.0,
+                },
+                "discharge-dump",
+                Warning,
+            ),
+            (bias(Degree::Over), "bias-current", Error),
+            (bias(Degree::Near), "bias-current", Warning),
+            (leak(Degree::Over), "leakage", Error),
+            (leak(Degree::Near), "leakage", Warning),
+            (
+                Breach::StrayCapacitance { c: c(1e-11) },
+                "stray-capacitance",
+                Warning,
+            ),
+            (
+                Breach::StoredEnergy {
+                    energy: 2.0,
+                    vcc: 60.0,
+                },
+                "stored-energy",
+                Caution,
+            ),
+            (Breach::ElectrolyticTiming, "electrolytic-timing", Warning),
+            (Breach::LossyCeramic, "dielectric", Warning),
+            (Breach::DriftingCeramic, "dielectric", Note),
+            (Breach::Polarity, "polarity", Note),
+            (
+                Breach::BigElectrolytic { c: 1e-3, vcc: 40.0 },
+                "big-electrolytic",
+                Caution,
+            ),
+            (
+                Breach::RatingBelowSupply {
+                    rating: v(6.3),
+                    vcc: 9.0,
+                },
+                "voltage-rating",
+                Error,
+            ),
+            (
+                Breach::RatingMargin {
+                    rating: v(10.0),
+                    vcc: 9.0,
+                },
+                "voltage-rating",
+                Warning,
+            ),
+            (Breach::RatingUnknown { vcc: 9.0 }, "voltage-rating", Note),
+            (
+                Breach::TriggerNotReached {
+                    lowest: 1.7,
+                    threshold: 1.67,
+                },
+                "trigger-coupling",
+                Warning,
+            ),
+            (
+                Breach::CouplingStretches {
+                    coupling: PAIR_COUPLING,
+                    held: 1e-3,
+                    width: 1e-4,
+                },
+                "trigger-coupling",
+                Error,
+            ),
+            (
+                Breach::CouplingDipBrief { dip: 1e-7 },
+                "trigger-pulse-width",
+                Warning,
+            ),
+            (
+                Breach::ClampKept {
+                    peak: 18.0,
+                    vcc: 9.0,
+                },
+                "trigger-clamp",
+                Note,
+            ),
+            (
+                Breach::ClampMissing {
+                    peak: 18.0,
+                    vcc: 9.0,
+                },
+                "trigger-clamp",
+                Warning,
+            ),
+            (Breach::PaceNotPeriodic, "pair-form", Error),
+            (Breach::WidthNotMonostable, "pair-form", Error),
+            (
+                Breach::WidthOverPeriod {
+                    width: s,
+                    period: s,
+                },
+                "width-exceeds-period",
+                Error,
+            ),
+            (
+                Breach::WidthNearPeriod {
+                    width: s,
+                    period: s,
+                },
+                "width-near-period",
+                Warning,
+            ),
+            (
+                Breach::DirectTriggerStretches { low: s, width: s },
+                "trigger-width",
+                Warning,
+            ),
+            (
+                Breach::WidthMayReachPeriod { max_duty: 1.06 },
+                "width-may-exceed-period",
+                Warning,
+            ),
+            (Breach::DualSupply, "dual-supply", Error),
+        ];
+        for (b, code, severity) in &table {
+            assert_eq!((b.code(), b.severity()), (*code, *severity), "{b:?}");
+            let f = b.finding();
+            assert_eq!((f.code, f.severity), (*code, *severity), "{b:?}");
+            assert!(!f.message.is_empty(), "{b:?}");
+            let placed = Placed {
+                place: Some(Place::TimerB),
+                breach: b.clone(),
+            }
+            .finding();
+            assert_eq!((placed.code, placed.severity), (*code, *severity));
+            assert_eq!(placed.message, format!("timer B: {}", f.message));
+        }
+    }
+
+    /// The gate's early stop and its skipping of the rules that never refuse give the first
+    /// worded Error, over a grid that crosses every limit of every form (the random version is
+    /// `solve::admit`'s property test).
+    #[test]
+    fn the_first_error_is_the_first_worded_error() {
+        let mut refused = 0;
+        let mut codes_seen = std::collections::BTreeSet::new();
+        for family in [Family::bipolar(), Family::cmos()] {
+            for form in [Form::Monostable, Form::Astable, Form::Steered, Form::Square] {
+                for vcc in [3.0, 9.0, 60.0] {
+                    for e in 0..=16 {
+                        let r1 = 10f64.powf(f64::from(e) * 0.5);
+                        for ce in 0..=10 {
+                            let s = Stage {
+                                form,
+                                r1: r(r1),
+                                r2: form.has_r2().then_some(r(r1 * 3.0)),
+                                c: c(10f64.powf(-12.0 + f64::from(ce))),
+                                cap: (ce % 3 == 0).then(|| CapFacts {
+                                    technology: Technology::Electrolytic,
+                                    voltage_rating: Some(v(16.0)),
+                                    tolerance: Tolerance::symmetric_percent(20.0).expect("tol"),
+                                }),
+                                conditions: Conditions::ideal(v(vcc)),
+                                steering: Steering::default(),
+                            };
+                            let worded = check_stage(&s, &family);
+                            let want = worded.into_iter().find(|f| f.severity == Severity::Error);
+                            let got = first_error(&s, &family);
+                            assert_eq!(got.as_ref().map(Breach::finding), want, "{s:?}");
+                            if let Some(b) = got {
+                                refused += 1;
+                                codes_seen.insert(b.code());
+                            }
+                        }
+                    }
+                }
+            }
+        }
+        assert!(refused > 100, "{refused}");
+        assert!(codes_seen.len() >= 6, "{codes_seen:?}");
     }
 }

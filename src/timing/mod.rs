@@ -1,8 +1,9 @@
 //! The physics of 555-family timers: the one evaluator with the real parts in it (`evaluate`),
 //! closed-form times for the screen and the textbook model (`forms`), a stage as a design
 //! (`design`), timer families as data with typical figures and limits (`family`), electrical
-//! checks (`checks`) and tolerance analysis — worst case, Monte Carlo, trim, inverse
-//! (`tolerance`). Pure functions; no I/O, no store, no rendering.
+//! checks (`checks`: the rules as predicates on numbers; their sentences apart in `wording`)
+//! and tolerance analysis — worst case, Monte Carlo, trim, inverse (`tolerance`). Pure
+//! functions; no I/O, no store, no rendering.
 
 pub mod assess;
 pub mod checks;
@@ -11,10 +12,12 @@ pub mod evaluate;
 pub mod family;
 pub mod forms;
 pub mod tolerance;
+pub mod wording;
 
 pub use checks::{
-    Finding, Limits, Severity, check_dual, check_pair, check_pair_worst_case, check_stage,
-    check_stage_with, has_error,
+    Breach, Degree, Finding, Limits, Pin, Place, Placed, Severity, check_dual, check_pair,
+    check_pair_worst_case, check_stage, check_stage_with, dual_breaches, first_error, has_error,
+    pair_breaches, stage_breaches,
 };
 pub use design::{CapFacts, Form, Stage, StageTimes, Steering, cycle_si};
 pub use evaluate::{
