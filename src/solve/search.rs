@@ -32,6 +32,11 @@ fn ohms(x: f64) -> String {
 fn farads(x: f64) -> String {
     crate::units::format_sig(x, 3, "F")
 }
+/// A window's half-width as a percentage, `±1 %`, in plain decimals however narrow
+/// (`±0.00001 %`, never scientific notation).
+fn window(tol: f64) -> String {
+    format!("±{} %", crate::units::decimal_text(tol * 100.0, 3))
+}
 /// A time in the units people use (`1 h`, not `3.6 ks`).
 fn secs(x: f64) -> String {
     crate::units::Seconds::from_si(x).map_or_else(
@@ -340,13 +345,6 @@ pub fn model_band_out_of_reach(parts: &[Part], goal: &Goal, s: &Settings) -> Opt
         }
         crate::timing::evaluate::DC_BIAS_LOSS_X7R * (vu / rating).clamp(0.0, 1.0)
     };
-    let pct = |x: f64| {
-        if x >= 1e-5 {
-            format!("±{}", crate::units::percent_text(x, 3))
-        } else {
-            format!("±{:.1e} %", x * 100.0)
-        }
-    };
     stages.iter().find_map(|g| {
         let plan = plan_stage(g, s, r_reach).ok()?;
         let mut cs: Vec<f64> = Vec::new();
@@ -465,7 +463,7 @@ pub fn model_band_out_of_reach(parts: &[Part], goal: &Goal, s: &Settings) -> Opt
             "the model band alone is wider than {} for every design this stock can build with at \
              most {k} pieces per position ({}; {rest}); a wider --within, a larger film or C0G \
              capacitor, a CMOS timer (--family cmos), or --ideal for the textbook circuit",
-            pct(s.tol),
+            window(s.tol),
             why.join("; ")
         ))
     })
@@ -2013,6 +2011,14 @@ fn quantity(
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn a_narrow_window_is_written_in_plain_decimals() {
+        assert_eq!(window(0.01), "±1 %");
+        assert_eq!(window(0.0005), "±0.05 %");
+        assert_eq!(window(1e-7), "±0.00001 %");
+        assert_eq!(window(1.23456e-9), "±0.000000123 %");
+    }
 
     #[test]
     fn compositions_cover_every_split() {
