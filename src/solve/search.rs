@@ -1566,13 +1566,27 @@ impl<'a> Ctx<'a> {
                     which: Which::C,
                     cand: *cc,
                 });
+                // R2's window: every R2 for which the R1 window below (period, duty, charge
+                // limit and R1's own range) is not empty. Each bound follows from one pair of
+                // the R1 window's ends: R1 ≥ (plo/C − ks·R2)/kc against R1 ≤ r_cap − R2 and
+                // R1 ≤ r1max; R1 ≥ x_lo·R2 and R1 ≥ r1min against R1 ≤ r_cap − R2; R1 ≥ r1min
+                // against R1 ≤ (phi/C − ks·R2)/kc and R1 ≤ x_hi·R2. An R2 outside them has no
+                // R1 at all, so skipping it drops no candidate (the R1 walk would be empty);
+                // the bounds are taken a hair generous (the walks widen their windows too).
                 let r2w = |e: f64| {
                     let (plo, phi) = swin(period, e, g);
                     let (xlo, xhi) = xwin(e);
-                    (
-                        plo / c / (kc * xhi + ks),
-                        (phi / c / (kc * xlo + ks)).min(r2max),
-                    )
+                    let kd = ks - kc;
+                    let lo = (plo / c / (kc * xhi + ks))
+                        .max((plo / c - kc * r_cap) / kd)
+                        .max((plo / c - kc * r1max) / ks)
+                        .max(if xhi > 0.0 { r1min / xhi } else { 0.0 });
+                    let hi = (phi / c / (kc * xlo + ks))
+                        .min(r2max)
+                        .min(r_cap / (1.0 + xlo))
+                        .min(r_cap - r1min)
+                        .min((phi / c - kc * r1min) / ks);
+                    (lo * (1.0 - 1e-5), hi * (1.0 + 1e-5))
                 };
                 let (a, b) = r2w(st.bound());
                 let ok = self.rpool.walk(n2, a, b, used_r, dl, &mut |r2c, used_r| {
