@@ -721,6 +721,27 @@ fn a_large_resistor_in_the_drawer_never_hides_a_design() {
 }
 
 #[test]
+fn a_tiny_window_in_the_model_band_reason_is_written_in_plain_decimals() {
+    let (b, _) = drawer();
+    let s = crate::util::repo_path("sample-stock/makerspace-cabinet.csv");
+    let s = s.to_str().expect("utf-8 path");
+    // The same 2 s one-shot as below within ±0.00001 %: the reason must name the window
+    // without scientific notation (reports never use it).
+    let j = b
+        .run(&[
+            "--json", "find", "pulse", "2s", "--within", "0.00001%", "--stock", s,
+        ])
+        .code(1)
+        .json();
+    let reason = j["reason"].as_str().expect("reason");
+    assert!(
+        reason.contains("the model band alone is wider than ±0.00001 % for every design"),
+        "{reason}"
+    );
+    assert!(!reason.contains("e-"), "{reason}");
+}
+
+#[test]
 fn a_window_narrower_than_the_model_band_says_so_at_once() {
     let (b, _) = drawer();
     let s = crate::util::repo_path("sample-stock/makerspace-cabinet.csv");

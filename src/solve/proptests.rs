@@ -402,6 +402,50 @@ proptest! {
     }
 }
 
+/// Resistors of 100 kΩ to 8.2 MΩ: where the pin-bias band decides most low-frequency astables.
+fn resistor_large() -> impl Strategy<Value = (usize, i32, bool, i64, i64)> {
+    (0..12usize, 5..7i32, any::<bool>(), 1..4i64, 0..2i64)
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 24, ..ProptestConfig::default() })]
+
+    /// Low-frequency astables (tenths of a second to seconds) from large resistors and film
+    /// capacitors of 100 nF to 820 nF under the real-part model, up to four pieces a position:
+    /// the walk's R2 window (cut by the R1 window's ends and the charge limit) and the model
+    /// limits drop nothing the brute force accepts. The target sits near a stock design by the
+    /// DESIGN physics table (ideal closed form), now and then a k-piece multiple of it.
+    #[test]
+    fn low_frequency_large_resistor_astable_matches_brute_force(
+        rs in prop::collection::vec(resistor_large(), 2..4),
+        cm in 0..12usize,
+        r1 in any::<prop::sample::Index>(),
+        r2 in any::<prop::sample::Index>(),
+        shift in -1.0f64..1.0,
+        duty in any::<bool>(),
+        tol in prop::sample::select(vec![1.0, 2.0, 5.0]),
+        k in 2..5usize,
+        many in any::<bool>(),
+    ) {
+        // A film capacitor in the hundreds of nanofarads (decade index 2: E12 × 100 nF).
+        let parts = drawer(&rs, &[(cm, 2, 0, 3)]);
+        let res = of_kind(&parts, Kind::Resistor);
+        let (x1, x2) = (val(res[r1.index(res.len())]), val(res[r2.index(res.len())]));
+        let c = val(of_kind(&parts, Kind::Capacitor)[0]);
+        let mut s = settings(tol, k, 2, false);
+        s.model = crate::timing::Model::real();
+        let near = (1.0 + shift * tol / 100.0) * if many { 2.0 } else { 1.0 };
+        let d = (x1 + x2) / (x1 + 2.0 * x2);
+        let duty = if duty {
+            Duty::range_si(d - 0.05, (d + 0.05).min(0.99)).expect("duty")
+        } else {
+            Duty::Any
+        };
+        let goal = StageGoal::astable_si(2f64.ln() * (x1 + 2.0 * x2) * c * near, duty).expect("goal");
+        compare(&parts, &Goal::Stages(vec![goal]), &s)?;
+    }
+}
+
 proptest! {
     #![proptest_config(ProptestConfig { cases: 200, ..ProptestConfig::default() })]
 

@@ -32,6 +32,11 @@ fn ohms(x: f64) -> String {
 fn farads(x: f64) -> String {
     crate::units::format_sig(x, 3, "F")
 }
+/// A window's half-width as a percentage, `±1 %`, in plain decimals however narrow
+/// (`±0.00001 %`, never scientific notation).
+fn window(tol: f64) -> String {
+    format!("±{} %", crate::units::decimal_text(tol * 100.0, 3))
+}
 /// A time in the units people use (`1 h`, not `3.6 ks`).
 fn secs(x: f64) -> String {
     crate::units::Seconds::from_si(x).map_or_else(
@@ -357,13 +362,6 @@ pub fn model_band_out_of_reach(parts: &[Part], goal: &Goal, s: &Settings) -> Opt
         }
         crate::timing::evaluate::DC_BIAS_LOSS_X7R * (vu / rating).clamp(0.0, 1.0)
     };
-    let pct = |x: f64| {
-        if x >= 1e-5 {
-            format!("±{}", crate::units::percent_text(x, 3))
-        } else {
-            format!("±{:.1e} %", x * 100.0)
-        }
-    };
     stages.iter().find_map(|g| {
         let plan = plan_stage(g, s, r_reach).ok()?;
         let mut cs: Vec<f64> = Vec::new();
@@ -482,7 +480,7 @@ pub fn model_band_out_of_reach(parts: &[Part], goal: &Goal, s: &Settings) -> Opt
             "the model band alone is wider than {} for every design this stock can build with at \
              most {k} pieces per position ({}; {rest}); a wider --within, a larger film or C0G \
              capacitor, a CMOS timer (--family cmos), or --ideal for the textbook circuit",
-            pct(s.tol),
+            window(s.tol),
             why.join("; ")
         ))
     })
@@ -1585,13 +1583,27 @@ impl<'a> Ctx<'a> {
                     which: Which::C,
                     cand: *cc,
                 });
+                // R2's window: every R2 for which the R1 window below (period, duty, charge
+                // limit and R1's own range) is not empty. Each bound follows from one pair of
+                // the R1 window's ends: R1 ≥ (plo/C − ks·R2)/kc against R1 ≤ r_cap − R2 and
+                // R1 ≤ r1max; R1 ≥ x_lo·R2 and R1 ≥ r1min against R1 ≤ r_cap − R2; R1 ≥ r1min
+                // against R1 ≤ (phi/C − ks·R2)/kc and R1 ≤ x_hi·R2. An R2 outside them has no
+                // R1 at all, so skipping it drops no candidate (the R1 walk would be empty);
+                // the bounds are taken a hair generous (the walks widen their windows too).
                 let r2w = |e: f64| {
                     let (plo, phi) = swin(period, e, g);
                     let (xlo, xhi) = xwin(e);
-                    (
-                        plo / c / (kc * xhi + ks),
-                        (phi / c / (kc * xlo + ks)).min(r2max),
-                    )
+                    let kd = ks - kc;
+                    let lo = (plo / c / (kc * xhi + ks))
+                        .max((plo / c - kc * r_cap) / kd)
+                        .max((plo / c - kc * r1max) / ks)
+                        .max(if xhi > 0.0 { r1min / xhi } else { 0.0 });
+                    let hi = (phi / c / (kc * xlo + ks))
+                        .min(r2max)
+                        .min(r_cap / (1.0 + xlo))
+                        .min(r_cap - r1min)
+                        .min((phi / c - kc * r1min) / ks);
+                    (lo * (1.0 - 1e-5), hi * (1.0 + 1e-5))
                 };
                 let (a, b) = r2w(st.bound());
                 let ok = self.rpool.walk(n2, a, b, used_r, dl, &mut |r2c, used_r| {
@@ -2030,6 +2042,14 @@ fn quantity(
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn a_narrow_window_is_written_in_plain_decimals() {
+        assert_eq!(window(0.01), "±1 %");
+        assert_eq!(window(0.0005), "±0.05 %");
+        assert_eq!(window(1e-7), "±0.00001 %");
+        assert_eq!(window(1.23456e-9), "±0.000000123 %");
+    }
 
     #[test]
     fn compositions_cover_every_split() {
