@@ -837,7 +837,7 @@ fn guarantee_narrower_than_the_chips_own_error_says_so_at_once() {
         .stdout_has("Nothing can meet this target: --guarantee needs the worst case within ±0.50 %")
         .stdout_has("the bipolar family's own error for a one-shot is ±1.12 %")
         .stdout_has("its initial error ±1 % (typical figure, from memory)")
-        .stdout_has("plus ±0.125 % of drift over ±25 °C");
+        .stdout_has("plus ±0.125 % drift over ±25 °C");
     assert!(!r.stdout.contains("Design 1"), "{}", r.stdout);
 }
 

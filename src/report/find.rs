@@ -217,12 +217,6 @@ pub(crate) fn describe_timer_error(stages: &[StageGoal], s: &Settings) -> String
             forms.push((one_shot, s.timer_error(g)));
         }
     }
-    let e = &s.excursion;
-    let supply = if e.supply_swing.si() > 0.0 {
-        format!(" and ±{} of supply", e.supply_swing)
-    } else {
-        String::new()
-    };
     let parts: Vec<String> = forms
         .iter()
         .map(|&(one_shot, total)| {
@@ -232,14 +226,13 @@ pub(crate) fn describe_timer_error(stages: &[StageGoal], s: &Settings) -> String
                 &s.family.error_astable
             };
             format!(
-                "±{} for {} (initial ±{}, {} figure {}, plus ±{} drift over ±{} °C{supply})",
+                "±{} for {} (initial ±{}, {} figure {}, plus {})",
                 crate::units::percent_text(total, 3),
                 if one_shot { "a one-shot" } else { "an astable" },
                 crate::units::percent_text(initial.value, 3),
                 initial.kind.label(),
                 initial.provenance.label(),
-                crate::units::percent_text((total - initial.value).max(0.0), 3),
-                format_sig(e.temp_span_c, 3, "").trim(),
+                s.excursion.drift_text(total - initial.value),
             )
         })
         .collect();

@@ -78,6 +78,23 @@ impl Excursion {
     }
 }
 
+impl Excursion {
+    /// The drift part of the timer's error in words: `±0.375 % drift over ±25 °C` (and the
+    /// supply swing when there is one). `drift` is the fraction the excursion adds.
+    pub fn drift_text(&self, drift: f64) -> String {
+        let supply = if self.supply_swing.si() > 0.0 {
+            format!(" and ±{} of supply", self.supply_swing)
+        } else {
+            String::new()
+        };
+        format!(
+            "±{} drift over ±{} °C{supply}",
+            crate::units::percent_text(drift.max(0.0), 3),
+            crate::units::format_sig(self.temp_span_c, 3, "").trim(),
+        )
+    }
+}
+
 impl Default for Excursion {
     fn default() -> Self {
         Self {

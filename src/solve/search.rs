@@ -131,16 +131,7 @@ pub fn guarantee_out_of_reach(parts: &[Part], goal: &Goal, s: &Settings) -> Opti
                 };
                 let drift = chip - figure.value;
                 let drift = if drift > 1e-12 {
-                    let supply = if s.excursion.supply_swing.si() > 0.0 {
-                        format!(" and ±{} of supply", s.excursion.supply_swing)
-                    } else {
-                        String::new()
-                    };
-                    format!(
-                        " plus ±{} of drift over ±{} °C{supply}",
-                        crate::units::percent_text(drift, 3),
-                        crate::units::format_sig(s.excursion.temp_span_c, 3, "").trim(),
-                    )
+                    format!(" plus {}", s.excursion.drift_text(drift))
                 } else {
                     String::new()
                 };
