@@ -28,7 +28,17 @@ const UNITS: [u32; 3] = [25, 100, 250];
 const FULL_RUNS: usize = 10;
 /// The 250-unit reorder's medians before this branch's changes, for the before/after line:
 /// (candidates per stage, median ms, where measured). Printed, never asserted.
-const REORDER_250_BEFORE: [(usize, f64, &str); 4] = [
+const REORDER_250_BEFORE: [(usize, f64, &str); 6] = [
+    (
+        24,
+        2934.5,
+        "e2946b4 (good_lp's microlp, two-phase tie-break) on 2026-12-03 at load average 1",
+    ),
+    (
+        48,
+        2059.9,
+        "e2946b4 (good_lp's microlp, two-phase tie-break) on 2026-12-03 at load average 1",
+    ),
     (24, 4201.0, "last session"),
     (
         24,

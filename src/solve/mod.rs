@@ -13,6 +13,7 @@ pub mod judge;
 pub mod kits;
 pub mod plan;
 pub mod plan_file;
+mod program;
 pub mod reach;
 pub mod search;
 pub mod suggest;
