@@ -611,7 +611,8 @@ pub fn purchase_for(
     // The bound is the relaxation with the pack-opening rows (a stronger bound: 152.04
     // against 148.85 on the bench's 250-unit reorder, whose optimum is 156.40). Branch and
     // bound runs without them: measured over nine candidate counts of that reorder, they made
-    // microlp's search slower in four of the five where the times differed by more than 30 %.
+    // microlp's search slower in three of the four where the times differed by more than 30 %
+    // (four counts stopped at 10 s either way).
     let bound = model.solve(Goal::LeastCost, Relax::WithOpenings, None, lp_limits);
     let lower_bound_cents = match bound {
         Ok((SolutionStatus::Optimal, v)) => {
