@@ -446,6 +446,58 @@ proptest! {
     }
 }
 
+/// Resistors of 10 kΩ to 8.2 MΩ: across the pin-bias rules' limits (R1 + R2 ≤ 3 MΩ, R2 ≤
+/// 600 kΩ for the bipolar family at 9 V) and the range where the band decides.
+fn resistor_band() -> impl Strategy<Value = (usize, i32, bool, i64, i64)> {
+    (0..12usize, 4..7i32, any::<bool>(), 1..4i64, 0..2i64)
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 48, ..ProptestConfig::default() })]
+
+    /// Classic astables where the pin-bias band of the period decides (large R with film
+    /// capacitors of 100 nF to 8.2 µF, tenths of a second to tens of seconds), up to four
+    /// pieces a position, at 5, 9 or 15 V: the band's R2 window per capacitor
+    /// (`BandScreen::r2_window`), the pin-bias rules' limits on R1 + R2 and R2, and the tighter
+    /// capacitor window drop nothing the brute force accepts. The target sits near a stock
+    /// design by the DESIGN physics table (ideal closed form), now and then a multiple of it.
+    #[test]
+    fn band_screened_large_resistor_astable_matches_brute_force(
+        rs in prop::collection::vec(resistor_band(), 2..4),
+        cs in prop::collection::vec((0..12usize, 2..4i32), 1..3),
+        r1 in any::<prop::sample::Index>(),
+        r2 in any::<prop::sample::Index>(),
+        c in any::<prop::sample::Index>(),
+        shift in -1.0f64..1.0,
+        duty in any::<bool>(),
+        tol in prop::sample::select(vec![1.0, 2.0, 5.0]),
+        k in 2..5usize,
+        times in prop::sample::select(vec![1.0, 1.0, 2.0, 0.5, 3.0]),
+        vcc in prop::sample::select(vec![5.0, 9.0, 15.0]),
+    ) {
+        // Film capacitors of 100 nF to 8.2 µF (decade index 2 and 3: E12 × 100 nF, × 1 µF).
+        let cs: Vec<(usize, i32, usize, i64)> = cs.iter().map(|&(m, d)| (m, d, 0, 3)).collect();
+        let parts = drawer(&rs, &cs);
+        let res = of_kind(&parts, Kind::Resistor);
+        let (x1, x2) = (val(res[r1.index(res.len())]), val(res[r2.index(res.len())]));
+        let caps = of_kind(&parts, Kind::Capacitor);
+        let c = val(caps[c.index(caps.len())]);
+        let mut s = settings(tol, k, 2, false);
+        s.model = crate::timing::Model::real();
+        s.conditions = Conditions::ideal(Volts::from_si(vcc).expect("volts"));
+        s.min_cap_rating = None;
+        let near = (1.0 + shift * tol / 100.0) * times;
+        let d = (x1 + x2) / (x1 + 2.0 * x2);
+        let duty = if duty {
+            Duty::range_si(d - 0.05, (d + 0.05).min(0.99)).expect("duty")
+        } else {
+            Duty::Any
+        };
+        let goal = StageGoal::astable_si(2f64.ln() * (x1 + 2.0 * x2) * c * near, duty).expect("goal");
+        compare(&parts, &Goal::Stages(vec![goal]), &s)?;
+    }
+}
+
 proptest! {
     #![proptest_config(ProptestConfig { cases: 200, ..ProptestConfig::default() })]
 
