@@ -2419,6 +2419,143 @@ mod tests {
         assert_eq!(window(1.23456e-9), "±0.000000123 %");
     }
 
+    /// The band screens of a classic astable at 5, 9 and 15 V for both families.
+    fn band_screens() -> Vec<BandScreen> {
+        let mut out = Vec::new();
+        for vcc in [5.0, 9.0, 15.0] {
+            for family in [Family::bipolar(), Family::cmos()] {
+                let s = Settings {
+                    tol: 0.01,
+                    max_pieces: 2,
+                    alternatives: 1,
+                    guarantee: false,
+                    family,
+                    model: crate::timing::Model::real(),
+                    conditions: Conditions::ideal(Volts::from_si(vcc).unwrap_or(Volts::ZERO)),
+                    cap_techs: None,
+                    min_cap_rating: None,
+                    time_limit: None,
+                    rank: Rank::FewestPieces,
+                    excursion: crate::solve::Excursion::default(),
+                };
+                let template = Stage {
+                    form: Form::Astable,
+                    r1: Ohms::from_si(1e3).unwrap_or(Ohms::ZERO),
+                    r2: Ohms::from_si(1e3),
+                    c: Farads::from_si(1e-9).unwrap_or(Farads::ZERO),
+                    cap: None,
+                    conditions: s.conditions,
+                    steering: crate::timing::Steering::default(),
+                };
+                out.extend(BandScreen::new(&template, &s));
+            }
+        }
+        out
+    }
+
+    /// The facts [`BandScreen`] rests on, over resistances from 1 kΩ to 20 MΩ (where the pin
+    /// currents are small and where the corners run away alike): on a line of constant nominal
+    /// a drain drawn from the capacitor makes the corner's deviation fall as R2 rises and one
+    /// pushed into it makes it rise; at a fixed R2 the first rises with the nominal and the
+    /// second falls; every corner period rises with S and with R2.
+    #[test]
+    fn band_screen_facts_hold_over_the_range() {
+        let screens = band_screens();
+        assert_eq!(screens.len(), 6, "every supply and family has a band");
+        let grid: Vec<f64> = (0..=60)
+            .map(|i| 1e3 * 10f64.powf(f64::from(i) / 14.0))
+            .collect();
+        let step = 1.0 + 1e-3;
+        for bs in &screens {
+            let dev = |s: f64, r2: f64, d: f64| {
+                bs.phys.astable_period_per_farad(s, r2, d)
+                    - bs.phys.astable_period_per_farad(s, r2, 0.0)
+            };
+            for &d in &bs.drains {
+                for &r2 in &grid {
+                    for &s in grid.iter().filter(|&&s| s >= r2) {
+                        let q = bs.kc0 * s + bs.kd0 * r2;
+                        let (now, up_s, up_r2) = (
+                            bs.phys.astable_period_per_farad(s, r2, d),
+                            bs.phys.astable_period_per_farad(s * step, r2, d),
+                            bs.phys.astable_period_per_farad(s, r2 * step, d),
+                        );
+                        if !now.is_finite() {
+                            continue;
+                        }
+                        assert!(
+                            up_s > now && up_r2 > now,
+                            "rises with S and R2 at {s} {r2} {d}"
+                        );
+                        // Along the line of nominal q, R2 up by the step and S down to match.
+                        let r2b = r2 * step;
+                        let sb = (q - bs.kd0 * r2b) / bs.kc0;
+                        let (a, b) = (dev(s, r2, d), dev(sb, r2b, d));
+                        // At a fixed R2, the nominal up by the step.
+                        let sq = (q * step - bs.kd0 * r2) / bs.kc0;
+                        let c = dev(sq, r2, d);
+                        if !(a.is_finite() && b.is_finite() && c.is_finite()) {
+                            continue;
+                        }
+                        if d > 0.0 {
+                            assert!(b < a && c > a, "d {d} at S {s} R2 {r2}: {a} {b} {c}");
+                        } else {
+                            assert!(b > a && c < a, "d {d} at S {s} R2 {r2}: {a} {b} {c}");
+                        }
+                    }
+                }
+            }
+        }
+    }
+
+    /// Every (R1, R2) whose every corner period lies inside the window (the evaluator's own
+    /// acceptance of the period band, on a grid of resistances and capacitances) lies inside
+    /// the R2 window the screen gives for its capacitance; and the screen does rule whole
+    /// capacitances out (counted, so the test shows it cuts).
+    #[test]
+    fn band_screen_keeps_every_accepted_point() {
+        let mut cut = 0;
+        let mut kept = 0;
+        for bs in band_screens() {
+            for &tol in &[0.001, 0.01, 0.05] {
+                for &t in &[0.01, 0.3, 1.0, 10.0] {
+                    for i in 0..24 {
+                        let c = 1e-9 * 10f64.powf(f64::from(i) / 6.0);
+                        let q_target = t / c;
+                        let Some((lo, hi)) = bs.r2_window(t, tol, tol, c, 1.0, q_target) else {
+                            cut += 1;
+                            continue;
+                        };
+                        for j in 0..400 {
+                            let r2 = q_target / (bs.kc0 + bs.kd0) * f64::from(j) / 400.0;
+                            for m in 0..40 {
+                                let q = q_target * (1.0 - tol + 2.0 * tol * f64::from(m) / 39.0);
+                                let s = (q - bs.kd0 * r2) / bs.kc0;
+                                if !(r2 >= 1.0 && s >= r2) {
+                                    continue;
+                                }
+                                let qs = std::iter::once(0.0)
+                                    .chain(bs.drains.iter().copied())
+                                    .map(|d| bs.phys.astable_period_per_farad(s, r2, d) * c);
+                                let accepted = qs
+                                    .clone()
+                                    .all(|x| inside(x, t * (1.0 - tol), t * (1.0 + tol)));
+                                if accepted {
+                                    kept += 1;
+                                    assert!(
+                                        r2 >= lo && r2 <= hi,
+                                        "R2 {r2} (S {s}, C {c}, T {t}, tol {tol}) accepted outside {lo}..{hi}"
+                                    );
+                                }
+                            }
+                        }
+                    }
+                }
+            }
+        }
+        assert!(kept > 0 && cut > 0, "kept {kept}, cut {cut}");
+    }
+
     #[test]
     fn compositions_cover_every_split() {
         assert_eq!(compositions(3, 2, 3), vec![vec![1, 2], vec![2, 1]]);
