@@ -842,6 +842,7 @@ fn plan_stage(g: &StageGoal, s: &Settings, r_max: f64) -> Result<Plan, SolveErro
         vu,
         band: BandScreen::new(&template, s),
         bias_rules: astable_bias_rules(form, &cond, &s.family),
+        c_span: std::cell::OnceCell::new(),
     })
 }
 
@@ -1066,6 +1067,9 @@ struct Plan {
     /// The largest R1 + R2 and the largest R2 the checks' pin-bias rules admit in a classic
     /// astable ([`astable_bias_rules`]; infinite otherwise).
     bias_rules: (f64, f64),
+    /// The span of capacitance the band leaves to the walk ([`Ctx::cap_span`]), found on the
+    /// first walk of the stage; None inside when it leaves none.
+    c_span: std::cell::OnceCell<Option<(f64, f64)>>,
 }
 
 /// The largest R1 + R2 and R2 a classic astable may have under the electrical checks' pin-bias
@@ -1274,46 +1278,74 @@ impl BandScreen {
         Some((a * (1.0 - 1e-9), b * (1.0 + 1e-9)))
     }
 
-    /// The smallest capacitance in `[c_lo, c_hi]` at which some R2 in `[r2_lo, r2_hi]` may be
-    /// accepted with R1/R2 in `[x_lo, x_hi]` (so R2 = q/(k_c·(1 + x) + k_d) on the line of
-    /// nominal q), `c_hi` when none below it can (everything from `c_hi` up is left to the
-    /// walk). Cells of capacitance a ratio
-    /// `1.002` wide are tested whole (the widest windows of the cell, which hold every
-    /// capacitance in it), from the bottom up, so every capacitance below the answer has an
-    /// empty R2 window.
+    /// Whether some R2 in `[r2_lo, r2_hi]` may be accepted with a capacitance in `[a, b]` (the
+    /// widest windows of the cell, which hold those of every capacitance in it) and R1/R2 in
+    /// `[x_lo, x_hi]` (so R2 = q/(k_c·(1 + x) + k_d) on the line of nominal q).
     #[allow(clippy::too_many_arguments)]
-    fn c_floor(
+    fn cell_open(
         &self,
         t: f64,
         tol: f64,
         e: f64,
         (r2_lo, r2_hi): (f64, f64),
         (x_lo, x_hi): (f64, f64),
+        a: f64,
+        b: f64,
+    ) -> bool {
+        let w = Self::window(t, tol, e, a, b);
+        let (kc, kd) = (self.kc0, self.kd0);
+        let lo = r2_lo.max(w.q_lo / (kc * (1.0 + x_hi) + kd) * (1.0 - 1e-6));
+        let hi = r2_hi.min(w.q_hi / (kc * (1.0 + x_lo) + kd) * (1.0 + 1e-6));
+        // No R2 in the duty's wedge, or none the band admits: closed.
+        lo <= hi && self.r2_range(&w, lo, hi).is_some()
+    }
+
+    /// The span of capacitance within `[c_lo, c_hi]` outside which no R2 in `[r2_lo, r2_hi]`
+    /// with R1/R2 in `[x_lo, x_hi]` can be accepted: cells a ratio of `1.002` wide are tested
+    /// whole ([`cell_open`](Self::cell_open)) from the bottom up and from the top down, so every
+    /// capacitance below the first open cell and above the last has an empty R2 window. None
+    /// when every cell is closed. Where the screen cannot say (bad figures, or too many
+    /// cells), the span is left wide.
+    #[allow(clippy::too_many_arguments)]
+    fn c_span(
+        &self,
+        t: f64,
+        tol: f64,
+        e: f64,
+        r2: (f64, f64),
+        x: (f64, f64),
         c_lo: f64,
         c_hi: f64,
-    ) -> f64 {
-        if !(c_lo > 0.0 && c_lo < c_hi && c_hi.is_finite() && r2_lo > 0.0 && x_lo >= 0.0)
-            || x_hi < x_lo
-        {
-            return c_lo;
+    ) -> Option<(f64, f64)> {
+        const CELL: f64 = 1.002;
+        const MAX_CELLS: usize = 20_000;
+        let sane = c_lo > 0.0 && c_lo < c_hi && c_hi.is_finite() && r2.0 > 0.0;
+        if !sane || x.0 < 0.0 || x.1 < x.0 {
+            return Some((c_lo.min(c_hi), c_hi.max(c_lo)));
         }
         let mut a = c_lo;
-        for _ in 0..20_000 {
-            if a >= c_hi {
-                return c_hi;
+        let mut floor = None;
+        for _ in 0..MAX_CELLS {
+            let b = (a * CELL).min(c_hi);
+            if self.cell_open(t, tol, e, r2, x, a, b) {
+                floor = Some(a);
+                break;
             }
-            let b = (a * 1.002).min(c_hi);
-            let w = Self::window(t, tol, e, a, b);
-            let (kc, kd) = (self.kc0, self.kd0);
-            let lo = r2_lo.max(w.q_lo / (kc * (1.0 + x_hi) + kd) * (1.0 - 1e-6));
-            let hi = r2_hi.min(w.q_hi / (kc * (1.0 + x_lo) + kd) * (1.0 + 1e-6));
-            // No R2 in the duty's wedge, or none the band admits: the next cell.
-            if lo <= hi && self.r2_range(&w, lo, hi).is_some() {
-                return a;
+            if b >= c_hi {
+                return None;
             }
             a = b;
         }
-        a
+        let floor = floor.unwrap_or(a);
+        let mut b = c_hi;
+        for _ in 0..MAX_CELLS {
+            let a = (b / CELL).max(floor);
+            if a <= floor || self.cell_open(t, tol, e, r2, x, a, b) {
+                return Some((floor, b));
+            }
+            b = a;
+        }
+        Some((floor, b))
     }
 }
 
@@ -1347,6 +1379,69 @@ struct Ctx<'a> {
     value: Option<(Kind, f64)>,
     s: &'a Settings,
     family: &'a Family,
+}
+
+/// The capacitor classes no network of which can time any stage: a class-2 ceramic whose own
+/// DC-bias loss already outgrows every stage's window ([`max_band_loss`]). A network's loss
+/// follows its least suitable dielectric and its lowest rating (the supply where any rating is
+/// unknown; `admit::network_cap_facts`), so a network holding such a piece loses at least the
+/// piece's own dielectric figure at the larger of its rating and (when any class's rating is
+/// unknown) the supply, unless a dielectric ranked above class 2 with no loss of its own (an
+/// unnamed technology, a tantalum or an electrolytic) names the network: then nothing is
+/// dropped. `Ctx::cap_fits` would refuse every network holding a dropped class; dropping it
+/// first saves walking them. Stages only, with the DC-bias loss modelled.
+fn drop_lossy_capacitors(
+    parts: &[Part],
+    classes: &[Vec<(usize, u32)>],
+    items: Vec<Item>,
+    stages: &[Plan],
+    s: &Settings,
+) -> Vec<Item> {
+    if stages.is_empty() || !s.model.dc_bias {
+        return items;
+    }
+    let part_of = |it: &Item| {
+        classes
+            .get(it.row)
+            .and_then(|r| r.first())
+            .map(|&(row, _)| &parts[row])
+    };
+    let mut masking = false;
+    let mut unknown = false;
+    for p in items.iter().filter_map(part_of) {
+        masking |= !matches!(
+            p.technology,
+            Technology::C0g | Technology::Film | Technology::X7r | Technology::Y5v
+        );
+        unknown |= p.voltage_rating.is_none();
+    }
+    if masking {
+        return items;
+    }
+    let least_loss = |p: &Part, plan: &Plan| -> f64 {
+        let vcc = plan.cond.vcc.si();
+        let rating = match p.voltage_rating {
+            None => vcc,
+            Some(v) if unknown => v.si().max(vcc),
+            Some(v) => v.si(),
+        };
+        let facts = CapFacts {
+            technology: p.technology,
+            voltage_rating: Volts::from_si(rating),
+            tolerance: p.tolerance,
+        };
+        crate::timing::dc_bias_loss(Some(&facts), plan.vu, vcc)
+    };
+    items
+        .into_iter()
+        .filter(|it| {
+            part_of(it).is_none_or(|p| {
+                stages
+                    .iter()
+                    .any(|plan| least_loss(p, plan) <= plan.max_loss)
+            })
+        })
+        .collect()
 }
 
 /// The operating conditions of a stage: the settings' conditions, plus the family's output drop
@@ -1492,6 +1587,7 @@ impl<'a> Ctx<'a> {
                 None
             }
         };
+        let cs = drop_lossy_capacitors(parts, &cclass.rows, cs, &stages, s);
         Ok(Self {
             parts,
             rpool: Pool::with_pairs(rs, s.max_pieces >= 2),
@@ -1503,6 +1599,42 @@ impl<'a> Ctx<'a> {
             s,
             family: &s.family,
         })
+    }
+
+    /// The span of capacitance where a classic astable stage `si` may accept a design
+    /// ([`BandScreen::c_span`]), over the resistances of every split (each position's
+    /// networks of 1 to k pieces, cut by the stage's limits) with R1/R2 in `x`; the whole
+    /// capacitor range without a band screen, None when the band leaves no capacitance.
+    fn cap_span(&self, si: usize, x: (f64, f64)) -> Option<(f64, f64)> {
+        let plan = &self.stages[si];
+        let k = self.s.max_pieces.max(1);
+        let hull = |p: &Pool| {
+            (1..=k).fold((f64::INFINITY, 0.0f64), |(lo, hi), n| {
+                let (a, b) = p.range(n);
+                (lo.min(a), hi.max(b))
+            })
+        };
+        let (rmin, rmax) = hull(&self.rpool);
+        let (cmin, cmax) = hull(&self.cpool);
+        let Some(bs) = &plan.band else {
+            return Some((0.0, f64::INFINITY));
+        };
+        let StageGoal::Astable { period, .. } = plan.goal else {
+            return Some((0.0, f64::INFINITY));
+        };
+        let (s_rule, r2_rule) = plan.bias_rules;
+        let r_cap = plan.r_cap.min(s_rule);
+        let r2max = rmax.min(plan.r2_cap).min(r2_rule).min(r_cap);
+        let (kc, kd) = (plan.f.charge, plan.f.discharge);
+        let amax = (kc * rmax + (kc + kd) * r2max).min(kc * r_cap + kd * r2max);
+        let period = period.si();
+        let tol = self.s.tol;
+        let c_lo = (swin(period, tol, plan.g).0 / amax * (1.0 - 1e-6)).max(cmin);
+        let c_hi = cmax * (1.0 + 1e-9);
+        if c_lo.partial_cmp(&c_hi) != Some(Ordering::Less) {
+            return Some((0.0, f64::INFINITY));
+        }
+        bs.c_span(period, tol, tol, (rmin, r2max), x, c_lo, c_hi)
     }
 
     fn positions(&self) -> usize {
@@ -1894,22 +2026,17 @@ impl<'a> Ctx<'a> {
             let (lo, hi) = swin(period, e, g);
             (lo / amax, hi / amin)
         };
-        let (clo, chi) = cw(st.bound());
-        // Below this capacitance the band admits no R2 (the walk's bound only narrows it).
-        let c_floor = self.stages[si].band.as_ref().map_or(0.0, |bs| {
-            bs.c_floor(
-                period,
-                self.s.tol,
-                st.bound(),
-                (r2min, r2max),
-                xwin(st.bound()),
-                clo,
-                chi.min(self.cpool.range(nc).1),
-            )
-        });
+        // Outside this span of capacitance the band admits no R2 (found once per stage over
+        // every split's resistances, at the full tolerance: the walk's bound only narrows it).
+        let span = self.stages[si]
+            .c_span
+            .get_or_init(|| self.cap_span(si, xwin(self.s.tol)));
+        let Some((c_floor, c_ceiling)) = *span else {
+            return;
+        };
         let cw = |e: f64| {
             let (lo, hi) = cw(e);
-            (lo.max(c_floor), hi)
+            (lo.max(c_floor), hi.min(c_ceiling))
         };
         let dl = st.deadline;
         let (clo, chi) = cw(st.bound());
