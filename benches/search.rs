@@ -15,6 +15,7 @@
 //! makerspace cabinet, median < 500 ms (part 4).
 
 use onhand::solve::brute::brute_best;
+use onhand::solve::search::solve_counted;
 use onhand::solve::{Duty, Family, Goal, Rank, Settings, StageGoal, solve};
 use onhand::store::{Kind, Part, PartFilter, Store, Technology, Value, read_csv};
 use onhand::timing::Conditions;
@@ -237,6 +238,7 @@ fn cabinet_k4() {
         .and_then(|v| v.parse::<f64>().ok())
         .filter(|v| *v > 0.0)
         .unwrap_or(10.0);
+    let only = k4_only();
     for (what, model) in [
         (
             "real-part model (the default)",
@@ -251,8 +253,19 @@ fn cabinet_k4() {
             ..drawer_settings(4, true)
         };
         limited_set(&parts, &s, &format!("±1 %, makerspace cabinet, {what}"));
+        if only.is_some() {
+            // One target alone (SEARCH_BENCH_K4_ONLY) is a profiling run: the real model only.
+            break;
+        }
     }
     println!("  target: median < 500 ms per solve (real-part model)");
+}
+
+/// The targets part 4 runs alone: `SEARCH_BENCH_K4_ONLY` holds pieces of their labels,
+/// separated by `;` (e.g. `astable 1.0130 Hz;astable 1.5`), for profiling one target.
+fn k4_only() -> Option<Vec<String>> {
+    let v = std::env::var("SEARCH_BENCH_K4_ONLY").ok()?;
+    Some(v.split(';').map(|w| w.trim().to_string()).collect())
 }
 
 /// The `q` quantile (0..1) of `v`, nearest rank.
@@ -270,6 +283,8 @@ fn quantile(v: &[f64], q: f64) -> f64 {
 /// stopped, the median and P90 over every target (a stopped one counts its time, about the
 /// limit, so the figures are lower bounds when any stopped) and over the completed ones.
 fn limited_set(parts: &[Part], s: &Settings, what: &str) {
+    let only = k4_only();
+    let answers = std::env::var("SEARCH_BENCH_K4_ANSWERS").is_ok_and(|v| v == "1");
     let mut all = Vec::new();
     let mut done = Vec::new();
     let mut stopped: Vec<String> = Vec::new();
@@ -277,10 +292,44 @@ fn limited_set(parts: &[Part], s: &Settings, what: &str) {
     let mut pieces_hist = std::collections::BTreeMap::new();
     let started = Instant::now();
     for g in targets() {
+        if only
+            .as_ref()
+            .is_some_and(|o| !o.iter().any(|w| label(&g).contains(w.as_str())))
+        {
+            continue;
+        }
         let t0 = Instant::now();
-        let out = solve(parts, &g, s).expect("solve");
+        let (out, counts) = solve_counted(parts, &g, s).expect("solve");
         let t = t0.elapsed().as_secs_f64();
         all.push(t);
+        if only.is_some() || answers {
+            println!(
+                "  {:<28} {:>9.1} ms complete {} seen {} | {}",
+                label(&g),
+                t * 1e3,
+                out.complete,
+                out.networks_seen,
+                counts
+            );
+        }
+        if answers {
+            // Every answer in full (pieces, error, rows and networks), to compare two builds.
+            for d in &out.designs {
+                let nets: Vec<String> = d
+                    .positions
+                    .iter()
+                    .map(|p| format!("{}={:?}@{:?}", p.name, p.net, p.rows))
+                    .collect();
+                println!(
+                    "    answer pieces {} error {:e} tol_sum {:e} scarcity {:e} {}",
+                    d.pieces,
+                    d.error,
+                    d.tolerance_sum,
+                    d.scarcity,
+                    nets.join(" ")
+                );
+            }
+        }
         if out.complete {
             done.push(t);
         } else {

@@ -479,18 +479,57 @@ pub fn model_band_out_of_reach(parts: &[Part], goal: &Goal, s: &Settings) -> Opt
 
 /// Search the stock for the best designs meeting `goal`.
 pub fn solve(parts: &[Part], goal: &Goal, settings: &Settings) -> Result<Outcome, SolveError> {
+    solve_counted(parts, goal, settings).map(|(out, _)| out)
+}
+
+/// What one search walked, for profiling (the benches print it): the networks at each level of
+/// the walk, how many candidates passed the screen and went to the evaluator, and how many it
+/// accepted.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
+pub struct Counters {
+    /// Capacitor networks walked (those whose DC-bias loss can fit the window).
+    pub caps: u64,
+    /// Second-resistor networks walked (R2 of an astable, RB of a steered one).
+    pub middle: u64,
+    /// Last-resistor networks walked (the `networks_seen` of a stage search).
+    pub last: u64,
+    /// Candidates the screen passed: each is judged by the evaluator.
+    pub judged: u64,
+    /// Candidates the evaluator accepted.
+    pub accepted: u64,
+}
+
+impl std::fmt::Display for Counters {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(
+            f,
+            "caps {} middle {} last {} judged {} accepted {}",
+            self.caps, self.middle, self.last, self.judged, self.accepted
+        )
+    }
+}
+
+/// [`solve`], with the walk's [`Counters`].
+pub fn solve_counted(
+    parts: &[Part],
+    goal: &Goal,
+    settings: &Settings,
+) -> Result<(Outcome, Counters), SolveError> {
     let started = Instant::now();
     validate(goal, settings)?;
     if let Some(reason) = out_of_reach(goal, &settings.family, settings.tol) {
-        return Ok(Outcome {
-            designs: Vec::new(),
-            complete: true,
-            // Proven for every piece count: the target itself is out of reach.
-            no_design_below: usize::MAX,
-            networks_seen: 0,
-            refused: vec![(reason, 1)],
-            seconds: started.elapsed().as_secs_f64(),
-        });
+        return Ok((
+            Outcome {
+                designs: Vec::new(),
+                complete: true,
+                // Proven for every piece count: the target itself is out of reach.
+                no_design_below: usize::MAX,
+                networks_seen: 0,
+                refused: vec![(reason, 1)],
+                seconds: started.elapsed().as_secs_f64(),
+            },
+            Counters::default(),
+        ));
     }
     let ctx = Ctx::new(parts, goal, settings)?;
     let mut st = State {
@@ -506,6 +545,7 @@ pub fn solve(parts: &[Part], goal: &Goal, settings: &Settings) -> Result<Outcome
         cur_p: 0,
         deadline: settings.time_limit.map(|d| started + d),
         ticks: 0,
+        counts: Counters::default(),
     };
     let m = ctx.positions();
     let k = settings.max_pieces;
@@ -543,18 +583,25 @@ pub fn solve(parts: &[Part], goal: &Goal, settings: &Settings) -> Result<Outcome
         }
     }
     let designs = st.top.iter().map(|f| ctx.build(f)).collect::<Vec<_>>();
-    Ok(Outcome {
-        designs,
-        complete: !st.stop,
-        no_design_below,
-        networks_seen: st.seen,
-        refused: st
-            .refused
-            .into_iter()
-            .map(|(c, n)| (c.to_string(), n))
-            .collect(),
-        seconds: started.elapsed().as_secs_f64(),
-    })
+    let counts = Counters {
+        last: st.seen,
+        ..st.counts
+    };
+    Ok((
+        Outcome {
+            designs,
+            complete: !st.stop,
+            no_design_below,
+            networks_seen: st.seen,
+            refused: st
+                .refused
+                .into_iter()
+                .map(|(c, n)| (c.to_string(), n))
+                .collect(),
+            seconds: started.elapsed().as_secs_f64(),
+        },
+        counts,
+    ))
 }
 
 fn validate(goal: &Goal, s: &Settings) -> Result<(), SolveError> {
@@ -793,6 +840,9 @@ fn plan_stage(g: &StageGoal, s: &Settings, r_max: f64) -> Result<Plan, SolveErro
         r2_cap: discharge_limit(&template, s, r_max)?,
         max_loss: max_band_loss(s.tol),
         vu,
+        band: BandScreen::new(&template, s),
+        bias_rules: astable_bias_rules(form, &cond, &s.family),
+        c_span: std::cell::OnceCell::new(),
     })
 }
 
@@ -939,6 +989,7 @@ struct State {
     cur_p: usize,
     deadline: Option<Instant>,
     ticks: u32,
+    counts: Counters,
 }
 
 impl State {
@@ -1010,6 +1061,310 @@ struct Plan {
     max_loss: f64,
     /// The upper threshold (V): the DC bias a timing capacitor sees at most.
     vu: f64,
+    /// The classic astable's band corners as a screen on R2 ([`BandScreen`]); None for other
+    /// forms, without bias currents, or where the thresholds are not regular.
+    band: Option<BandScreen>,
+    /// The largest R1 + R2 and the largest R2 the checks' pin-bias rules admit in a classic
+    /// astable ([`astable_bias_rules`]; infinite otherwise).
+    bias_rules: (f64, f64),
+    /// The span of capacitance the band leaves to the walk ([`Ctx::cap_span`]), found on the
+    /// first walk of the stage; None inside when it leaves none.
+    c_span: std::cell::OnceCell<Option<(f64, f64)>>,
+}
+
+/// The largest R1 + R2 and R2 a classic astable may have under the electrical checks' pin-bias
+/// Error rules (`timing::checks`, `decide_bias`): the charging current at the upper threshold,
+/// `(Vcc − Vu)/(R1 + R2)`, at least `BIAS_RATIO_ERROR` times the threshold-pin current, and the
+/// discharge-path current at the lower threshold, `Vl/R2`, at least that many times the
+/// trigger-pin current. A hair generous (the checks see values rounded to the milliohm).
+/// Infinite for other forms and for a zero figure (no rule).
+fn astable_bias_rules(form: Form, cond: &Conditions, family: &Family) -> (f64, f64) {
+    let none = (f64::INFINITY, f64::INFINITY);
+    if form != Form::Astable {
+        return none;
+    }
+    let Ok((vu, vl)) = cond.thresholds() else {
+        return none;
+    };
+    let ratio = crate::timing::checks::BIAS_RATIO_ERROR;
+    let limit = |v: f64, i: f64| {
+        if i > 0.0 && v > 0.0 && (v / (ratio * i)).is_finite() {
+            v / (ratio * i) * (1.0 + 1e-6) + 1e-3
+        } else {
+            f64::INFINITY
+        }
+    };
+    (
+        limit(cond.vcc.si() - vu, family.threshold_current.value),
+        limit(vl, family.trigger_current.value),
+    )
+}
+
+/// The model band of a classic astable's period as a screen on R2, for one capacitance.
+///
+/// The evaluator spans the band with a few net pin drains `d` (none first): at each, the high
+/// time `H_d(S)` (charging resistance S = R1 + R2) and the low time `L_d(R2)` are `C` times
+/// functions of one resistance each, and an accepted design has every corner period
+/// `Q_d = H_d + L_d` (per farad) inside the window `Y = T(1 ± tol)/C`, its nominal `Q_0` inside
+/// `T(1 ± e)/C` besides (e the ranking's current bound). Facts used (each from the formulas
+/// `τ·ln((a − v0)/(a − v1))`, checked by the tests):
+/// - every `H_d` rises with S and every `L_d` with R2 (also with the pin currents pushing
+///   against or with the capacitor);
+/// - on a line of constant nominal `q = k_c·S + k_d·R2`, a drain drawn from the capacitor
+///   (`d > 0`: slower charge, faster discharge) makes the deviation `Δ_d = Q_d − Q_0` fall as R2
+///   rises, a drain pushed into it (`d < 0`) makes it rise; and at a fixed R2, `Δ_d` rises with
+///   q for `d > 0` and falls for `d < 0`.
+///
+/// So with `P` the drains `≥ 0` and `N` those `≤ 0` (both holding none, `Δ = 0`), and q
+/// anywhere in `[q_lo, q_hi]`, an accepted design needs, at its own q:
+/// `max_P Δ − min_N Δ ≤ |Y|`, `Q_0 + max_P Δ ≤ Y_hi`, `Q_0 + min_N Δ ≥ Y_lo` (each true for
+/// every R2 above a threshold, and taken at the q that makes it easiest: `q_lo`, `q_lo`,
+/// `q_hi`), and `max_N Δ − min_P Δ ≤ |Y|`, `Q_0 + min_P Δ ≥ Y_lo`, `Q_0 + max_N Δ ≤ Y_hi`
+/// (each true below a threshold; at `q_hi`, `q_hi`, `q_lo`). Bisection on these monotone
+/// conditions gives an R2 window outside which no design is accepted; the margins cover the
+/// rounding of the values the evaluator is given. The DC-bias loss of a class-2 ceramic only
+/// widens the band further, so it is left out (a superset).
+struct BandScreen {
+    phys: crate::timing::evaluate::Physics,
+    /// The band's drains other than none.
+    drains: Vec<f64>,
+    /// The drain-free factors: `Q_0 = k_c·S + k_d·R2`.
+    kc0: f64,
+    kd0: f64,
+}
+
+/// The spread of the corner deviations at one point: `(min_P, max_P, min_N, max_N)` of
+/// `Δ_d` (the drain-free point counts in both as 0), and the drain-free period per farad.
+#[derive(Debug, Clone, Copy)]
+struct Devs {
+    q0: f64,
+    p_min: f64,
+    p_max: f64,
+    n_min: f64,
+    n_max: f64,
+}
+
+/// The windows [`BandScreen::r2_window`] tests against, per farad: every corner inside
+/// `[y_lo, y_hi]`, the nominal inside `[q_lo, q_hi]`.
+#[derive(Debug, Clone, Copy)]
+struct BandWindow {
+    y_lo: f64,
+    y_hi: f64,
+    q_lo: f64,
+    q_hi: f64,
+}
+
+impl BandScreen {
+    fn new(template: &Stage, s: &Settings) -> Option<Self> {
+        if template.form != Form::Astable || !s.model.bias_currents {
+            return None;
+        }
+        let phys = crate::timing::evaluate::Physics::new(template, &s.family, &s.model).ok()?;
+        let (kc0, kd0) = phys.astable_factors()?;
+        let drains: Vec<f64> = phys
+            .band_drains()
+            .into_iter()
+            .filter(|d| *d != 0.0 && d.is_finite())
+            .collect();
+        (!drains.is_empty() && kc0 > 0.0 && kd0 > 0.0).then_some(Self {
+            phys,
+            drains,
+            kc0,
+            kd0,
+        })
+    }
+
+    /// The deviations at charging resistance `s` and discharge `r2` (per farad).
+    fn devs(&self, s: f64, r2: f64) -> Devs {
+        let q0 = self.phys.astable_period_per_farad(s, r2, 0.0);
+        let mut v = Devs {
+            q0,
+            p_min: 0.0,
+            p_max: 0.0,
+            n_min: 0.0,
+            n_max: 0.0,
+        };
+        for &d in &self.drains {
+            let dev = self.phys.astable_period_per_farad(s, r2, d) - q0;
+            // A corner that never ends is an infinite deviation (and a NaN one is refused the
+            // same way: the evaluator refuses such a design).
+            let dev = if dev.is_nan() { f64::INFINITY } else { dev };
+            if d > 0.0 {
+                v.p_min = v.p_min.min(dev);
+                v.p_max = v.p_max.max(dev);
+            } else {
+                v.n_min = v.n_min.min(dev);
+                v.n_max = v.n_max.max(dev);
+            }
+        }
+        v
+    }
+
+    /// The point of the line of nominal `q` at discharge resistance `r2`.
+    fn on_line(&self, q: f64, r2: f64) -> Devs {
+        self.devs((q - self.kd0 * r2) / self.kc0, r2)
+    }
+
+    /// Whether R2 passes the conditions that hold for every R2 above a threshold.
+    fn above(&self, w: &BandWindow, r2: f64) -> bool {
+        let width = w.y_hi - w.y_lo;
+        let lo = self.on_line(w.q_lo, r2);
+        let hi = self.on_line(w.q_hi, r2);
+        lo.p_max - lo.n_min <= width && lo.q0 + lo.p_max <= w.y_hi && hi.q0 + hi.n_min >= w.y_lo
+    }
+
+    /// Whether R2 passes the conditions that hold for every R2 below a threshold.
+    fn below(&self, w: &BandWindow, r2: f64) -> bool {
+        let width = w.y_hi - w.y_lo;
+        let lo = self.on_line(w.q_lo, r2);
+        let hi = self.on_line(w.q_hi, r2);
+        hi.n_max - hi.p_min <= width && hi.q0 + hi.p_min >= w.y_lo && lo.q0 + lo.n_max <= w.y_hi
+    }
+
+    /// The windows for capacitances from `c_small` to `c_large` together (the widest of each):
+    /// a period `t` within `tol`, ranked within `e`. The evaluator is given the values rounded
+    /// to 1 mΩ and 1 fF, and `judge` allows `ROUNDING`: a relative margin for the capacitance
+    /// and the allowance, and an absolute one (per farad, ohms) for the resistances.
+    fn window(t: f64, tol: f64, e: f64, c_small: f64, c_large: f64) -> BandWindow {
+        let rel = 1e-6 + 2e-15 / c_small + 4.0 * super::goal::ROUNDING;
+        let abs = 0.05;
+        let y_lo = t * (1.0 - tol) / c_large * (1.0 - rel) - abs;
+        let y_hi = t * (1.0 + tol) / c_small * (1.0 + rel) + abs;
+        BandWindow {
+            y_lo,
+            y_hi,
+            q_lo: (t * (1.0 - e) / c_large * (1.0 - rel) - abs).max(y_lo),
+            q_hi: (t * (1.0 + e) / c_small * (1.0 + rel) + abs).min(y_hi),
+        }
+    }
+
+    /// The part of the R2 window `[lo, hi]` (ohms) where a design with capacitance `c` can be
+    /// accepted for a period `t` within `tol` and ranked within `e`; None when no R2 there can.
+    /// `[lo, hi]` itself when the screen cannot be applied.
+    fn r2_window(&self, t: f64, tol: f64, e: f64, c: f64, lo: f64, hi: f64) -> Option<(f64, f64)> {
+        if !(c > 0.0 && e >= 0.0) {
+            return Some((lo, hi));
+        }
+        self.r2_range(&Self::window(t, tol, e, c, c), lo, hi)
+    }
+
+    /// [`r2_window`](Self::r2_window) for the windows `w`.
+    fn r2_range(&self, w: &BandWindow, lo: f64, hi: f64) -> Option<(f64, f64)> {
+        // Every point searched must lie on the lines with a positive S (the facts hold there).
+        let usable = lo > 0.0
+            && lo <= hi
+            && hi.is_finite()
+            && w.q_lo > 0.0
+            && w.q_lo <= w.q_hi
+            && hi * self.kd0 < w.q_lo * (1.0 - 1e-9);
+        if !usable {
+            return Some((lo, hi));
+        }
+        let a = if self.above(w, lo) {
+            lo
+        } else if !self.above(w, hi) {
+            return None;
+        } else {
+            bisect(lo, hi, |r| !self.above(w, r)).0
+        };
+        let b = if self.below(w, hi) {
+            hi
+        } else if !self.below(w, a) {
+            return None;
+        } else {
+            bisect(a, hi, |r| self.below(w, r)).1
+        };
+        // The generous ends, a hair wider still.
+        Some((a * (1.0 - 1e-9), b * (1.0 + 1e-9)))
+    }
+
+    /// Whether some R2 in `[r2_lo, r2_hi]` may be accepted with a capacitance in `[a, b]` (the
+    /// widest windows of the cell, which hold those of every capacitance in it) and R1/R2 in
+    /// `[x_lo, x_hi]` (so R2 = q/(k_c·(1 + x) + k_d) on the line of nominal q).
+    #[allow(clippy::too_many_arguments)]
+    fn cell_open(
+        &self,
+        t: f64,
+        tol: f64,
+        e: f64,
+        (r2_lo, r2_hi): (f64, f64),
+        (x_lo, x_hi): (f64, f64),
+        a: f64,
+        b: f64,
+    ) -> bool {
+        let w = Self::window(t, tol, e, a, b);
+        let (kc, kd) = (self.kc0, self.kd0);
+        let lo = r2_lo.max(w.q_lo / (kc * (1.0 + x_hi) + kd) * (1.0 - 1e-6));
+        let hi = r2_hi.min(w.q_hi / (kc * (1.0 + x_lo) + kd) * (1.0 + 1e-6));
+        // No R2 in the duty's wedge, or none the band admits: closed.
+        lo <= hi && self.r2_range(&w, lo, hi).is_some()
+    }
+
+    /// The span of capacitance within `[c_lo, c_hi]` outside which no R2 in `[r2_lo, r2_hi]`
+    /// with R1/R2 in `[x_lo, x_hi]` can be accepted: cells a ratio of `1.002` wide are tested
+    /// whole ([`cell_open`](Self::cell_open)) from the bottom up and from the top down, so every
+    /// capacitance below the first open cell and above the last has an empty R2 window. None
+    /// when every cell is closed. Where the screen cannot say (bad figures, or too many
+    /// cells), the span is left wide.
+    #[allow(clippy::too_many_arguments)]
+    fn c_span(
+        &self,
+        t: f64,
+        tol: f64,
+        e: f64,
+        r2: (f64, f64),
+        x: (f64, f64),
+        c_lo: f64,
+        c_hi: f64,
+    ) -> Option<(f64, f64)> {
+        const CELL: f64 = 1.002;
+        const MAX_CELLS: usize = 20_000;
+        let sane = c_lo > 0.0 && c_lo < c_hi && c_hi.is_finite() && r2.0 > 0.0;
+        if !sane || x.0 < 0.0 || x.1 < x.0 {
+            return Some((c_lo.min(c_hi), c_hi.max(c_lo)));
+        }
+        let mut a = c_lo;
+        let mut floor = None;
+        for _ in 0..MAX_CELLS {
+            let b = (a * CELL).min(c_hi);
+            if self.cell_open(t, tol, e, r2, x, a, b) {
+                floor = Some(a);
+                break;
+            }
+            if b >= c_hi {
+                return None;
+            }
+            a = b;
+        }
+        let floor = floor.unwrap_or(a);
+        let mut b = c_hi;
+        for _ in 0..MAX_CELLS {
+            let a = (b / CELL).max(floor);
+            if a <= floor || self.cell_open(t, tol, e, r2, x, a, b) {
+                return Some((floor, b));
+            }
+            b = a;
+        }
+        Some((floor, b))
+    }
+}
+
+/// Bisection in log space on `[lo, hi]` for a predicate true at `lo`, false at `hi` and
+/// monotone between: `(last true, first false)`, within a ratio of `1 + 1e-7`.
+fn bisect(lo: f64, hi: f64, holds: impl Fn(f64) -> bool) -> (f64, f64) {
+    let (mut ok, mut bad) = (lo, hi);
+    for _ in 0..200 {
+        if bad <= ok * (1.0 + 1e-7) {
+            break;
+        }
+        let mid = (ok * bad).sqrt();
+        if holds(mid) {
+            ok = mid;
+        } else {
+            bad = mid;
+        }
+    }
+    (ok, bad)
 }
 
 struct Ctx<'a> {
@@ -1024,6 +1379,69 @@ struct Ctx<'a> {
     value: Option<(Kind, f64)>,
     s: &'a Settings,
     family: &'a Family,
+}
+
+/// The capacitor classes no network of which can time any stage: a class-2 ceramic whose own
+/// DC-bias loss already outgrows every stage's window ([`max_band_loss`]). A network's loss
+/// follows its least suitable dielectric and its lowest rating (the supply where any rating is
+/// unknown; `admit::network_cap_facts`), so a network holding such a piece loses at least the
+/// piece's own dielectric figure at the larger of its rating and (when any class's rating is
+/// unknown) the supply, unless a dielectric ranked above class 2 with no loss of its own (an
+/// unnamed technology, a tantalum or an electrolytic) names the network: then nothing is
+/// dropped. `Ctx::cap_fits` would refuse every network holding a dropped class; dropping it
+/// first saves walking them. Stages only, with the DC-bias loss modelled.
+fn drop_lossy_capacitors(
+    parts: &[Part],
+    classes: &[Vec<(usize, u32)>],
+    items: Vec<Item>,
+    stages: &[Plan],
+    s: &Settings,
+) -> Vec<Item> {
+    if stages.is_empty() || !s.model.dc_bias {
+        return items;
+    }
+    let part_of = |it: &Item| {
+        classes
+            .get(it.row)
+            .and_then(|r| r.first())
+            .map(|&(row, _)| &parts[row])
+    };
+    let mut masking = false;
+    let mut unknown = false;
+    for p in items.iter().filter_map(part_of) {
+        masking |= !matches!(
+            p.technology,
+            Technology::C0g | Technology::Film | Technology::X7r | Technology::Y5v
+        );
+        unknown |= p.voltage_rating.is_none();
+    }
+    if masking {
+        return items;
+    }
+    let least_loss = |p: &Part, plan: &Plan| -> f64 {
+        let vcc = plan.cond.vcc.si();
+        let rating = match p.voltage_rating {
+            None => vcc,
+            Some(v) if unknown => v.si().max(vcc),
+            Some(v) => v.si(),
+        };
+        let facts = CapFacts {
+            technology: p.technology,
+            voltage_rating: Volts::from_si(rating),
+            tolerance: p.tolerance,
+        };
+        crate::timing::dc_bias_loss(Some(&facts), plan.vu, vcc)
+    };
+    items
+        .into_iter()
+        .filter(|it| {
+            part_of(it).is_none_or(|p| {
+                stages
+                    .iter()
+                    .any(|plan| least_loss(p, plan) <= plan.max_loss)
+            })
+        })
+        .collect()
 }
 
 /// The operating conditions of a stage: the settings' conditions, plus the family's output drop
@@ -1169,6 +1587,7 @@ impl<'a> Ctx<'a> {
                 None
             }
         };
+        let cs = drop_lossy_capacitors(parts, &cclass.rows, cs, &stages, s);
         Ok(Self {
             parts,
             rpool: Pool::with_pairs(rs, s.max_pieces >= 2),
@@ -1180,6 +1599,42 @@ impl<'a> Ctx<'a> {
             s,
             family: &s.family,
         })
+    }
+
+    /// The span of capacitance where a classic astable stage `si` may accept a design
+    /// ([`BandScreen::c_span`]), over the resistances of every split (each position's
+    /// networks of 1 to k pieces, cut by the stage's limits) with R1/R2 in `x`; the whole
+    /// capacitor range without a band screen, None when the band leaves no capacitance.
+    fn cap_span(&self, si: usize, x: (f64, f64)) -> Option<(f64, f64)> {
+        let plan = &self.stages[si];
+        let k = self.s.max_pieces.max(1);
+        let hull = |p: &Pool| {
+            (1..=k).fold((f64::INFINITY, 0.0f64), |(lo, hi), n| {
+                let (a, b) = p.range(n);
+                (lo.min(a), hi.max(b))
+            })
+        };
+        let (rmin, rmax) = hull(&self.rpool);
+        let (cmin, cmax) = hull(&self.cpool);
+        let Some(bs) = &plan.band else {
+            return Some((0.0, f64::INFINITY));
+        };
+        let StageGoal::Astable { period, .. } = plan.goal else {
+            return Some((0.0, f64::INFINITY));
+        };
+        let (s_rule, r2_rule) = plan.bias_rules;
+        let r_cap = plan.r_cap.min(s_rule);
+        let r2max = rmax.min(plan.r2_cap).min(r2_rule).min(r_cap);
+        let (kc, kd) = (plan.f.charge, plan.f.discharge);
+        let amax = (kc * rmax + (kc + kd) * r2max).min(kc * r_cap + kd * r2max);
+        let period = period.si();
+        let tol = self.s.tol;
+        let c_lo = (swin(period, tol, plan.g).0 / amax * (1.0 - 1e-6)).max(cmin);
+        let c_hi = cmax * (1.0 + 1e-9);
+        if c_lo.partial_cmp(&c_hi) != Some(Ordering::Less) {
+            return Some((0.0, f64::INFINITY));
+        }
+        bs.c_span(period, tol, tol, (rmin, r2max), x, c_lo, c_hi)
     }
 
     fn positions(&self) -> usize {
@@ -1336,9 +1791,11 @@ impl<'a> Ctx<'a> {
     ) {
         // The screen let it through; the evaluator decides (band inside the window, and with
         // --guarantee the worst case with the band), and gives the error that ranks it.
+        st.counts.judged += 1;
         let Some(own) = self.confirm(&st.picks, si) else {
             return;
         };
+        st.counts.accepted += 1;
         let err = floor.max(own);
         if !no_worse(err, st.bound()) {
             return;
@@ -1452,6 +1909,7 @@ impl<'a> Ctx<'a> {
                     let (a, b) = cw(st.bound());
                     return Step::Go(a, b);
                 }
+                st.counts.caps += 1;
                 let c = cc.value;
                 Pool::take(cc, used_c, 1);
                 st.picks.push(Pick {
@@ -1548,14 +2006,37 @@ impl<'a> Ctx<'a> {
         // (the band alone outgrows the window, or the discharge never ends): the walk skips
         // both, and the capacitors too small to reach the period below them.
         let (r_cap, r2_cap) = (self.stages[si].r_cap, self.stages[si].r2_cap);
+        // The pin-bias rules of the electrical checks bound R1 + R2 and R2 outright (an Error
+        // refuses every design beyond them): the walk does not offer those either, and counts
+        // the rule once for each walk it cuts (its candidates are never listed one by one).
+        let (s_rule, r2_rule) = self.stages[si].bias_rules;
+        let cut = s_rule < r_cap.min(r1max + r2max) || r2_rule < r2max.min(r2_cap);
+        if cut {
+            *st.refused.entry("bias-current").or_insert(0) += 1;
+        }
+        let (r_cap, r2_cap) = (r_cap.min(s_rule), r2_cap.min(r2_rule));
         let r2max = r2max.min(r2_cap).min(r_cap);
+        // The nominal factor A = kc·S + (ks − kc)·R2 is at most kc·r_cap + (ks − kc)·r2max
+        // too (S ≤ r_cap, R2 ≤ r2max).
         let (amin, amax) = (
             kc * r1min + ks * r2min,
-            (kc * r1max + ks * r2max).min(ks * r_cap),
+            (kc * r1max + ks * r2max).min(kc * r_cap + (ks - kc) * r2max),
         );
         let cw = |e: f64| {
             let (lo, hi) = swin(period, e, g);
             (lo / amax, hi / amin)
+        };
+        // Outside this span of capacitance the band admits no R2 (found once per stage over
+        // every split's resistances, at the full tolerance: the walk's bound only narrows it).
+        let span = self.stages[si]
+            .c_span
+            .get_or_init(|| self.cap_span(si, xwin(self.s.tol)));
+        let Some((c_floor, c_ceiling)) = *span else {
+            return;
+        };
+        let cw = |e: f64| {
+            let (lo, hi) = cw(e);
+            (lo.max(c_floor), hi.min(c_ceiling))
         };
         let dl = st.deadline;
         let (clo, chi) = cw(st.bound());
@@ -1566,6 +2047,7 @@ impl<'a> Ctx<'a> {
                     let (a, b) = cw(st.bound());
                     return Step::Go(a, b);
                 }
+                st.counts.caps += 1;
                 let c = cc.value;
                 Pool::take(cc, used_c, 1);
                 st.picks.push(Pick {
@@ -1597,7 +2079,27 @@ impl<'a> Ctx<'a> {
                     (lo * (1.0 - 1e-5), hi * (1.0 + 1e-5))
                 };
                 let (a, b) = r2w(st.bound());
+                // The band's own window on R2 for this capacitor (the bound only narrows as
+                // the walk goes, so this stays a superset of what can be accepted).
+                let band = match &self.stages[si].band {
+                    Some(bs) if a <= b => {
+                        bs.r2_window(period, self.s.tol, st.bound(), c, a.max(r2min), b)
+                    }
+                    _ => Some((0.0, f64::INFINITY)),
+                };
+                let Some((ba, bb)) = band else {
+                    st.picks.pop();
+                    Pool::take(cc, used_c, -1);
+                    let (a, b) = cw(st.bound());
+                    return Step::Go(a, b);
+                };
+                let r2w = |e: f64| {
+                    let (a, b) = r2w(e);
+                    (a.max(ba), b.min(bb))
+                };
+                let (a, b) = r2w(st.bound());
                 let ok = self.rpool.walk(n2, a, b, used_r, dl, &mut |r2c, used_r| {
+                    st.counts.middle += 1;
                     let r2 = r2c.value;
                     Pool::take(r2c, used_r, 1);
                     st.picks.push(Pick {
@@ -1706,6 +2208,7 @@ impl<'a> Ctx<'a> {
                     let (a, b) = cw(st.bound());
                     return Step::Go(a, b);
                 }
+                st.counts.caps += 1;
                 let c = cc.value;
                 Pool::take(cc, used_c, 1);
                 st.picks.push(Pick {
@@ -1724,6 +2227,7 @@ impl<'a> Ctx<'a> {
                 };
                 let (a, b) = rbw(st.bound());
                 let ok = self.rpool.walk(nb, a, b, used_r, dl, &mut |rbc, used_r| {
+                    st.counts.middle += 1;
                     let el = srel(kl * rbc.value * c, g, low);
                     Pool::take(rbc, used_r, 1);
                     st.picks.push(Pick {
@@ -2040,6 +2544,143 @@ mod tests {
         assert_eq!(window(0.0005), "±0.05 %");
         assert_eq!(window(1e-7), "±0.00001 %");
         assert_eq!(window(1.23456e-9), "±0.000000123 %");
+    }
+
+    /// The band screens of a classic astable at 5, 9 and 15 V for both families.
+    fn band_screens() -> Vec<BandScreen> {
+        let mut out = Vec::new();
+        for vcc in [5.0, 9.0, 15.0] {
+            for family in [Family::bipolar(), Family::cmos()] {
+                let s = Settings {
+                    tol: 0.01,
+                    max_pieces: 2,
+                    alternatives: 1,
+                    guarantee: false,
+                    family,
+                    model: crate::timing::Model::real(),
+                    conditions: Conditions::ideal(Volts::from_si(vcc).unwrap_or(Volts::ZERO)),
+                    cap_techs: None,
+                    min_cap_rating: None,
+                    time_limit: None,
+                    rank: Rank::FewestPieces,
+                    excursion: crate::solve::Excursion::default(),
+                };
+                let template = Stage {
+                    form: Form::Astable,
+                    r1: Ohms::from_si(1e3).unwrap_or(Ohms::ZERO),
+                    r2: Ohms::from_si(1e3),
+                    c: Farads::from_si(1e-9).unwrap_or(Farads::ZERO),
+                    cap: None,
+                    conditions: s.conditions,
+                    steering: crate::timing::Steering::default(),
+                };
+                out.extend(BandScreen::new(&template, &s));
+            }
+        }
+        out
+    }
+
+    /// The facts [`BandScreen`] rests on, over resistances from 1 kΩ to 20 MΩ (where the pin
+    /// currents are small and where the corners run away alike): on a line of constant nominal
+    /// a drain drawn from the capacitor makes the corner's deviation fall as R2 rises and one
+    /// pushed into it makes it rise; at a fixed R2 the first rises with the nominal and the
+    /// second falls; every corner period rises with S and with R2.
+    #[test]
+    fn band_screen_facts_hold_over_the_range() {
+        let screens = band_screens();
+        assert_eq!(screens.len(), 6, "every supply and family has a band");
+        let grid: Vec<f64> = (0..=60)
+            .map(|i| 1e3 * 10f64.powf(f64::from(i) / 14.0))
+            .collect();
+        let step = 1.0 + 1e-3;
+        for bs in &screens {
+            let dev = |s: f64, r2: f64, d: f64| {
+                bs.phys.astable_period_per_farad(s, r2, d)
+                    - bs.phys.astable_period_per_farad(s, r2, 0.0)
+            };
+            for &d in &bs.drains {
+                for &r2 in &grid {
+                    for &s in grid.iter().filter(|&&s| s >= r2) {
+                        let q = bs.kc0 * s + bs.kd0 * r2;
+                        let (now, up_s, up_r2) = (
+                            bs.phys.astable_period_per_farad(s, r2, d),
+                            bs.phys.astable_period_per_farad(s * step, r2, d),
+                            bs.phys.astable_period_per_farad(s, r2 * step, d),
+                        );
+                        if !now.is_finite() {
+                            continue;
+                        }
+                        assert!(
+                            up_s > now && up_r2 > now,
+                            "rises with S and R2 at {s} {r2} {d}"
+                        );
+                        // Along the line of nominal q, R2 up by the step and S down to match.
+                        let r2b = r2 * step;
+                        let sb = (q - bs.kd0 * r2b) / bs.kc0;
+                        let (a, b) = (dev(s, r2, d), dev(sb, r2b, d));
+                        // At a fixed R2, the nominal up by the step.
+                        let sq = (q * step - bs.kd0 * r2) / bs.kc0;
+                        let c = dev(sq, r2, d);
+                        if !(a.is_finite() && b.is_finite() && c.is_finite()) {
+                            continue;
+                        }
+                        if d > 0.0 {
+                            assert!(b < a && c > a, "d {d} at S {s} R2 {r2}: {a} {b} {c}");
+                        } else {
+                            assert!(b > a && c < a, "d {d} at S {s} R2 {r2}: {a} {b} {c}");
+                        }
+                    }
+                }
+            }
+        }
+    }
+
+    /// Every (R1, R2) whose every corner period lies inside the window (the evaluator's own
+    /// acceptance of the period band, on a grid of resistances and capacitances) lies inside
+    /// the R2 window the screen gives for its capacitance; and the screen does rule whole
+    /// capacitances out (counted, so the test shows it cuts).
+    #[test]
+    fn band_screen_keeps_every_accepted_point() {
+        let mut cut = 0;
+        let mut kept = 0;
+        for bs in band_screens() {
+            for &tol in &[0.001, 0.01, 0.05] {
+                for &t in &[0.01, 0.3, 1.0, 10.0] {
+                    for i in 0..24 {
+                        let c = 1e-9 * 10f64.powf(f64::from(i) / 6.0);
+                        let q_target = t / c;
+                        let Some((lo, hi)) = bs.r2_window(t, tol, tol, c, 1.0, q_target) else {
+                            cut += 1;
+                            continue;
+                        };
+                        for j in 0..400 {
+                            let r2 = q_target / (bs.kc0 + bs.kd0) * f64::from(j) / 400.0;
+                            for m in 0..40 {
+                                let q = q_target * (1.0 - tol + 2.0 * tol * f64::from(m) / 39.0);
+                                let s = (q - bs.kd0 * r2) / bs.kc0;
+                                if !(r2 >= 1.0 && s >= r2) {
+                                    continue;
+                                }
+                                let qs = std::iter::once(0.0)
+                                    .chain(bs.drains.iter().copied())
+                                    .map(|d| bs.phys.astable_period_per_farad(s, r2, d) * c);
+                                let accepted = qs
+                                    .clone()
+                                    .all(|x| inside(x, t * (1.0 - tol), t * (1.0 + tol)));
+                                if accepted {
+                                    kept += 1;
+                                    assert!(
+                                        r2 >= lo && r2 <= hi,
+                                        "R2 {r2} (S {s}, C {c}, T {t}, tol {tol}) accepted outside {lo}..{hi}"
+                                    );
+                                }
+                            }
+                        }
+                    }
+                }
+            }
+        }
+        assert!(kept > 0 && cut > 0, "kept {kept}, cut {cut}");
     }
 
     #[test]

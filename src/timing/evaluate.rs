@@ -281,6 +281,31 @@ impl Physics {
         out
     }
 
+    /// The net drains the model band spans (see `drains`), the first none.
+    pub(crate) fn band_drains(&self) -> Vec<f64> {
+        self.drains(true)
+    }
+
+    /// The classic astable's drain-free charge and discharge factors `(k_c, k_d)`: with no
+    /// pin current its high time is exactly `(R1 + R2)·C·k_c` and its low time `R2·C·k_d`
+    /// (what `times` computes with `d = 0`). None when the thresholds do not allow the form.
+    pub(crate) fn astable_factors(&self) -> Option<(f64, f64)> {
+        let (vcc, vu, vl, vs) = (self.vcc, self.vu, self.vl, self.vsat);
+        let regular = vs < vl && vl < vu && vu < vcc;
+        regular.then(|| (((vcc - vl) / (vcc - vu)).ln(), ((vu - vs) / (vl - vs)).ln()))
+    }
+
+    /// A classic astable's period per farad of timing capacitance under the net drain `d`,
+    /// with charging resistance `s` (R1 + R2) and discharge resistance `r2`: exactly the high
+    /// plus low time `times` gives at one farad (every segment is `R·C` times a function of the
+    /// resistances and the drain), infinite where a threshold is never reached.
+    pub(crate) fn astable_period_per_farad(&self, s: f64, r2: f64, d: f64) -> f64 {
+        match self.times(Form::Astable, Steering::default(), s - r2, r2, 1.0, d) {
+            Ok((h, Some(l))) => h + l,
+            _ => f64::INFINITY,
+        }
+    }
+
     /// High and low time (seconds) of `form` with these values and a net drain `d` (A).
     fn times(
         &self,
