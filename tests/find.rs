@@ -958,3 +958,23 @@ fn duplicated_rows_with_holds_search_like_their_free_pieces() {
         "{with_held:?}"
     );
 }
+
+#[test]
+fn a_rule_that_cuts_a_range_says_how_it_is_counted() {
+    let b = Bench::new();
+    // Invented drawer: only 10 MΩ resistors and 1 nF film. An astable near 48 Hz needs R1 + R2
+    // near 20 MΩ here (f = 1.44 / ((R1 + 2·R2)·C), the classic closed form, common practice),
+    // far past the bipolar timer's pin-bias limit at 9 V, so the walk cuts those ranges whole
+    // and the report must say that such a rule counts ranges, not candidates.
+    let p = b.write(
+        "big.csv",
+        "kind,value,tolerance,technology,volts,bin,quantity\n\
+         resistor,10M,1%,metal_film,,A1,4\n\
+         capacitor,1n,5%,film,63,C1,2\n",
+    );
+    let s = p.to_str().expect("utf-8 path");
+    let out = b.run(&["find", "astable", "48Hz", "--stock", s]).code(1);
+    out.stdout_has("Nothing in stock meets the target.").stdout_has(
+        "Candidates refused by the electrical checks (a rule that cuts a whole range of values counts once per range): bias-current ×",
+    );
+}

@@ -312,7 +312,7 @@ pub fn text(out: &mut dyn Write, v: &View<'_>) -> io::Result<()> {
             let why: Vec<String> = o.refused.iter().map(|(c, n)| format!("{c} ×{n}")).collect();
             writeln!(
                 out,
-                "Candidates refused by the electrical checks: {}",
+                "Candidates refused by the electrical checks (a rule that cuts a whole range of values counts once per range): {}",
                 why.join(", ")
             )?;
         }

@@ -242,7 +242,9 @@ pub struct Outcome {
     pub no_design_below: usize,
     /// Networks examined.
     pub networks_seen: u64,
-    /// Candidates refused by the electrical checks, by finding code.
+    /// Candidates refused by the electrical checks, by finding code: each candidate judged and
+    /// refused counts once, and a rule that cuts a whole range of values from the walk (the
+    /// astable's pin-bias limits on R1 + R2 and R2) counts once per range it cuts.
     pub refused: Vec<(String, u64)>,
     /// Wall time, seconds.
     pub seconds: f64,
