@@ -1203,6 +1203,20 @@ mod tests {
         }
     }
 
+    /// Candidates from (stage, resource, pieces, second resource) tuples: the second resource
+    /// gives one more piece unless it is the first.
+    fn two_use_candidates(raw: &[(usize, usize, u32, usize)]) -> Vec<Candidate> {
+        raw.iter()
+            .map(|&(stage, r1, per, r2)| {
+                let mut uses = vec![(r1, per)];
+                if r2 != r1 {
+                    uses.push((r2, 1));
+                }
+                cand(stage, &uses, 0.0)
+            })
+            .collect()
+    }
+
     fn stock(counts: &[u32]) -> Vec<Resource> {
         counts
             .iter()
@@ -1534,11 +1548,7 @@ mod tests {
             units in proptest::collection::vec(1u32..4, 2),
             packs in proptest::collection::vec((2u32..12, 1u64..6), 2),
         ) {
-            let cands: Vec<Candidate> = raw.iter().map(|&(stage, r1, per, r2)| {
-                let mut uses = vec![(r1, per)];
-                if r2 != r1 { uses.push((r2, 1)); }
-                cand(stage, &uses, 0.0)
-            }).collect();
+            let cands = two_use_candidates(&raw);
             // Resources 0 and 1: stock only; 2 and 3: offers (packs, prices in steps of 10).
             let mut res = stock(&stock_counts);
             res.extend(packs.iter().map(|&(size, price)| Resource {
@@ -1578,11 +1588,7 @@ mod tests {
             extra in proptest::collection::vec(0u32..4, 3),
             packs in proptest::collection::vec((1u32..5, 1u64..400), 3),
         ) {
-            let cands: Vec<Candidate> = raw.iter().map(|&(stage, r1, per, r2)| {
-                let mut uses = vec![(r1, per)];
-                if r2 != r1 { uses.push((r2, 1)); }
-                cand(stage, &uses, 0.0)
-            }).collect();
+            let cands = two_use_candidates(&raw);
             let res: Vec<Resource> = stock_counts.iter().zip(&packs)
                 .map(|(&available, &pack)| Resource { available, pack: Some(pack) })
                 .collect();
@@ -1608,11 +1614,7 @@ mod tests {
             raw in proptest::collection::vec((0usize..2, 0usize..3, 1u32..3, 0usize..3), 2..5),
             units in 1u32..4,
         ) {
-            let cands: Vec<Candidate> = raw.iter().map(|&(stage, r1, per, r2)| {
-                let mut uses = vec![(r1, per)];
-                if r2 != r1 { uses.push((r2, 1)); }
-                cand(stage, &uses, 0.0)
-            }).collect();
+            let cands = two_use_candidates(&raw);
             let res = stock(&stock_counts);
             let (best_units, best_pieces) = exhaustive(2, units, &cands, &res);
             match allocate(2, units, &cands, &res, Limits::default()) {
