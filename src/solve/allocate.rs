@@ -16,7 +16,7 @@
 //! enabled; then HiGHS (a C++ library built from source, see DEPENDENCIES.md) is the default
 //! [`Backend`] and microlp stays available. The model is the same for both.
 
-use super::program::{Op, Program, ProgramError, Row};
+use super::program::{Op, Program, ProgramError, Row, step_of};
 use good_lp::{
     Expression, ProblemVariables, ResolutionError, Solution, SolutionStatus, SolverModel, Variable,
     WithInitialSolution, WithTimeLimit, constraint, microlp,
@@ -613,7 +613,7 @@ pub fn purchase_for(
     // bound runs without them: measured over nine candidate counts of that reorder, they made
     // microlp's search slower in three of the four where the times differed by more than 30 %
     // (four counts stopped at 10 s either way).
-    let bound = model.solve(Goal::LeastCost, Relax::WithOpenings, None, lp_limits);
+    let bound = model.solve(Relax::WithOpenings, None, lp_limits);
     let lower_bound_cents = match bound {
         Ok((SolutionStatus::Optimal, v)) => {
             // The relaxation's optimum, rounded up to a whole step of the prices (every cost
@@ -623,7 +623,7 @@ pub fn purchase_for(
         }
         _ => None,
     };
-    let p1 = match model.solve(Goal::LeastCost, Relax::Integer, warm.as_deref(), limits) {
+    let p1 = match model.solve(Relax::Integer, warm.as_deref(), limits) {
         Ok(s) => s,
         Err(AllocateError::Solver(_)) if warm.is_some() => {
             (SolutionStatus::TimeLimit, warm.clone().unwrap_or_default())
@@ -995,14 +995,14 @@ impl<'a> PurchaseModel<'a> {
         }
     }
 
+    /// The least-cost program: whole, or its relaxation with the pack-opening rows.
     fn solve(
         &self,
-        goal: Goal,
         relax: Relax,
         warm: Option<&[f64]>,
         limits: Limits,
     ) -> Result<Solved, AllocateError> {
-        let program = self.program(goal, relax == Relax::WithOpenings);
+        let program = self.program(Goal::LeastCost, relax == Relax::WithOpenings);
         match program.solve(relax == Relax::Integer, warm, limits) {
             Ok(s) => Ok(s),
             Err(ProgramError::Infeasible) => Err(AllocateError::Infeasible(
@@ -1035,7 +1035,8 @@ impl<'a> PurchaseModel<'a> {
 
     /// The step between two costs of whole packs: the greatest common divisor of the prices.
     fn cost_step(&self) -> u64 {
-        self.program(Goal::LeastCost, false).step()
+        let prices: Vec<u64> = (0..self.packs.len()).map(|k| self.price_cents(k)).collect();
+        step_of(&prices)
     }
 }
 
@@ -1378,7 +1379,7 @@ mod tests {
         assert_eq!(model.opening.len(), 1);
         let lp = |relax| {
             let (_, v) = model
-                .solve(Goal::LeastCost, relax, None, Limits::default())
+                .solve(relax, None, Limits::default())
                 .expect("relaxation");
             model.cost(&v)
         };
@@ -1562,7 +1563,7 @@ mod tests {
             let model = PurchaseModel::new(&demand, &kept, &res);
             if let (Some(best), Ok((_, v))) = (
                 want,
-                model.solve(Goal::LeastCost, Relax::WithOpenings, None, Limits::default()),
+                model.solve(Relax::WithOpenings, None, Limits::default()),
             ) {
                 prop_assert!(model.cost(&v) <= best as f64 + 1e-6, "bound {} above {best}", model.cost(&v));
             }

@@ -57,11 +57,17 @@ fn gcd(a: u64, b: u64) -> u64 {
     if b == 0 { a } else { gcd(b, a % b) }
 }
 
+/// The greatest common divisor of the nonzero coefficients (1 when all are zero): the step
+/// between two values of Σ coefficient × whole number.
+pub(super) fn step_of(coefficients: &[u64]) -> u64 {
+    coefficients.iter().fold(0, |g, &c| gcd(g, c)).max(1)
+}
+
 impl Program {
     /// The step between two objective values of integer points: the greatest common divisor
     /// of the objective's nonzero coefficients (1 when all are zero).
     pub fn step(&self) -> u64 {
-        self.objective.iter().fold(0, |g, &c| gcd(g, c)).max(1)
+        step_of(&self.objective)
     }
 
     /// Solve with the chosen backend: microlp directly (the step cut) or through good_lp.
